@@ -81,7 +81,9 @@ def exact(value, where: str = "value") -> sp.Expr:
             out = exact_expr(sp.sympify(value), where)
         except (sp.SympifyError, TypeError) as exc:  # pragma: no cover - exotic numbers
             raise ModelError(
-                f"cannot read {value!r} as a number", where=where, do="Give an int, float, Fraction or sympy expression"
+                f"cannot read {value!r} as a number",
+                where=where,
+                do="Give an int, float, Fraction or sympy expression",
             ) from exc
     else:
         raise ModelError(

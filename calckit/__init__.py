@@ -1,0 +1,37 @@
+"""calckit: derive, check and publish forced-vibration calculations.
+
+The public API is listed in ``__all__``; see ``shared/DESIGN.md`` for the contract.
+"""
+
+from .errors import (
+    BuildError,
+    CalcError,
+    ForcingError,
+    InputsError,
+    ModelError,
+    OverwriteError,
+    SheetError,
+    UnitsError,
+)
+from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
+from .undetermined import Derivation, LinearODE
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "__version__",
+    "BuildError",
+    "CalcError",
+    "Derivation",
+    "ExponentGroup",
+    "ForcingError",
+    "ForcingSplit",
+    "ForcingTerm",
+    "InputsError",
+    "LinearODE",
+    "ModelError",
+    "OverwriteError",
+    "SheetError",
+    "UnitsError",
+    "split_forcing",
+]

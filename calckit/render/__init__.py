@@ -1,0 +1,1 @@
+"""Rendering: LaTeX to MathML and self-contained HTML pages for exported sheets."""

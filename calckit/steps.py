@@ -1,0 +1,202 @@
+"""Step records of a derivation.
+
+Each step of a derivation by undetermined coefficients is kept as a frozen
+dataclass: the data a careful engineer writes on paper, plus one plain sentence
+saying what is done and why. Renderers (``calckit.render``) turn the records
+into LaTeX for the notebook and MathML for exported sheets; nothing here knows
+how it will be shown.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import sympy as sp
+
+from .forcing import ExponentGroup
+
+__all__ = [
+    "Step",
+    "EquationStep",
+    "ForcingSplitStep",
+    "CharacteristicStep",
+    "ResonanceStep",
+    "TrialFormStep",
+    "DerivativesStep",
+    "SubstitutionStep",
+    "CoefficientEquationsStep",
+    "SolvedCoefficientsStep",
+    "ParticularSolutionStep",
+    "VerificationStep",
+    "HomogeneousStep",
+    "InitialConditionsStep",
+    "TotalResponseStep",
+]
+
+
+@dataclass(frozen=True)
+class Step:
+    """Base of every step: a short title and one plain sentence."""
+
+    title: str
+    explanation: str
+
+    @property
+    def kind(self) -> str:
+        """A stable name of the step's type, e.g. ``"trial-form"``."""
+        return _KINDS[type(self)]
+
+    # one display pipeline: see calckit.render.display
+    def _repr_latex_(self) -> str:
+        from .render.display import step_latex_document
+
+        return step_latex_document(self)
+
+    def _repr_html_(self) -> str:
+        from .render.display import step_html
+
+        return step_html(self)
+
+
+@dataclass(frozen=True)
+class EquationStep(Step):
+    """The equation to solve, ``L[x] = f(t)``."""
+
+    coefficients: tuple[sp.Expr, ...]
+    forcing: sp.Expr
+    t: sp.Symbol
+    unknown: sp.Symbol  # the dependent variable's display symbol, x
+
+
+@dataclass(frozen=True)
+class ForcingSplitStep(Step):
+    """The forcing as quasi-polynomial terms grouped by exponent."""
+
+    forcing: sp.Expr
+    groups: tuple[ExponentGroup, ...]
+    t: sp.Symbol
+
+
+@dataclass(frozen=True)
+class CharacteristicStep(Step):
+    """The characteristic polynomial and its roots with multiplicities."""
+
+    variable: sp.Symbol
+    polynomial: sp.Expr
+    roots: tuple[tuple[sp.Expr, int], ...] | None  # None when not found in closed form
+
+
+@dataclass(frozen=True)
+class ResonanceStep(Step):
+    """Multiplicity of a group's exponent as a root of the characteristic polynomial."""
+
+    group: int
+    exponent: sp.Expr
+    value: sp.Expr  # p(lambda)
+    multiplicity: int
+
+
+@dataclass(frozen=True)
+class TrialFormStep(Step):
+    """The assumed form of the group's particular solution."""
+
+    group: int
+    trial: sp.Expr
+    unknowns: tuple[sp.Symbol, ...]
+
+
+@dataclass(frozen=True)
+class DerivativesStep(Step):
+    """Derivatives of the trial form up to the order of the equation."""
+
+    group: int
+    derivatives: tuple[sp.Expr, ...]  # x', x'', ...
+
+
+@dataclass(frozen=True)
+class SubstitutionStep(Step):
+    """The trial form substituted into the equation, collected by basis function."""
+
+    group: int
+    lhs: sp.Expr
+    rhs: sp.Expr
+
+
+@dataclass(frozen=True)
+class CoefficientEquationsStep(Step):
+    """One equation per basis function: a small linear system."""
+
+    group: int
+    basis: tuple[sp.Expr, ...]
+    equations: tuple[sp.Eq, ...]
+
+
+@dataclass(frozen=True)
+class SolvedCoefficientsStep(Step):
+    """The unknown coefficients solved, with the conditions the solution needs."""
+
+    group: int
+    values: tuple[tuple[sp.Symbol, sp.Expr], ...]
+    conditions: tuple[sp.Expr, ...]  # relations such as Ne(det, 0)
+
+
+@dataclass(frozen=True)
+class ParticularSolutionStep(Step):
+    """The particular solution, sum of the groups' parts."""
+
+    solution: sp.Expr
+    t: sp.Symbol
+
+
+@dataclass(frozen=True)
+class VerificationStep(Step):
+    """Back-substitution: ``L[x_p] - f`` simplified."""
+
+    residual: sp.Expr
+    verified: bool
+
+
+@dataclass(frozen=True)
+class HomogeneousStep(Step):
+    """The homogeneous (transient) solution with free constants."""
+
+    solution: sp.Expr
+    constants: tuple[sp.Symbol, ...]
+    regime: str
+
+
+@dataclass(frozen=True)
+class InitialConditionsStep(Step):
+    """The constants of the homogeneous solution fixed by the initial state."""
+
+    equations: tuple[sp.Eq, ...]
+    values: tuple[tuple[sp.Symbol, sp.Expr], ...]
+
+
+@dataclass(frozen=True)
+class TotalResponseStep(Step):
+    """Total response = transient + steady state."""
+
+    transient: sp.Expr
+    steady_state: sp.Expr
+    solution: sp.Expr
+    t: sp.Symbol
+
+
+_KINDS = {
+    Step: "step",
+    EquationStep: "equation",
+    ForcingSplitStep: "forcing-split",
+    CharacteristicStep: "characteristic",
+    ResonanceStep: "resonance",
+    TrialFormStep: "trial-form",
+    DerivativesStep: "derivatives",
+    SubstitutionStep: "substitution",
+    CoefficientEquationsStep: "coefficient-equations",
+    SolvedCoefficientsStep: "solved-coefficients",
+    ParticularSolutionStep: "particular-solution",
+    VerificationStep: "verification",
+    HomogeneousStep: "homogeneous",
+    InitialConditionsStep: "initial-conditions",
+    TotalResponseStep: "total-response",
+}

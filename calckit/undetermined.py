@@ -1,0 +1,643 @@
+"""Particular solutions by the method of undetermined coefficients.
+
+For a linear operator with constant coefficients
+
+.. math::
+
+    L(D)\\,x = a_n x^{(n)} + \\dots + a_1 x' + a_0 x = f(t),
+    \\qquad p(\\lambda) = a_n \\lambda^n + \\dots + a_1 \\lambda + a_0,
+
+and a forcing group ``e^{a t} (P(t) cos bt + Q(t) sin bt)`` with ``deg P, Q <= d``,
+the trial form is
+
+.. math::
+
+    x_g(t) = t^s e^{a t} \\sum_{i=0}^{d} t^i (A_i \\cos bt + B_i \\sin bt),
+
+where ``s`` is the multiplicity of ``lambda = a + i b`` as a root of ``p``
+(``s = 0`` away from resonance). Substituting and equating the coefficients of
+``t^j e^{at} cos bt`` and ``t^j e^{at} sin bt`` gives a linear system that is
+block triangular in ``j``: the equations of power ``j`` involve only
+``A_i, B_i`` with ``i >= j``, so the system is solved from the top power down,
+one 2x2 (or 1x1) block at a time. Groups are independent; the cost grows with
+the number of groups and their degree, not with the square of the number of
+terms.
+
+References
+----------
+Boyce, DiPrima & Meade, *Elementary Differential Equations and Boundary Value
+Problems*, 11th ed., sec. 3.5 and 4.3 (the modification rule), from memory.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from dataclasses import dataclass, field
+
+import sympy as sp
+
+from .errors import ForcingError, ModelError
+from .exact import exact
+from .forcing import COS, SIN, ExponentGroup, ForcingSplit, quasi_polynomial, split_forcing
+from .steps import (
+    CharacteristicStep,
+    CoefficientEquationsStep,
+    DerivativesStep,
+    EquationStep,
+    ForcingSplitStep,
+    ParticularSolutionStep,
+    ResonanceStep,
+    SolvedCoefficientsStep,
+    Step,
+    SubstitutionStep,
+    TrialFormStep,
+    VerificationStep,
+)
+
+__all__ = ["LinearODE", "Derivation", "vanishes", "LAMBDA"]
+
+#: the variable of characteristic polynomials
+LAMBDA = sp.Symbol("lambda")
+
+_LETTER_PAIRS = (("A", "B"), ("C", "D"), ("P", "Q"), ("U", "V"), ("G", "H"), ("K", "L"))
+
+
+@dataclass(frozen=True)
+class Derivation:
+    """A particular solution derived step by step.
+
+    Attributes
+    ----------
+    solution : sympy.Expr
+        ``x_p(t)``.
+    steps : tuple of Step
+        Ordered step records (forcing split, characteristic roots, per group:
+        resonance, trial form, derivatives, substitution, coefficient equations,
+        solved coefficients; then the particular solution and the verification).
+    verified : bool
+        True when ``L[x_p] - f`` simplifies to exactly 0.
+    conditions : tuple
+        Relations the result needs when parameters are symbolic, e.g.
+        ``Ne((k - m*omega**2)**2 + c**2*omega**2, 0)``.
+    """
+
+    operator: LinearODE
+    forcing: sp.Expr
+    t: sp.Symbol
+    split: ForcingSplit
+    solution: sp.Expr
+    steps: tuple[Step, ...]
+    verified: bool
+    conditions: tuple[sp.Expr, ...] = field(default=())
+
+    def steps_of(self, kind: str) -> tuple[Step, ...]:
+        """Steps of one kind, e.g. ``"trial-form"``."""
+        return tuple(step for step in self.steps if step.kind == kind)
+
+    def _repr_latex_(self) -> str:
+        from .render.display import derivation_latex_document
+
+        return derivation_latex_document(self)
+
+    def _repr_html_(self) -> str:
+        from .render.display import derivation_html
+
+        return derivation_html(self)
+
+    def __str__(self) -> str:
+        from .render.display import derivation_text
+
+        return derivation_text(self)
+
+
+def _check_coefficient(value, index: int, order: int):
+    where = f"coefficient a_{order - index} (position {index + 1}, highest derivative first)"
+    value = exact(value, where=where)
+    if value.has(sp.I) or (value.is_number and not value.is_real):
+        raise ModelError(
+            f"the coefficient {value} is complex",
+            where=where,
+            do="Use real coefficients; split a complex model into real and imaginary parts",
+        )
+    if value.atoms(sp.core.function.AppliedUndef) or value.atoms(sp.Derivative):
+        raise ModelError(
+            f"the coefficient {value} is a function, not a constant",
+            where=where,
+            do="Use numbers or plain symbols; the method needs constant coefficients",
+        )
+    return value
+
+
+class LinearODE:
+    """A linear differential operator with constant coefficients.
+
+    Parameters
+    ----------
+    coefficients : sequence
+        ``[a_n, ..., a_1, a_0]``, highest derivative first. Ints, floats (read as
+        the decimals they display), Fractions, sympy numbers or symbols.
+    name : str
+        Name of the dependent variable, used in displayed steps (default ``x``).
+
+    Examples
+    --------
+    >>> t = sp.Symbol("t", real=True)
+    >>> LinearODE([1, 0, 4]).particular(sp.cos(2*t), t=t).solution
+    t*sin(2*t)/4
+    """
+
+    def __init__(self, coefficients, *, name: str = "x"):
+        coefficients = list(coefficients)
+        if len(coefficients) < 2:
+            raise ModelError(
+                f"got {len(coefficients)} coefficient(s); a differential equation needs at least two",
+                where="LinearODE coefficients",
+                do="Give [a_n, ..., a_1, a_0], highest derivative first, e.g. [m, c, k]",
+            )
+        order = len(coefficients) - 1
+        coeffs = tuple(_check_coefficient(v, i, order) for i, v in enumerate(coefficients))
+        if coeffs[0] == 0:
+            raise ModelError(
+                "the leading coefficient is zero, so the equation is not of the order its length says",
+                where="LinearODE coefficients",
+                do="Drop the leading zero(s) and give the lower-order equation",
+            )
+        self.coefficients: tuple[sp.Expr, ...] = coeffs
+        self.name = name
+
+    # ------------------------------------------------------------------ basics
+    @property
+    def order(self) -> int:
+        """Order of the highest derivative."""
+        return len(self.coefficients) - 1
+
+    @property
+    def parameters(self) -> frozenset:
+        """Free symbols of the coefficients."""
+        return frozenset().union(*(c.free_symbols for c in self.coefficients))
+
+    def characteristic_polynomial(self, variable: sp.Symbol = LAMBDA) -> sp.Expr:
+        """``p(lambda) = a_n lambda^n + ... + a_0``."""
+        n = self.order
+        return sp.Add(*(c * variable ** (n - i) for i, c in enumerate(self.coefficients)))
+
+    def characteristic_roots(self) -> tuple[tuple[sp.Expr, int], ...] | None:
+        """Roots of ``p`` with multiplicities, or None when not found in closed form."""
+        found = sp.roots(sp.Poly(self.characteristic_polynomial(), LAMBDA))
+        if sum(found.values()) != self.order:
+            return None
+        return tuple(sorted(found.items(), key=lambda item: sp.default_sort_key(item[0])))
+
+    def multiplicity(self, exponent: sp.Expr) -> tuple[int, sp.Expr]:
+        """Multiplicity of *exponent* as a root of ``p`` and the value ``p(exponent)``.
+
+        Exact: ``p^(j)(exponent)`` must expand to 0 for every ``j < s``.
+        """
+        poly = self.characteristic_polynomial()
+        value = sp.expand(poly.subs(LAMBDA, exponent))
+        s, current = 0, poly
+        at = value
+        while s < self.order and _is_zero(at):
+            s += 1
+            current = sp.diff(current, LAMBDA)
+            at = sp.expand(current.subs(LAMBDA, exponent))
+        return s, value
+
+    def apply(self, x: sp.Expr, t: sp.Symbol) -> sp.Expr:
+        """``L[x]`` by differentiation."""
+        n = self.order
+        return sp.Add(*(c * sp.diff(x, t, n - i) for i, c in enumerate(self.coefficients)))
+
+    def __repr__(self) -> str:
+        return f"LinearODE({list(self.coefficients)!r})"
+
+    # ---------------------------------------------------------- the method
+    def particular(self, f, *, t: sp.Symbol | None = None) -> Derivation:
+        """Particular solution of ``L[x] = f(t)`` by undetermined coefficients.
+
+        Parameters
+        ----------
+        f : sympy expression or number
+            The forcing; any finite sum of ``t**n exp(a t) cos|sin(b t)`` terms
+            and their products and powers.
+        t : sympy.Symbol, optional
+            The time variable (default: the symbol named ``t`` in *f*).
+
+        Returns
+        -------
+        Derivation
+        """
+        return _derive(self, f, t)
+
+
+# ---------------------------------------------------------------------------
+# helpers
+
+
+def _rational_in_symbols(expr: sp.Expr) -> bool:
+    """True when *expr* is built from symbols and rationals by + - * / and whole powers."""
+    if expr.atoms(sp.Function) or expr.has(sp.pi, sp.E):
+        return False
+    return all(p.exp.is_Integer for p in expr.atoms(sp.Pow))
+
+
+def _is_zero(expr: sp.Expr) -> bool:
+    """Exact test for zero.
+
+    Rational functions of the parameters are summed in sympy's sparse field of
+    fractions (fast); anything else (roots, transcendental constants) goes
+    through cancel and, failing that, simplify.
+    """
+    expr = sp.sympify(expr)
+    if expr == 0:
+        return True
+    if expr.is_Rational:
+        return False
+    if expr.is_number:
+        real, imag = sp.expand(expr).as_real_imag()
+        if real.is_Rational and imag.is_Rational:
+            return real == 0 and imag == 0
+    gens = sorted(expr.free_symbols, key=sp.default_sort_key)
+    if gens and _rational_in_symbols(expr):
+        domain = sp.QQ_I if expr.has(sp.I) else sp.QQ
+        try:
+            field = sp.polys.fields.field(gens, domain)[0]
+            return field.from_expr(expr) == 0
+        except (ValueError, TypeError, sp.PolynomialError, sp.polys.polyerrors.CoercionFailed):
+            pass
+    reduced = sp.cancel(sp.together(sp.expand(expr)))
+    if reduced == 0:
+        return True
+    if reduced.is_number:
+        return sp.nsimplify(reduced) == 0 and sp.simplify(reduced) == 0
+    return sp.simplify(reduced) == 0
+
+
+def vanishes(expr: sp.Expr, t: sp.Symbol) -> bool:
+    """True when *expr*, a combination of quasi-polynomial terms in *t*, is identically 0.
+
+    The expression is rewritten by the product-to-sum identities into terms
+    ``t^n e^{at} cos|sin(bt)``; the coefficient of each must cancel to 0. This
+    decides exactly, for rational-function coefficients in any parameters.
+    """
+    try:
+        parts = quasi_polynomial(expr, t)
+    except ForcingError:
+        return False
+    return all(_is_zero(coef) for coef in parts.values())
+
+
+def _pick_simplest(*candidates: sp.Expr) -> sp.Expr:
+    return min(candidates, key=sp.count_ops)
+
+
+def _tidy(expr: sp.Expr) -> sp.Expr:
+    """A readable form: the smallest of the raw, factored and cancelled forms."""
+    if expr.is_number:
+        return sp.nsimplify(expr) if expr.has(sp.Float) else expr
+    if sp.count_ops(expr) > 400:
+        return _pick_simplest(expr, sp.cancel(expr))
+    return _pick_simplest(expr, sp.factor(expr), sp.cancel(expr))
+
+
+def _unknown_letters(taken: set[str]) -> tuple[str, str]:
+    """The first pair of letters for unknown coefficients not used by the user."""
+    for pair in _LETTER_PAIRS:
+        if not any(name == letter or name.startswith(letter + "_") for name in taken for letter in pair):
+            return pair
+    return ("alpha", "beta")
+
+
+def _make_unknowns(group: ExponentGroup, index: int, many: bool, pair: tuple[str, str]):
+    d = group.degree
+    cos_name, sin_name = pair
+
+    def name(letter: str, i: int) -> str:
+        if many and d > 0:
+            return f"{letter}_{{{index},{i}}}"
+        if many:
+            return f"{letter}_{index}"
+        if d > 0:
+            return f"{letter}_{i}"
+        return letter
+
+    cos_unknowns = tuple(sp.Symbol(name(cos_name, i)) for i in range(d + 1))
+    sin_unknowns = tuple(sp.Symbol(name(sin_name, i)) for i in range(d + 1)) if group.harmonic else ()
+    return cos_unknowns, sin_unknowns
+
+
+class _Form:
+    """``e^{at} sum_j t^j (c_j cos bt + s_j sin bt)`` with linear-form coefficients.
+
+    ``terms[(kind, j)]`` maps each unknown (or 1 for a known part) to its factor.
+    """
+
+    __slots__ = ("a", "b", "terms")
+
+    def __init__(self, a, b, terms):
+        self.a, self.b, self.terms = a, b, terms
+
+    def derivative(self) -> _Form:
+        a, b = self.a, self.b
+        out: dict = defaultdict(lambda: defaultdict(lambda: sp.S.Zero))
+        for (kind, j), lin in self.terms.items():
+            for u, coef in lin.items():
+                out[(kind, j)][u] += a * coef
+                if j:
+                    out[(kind, j - 1)][u] += j * coef
+                if b != 0:
+                    if kind == COS:
+                        out[(SIN, j)][u] += -b * coef
+                    else:
+                        out[(COS, j)][u] += b * coef
+        return _Form(a, b, out)
+
+    def scaled_sum(self, others: list[tuple[sp.Expr, _Form]]) -> _Form:
+        out: dict = defaultdict(lambda: defaultdict(lambda: sp.S.Zero))
+        for weight, form in others:
+            for key, lin in form.terms.items():
+                for u, coef in lin.items():
+                    out[key][u] += weight * coef
+        return _Form(self.a, self.b, out)
+
+    def expr(self, t: sp.Symbol) -> sp.Expr:
+        parts = []
+        for (kind, j), lin in sorted(self.terms.items(), key=lambda kv: (kv[0][1], kv[0][0])):
+            coef = sp.Add(*(sp.expand(c) * u for u, c in lin.items()))
+            coef = sp.collect(coef, list(lin))
+            if coef == 0:
+                continue
+            trig = 1 if self.b == 0 else (sp.cos if kind == COS else sp.sin)(self.b * t)
+            parts.append(coef * t**j * trig)
+        return sp.exp(self.a * t) * sp.Add(*parts)
+
+
+def _basis(group: ExponentGroup, kind: str, j: int, t: sp.Symbol) -> sp.Expr:
+    trig = 1 if not group.harmonic else (sp.cos if kind == COS else sp.sin)(group.frequency * t)
+    return t**j * sp.exp(group.decay * t) * trig
+
+
+def _derive(ode: LinearODE, f, t) -> Derivation:
+    split = split_forcing(f, t)
+    t = split.t
+    for index, coef in enumerate(ode.coefficients):
+        if coef.has(t):
+            raise ModelError(
+                f"the coefficient {coef} depends on the time variable {t}",
+                where=f"coefficient a_{ode.order - index}",
+                do="The method needs constant coefficients; freeze the coefficient at a value",
+            )
+    x = sp.Symbol(ode.name)
+    steps: list[Step] = [
+        EquationStep(
+            "Equation of motion",
+            "The equation to solve: a linear operator with constant coefficients on the left, "
+            "the forcing on the right.",
+            ode.coefficients,
+            split.forcing,
+            t,
+            x,
+        ),
+        ForcingSplitStep(
+            "Forcing split into exponent groups",
+            _split_sentence(split),
+            split.forcing,
+            split.groups,
+            t,
+        ),
+        CharacteristicStep(
+            "Characteristic polynomial",
+            "Substituting x = e^(lambda t) into the homogeneous equation gives the characteristic "
+            "polynomial; its roots decide which trial forms need an extra factor t.",
+            LAMBDA,
+            ode.characteristic_polynomial(),
+            ode.characteristic_roots() if (not ode.parameters or ode.order <= 2) else None,
+        ),
+    ]
+    taken = {s.name for s in split.forcing.free_symbols | ode.parameters}
+    pair = _unknown_letters(taken)
+    many = len(split.groups) > 1
+    parts: list[sp.Expr] = []
+    conditions: list[sp.Expr] = []
+    if ode.coefficients[0].free_symbols and sp.Ne(ode.coefficients[0], 0) is not sp.true:
+        conditions.append(sp.Ne(ode.coefficients[0], 0))
+    for gi, group in enumerate(split.groups, start=1):
+        part, group_steps, group_conditions = _solve_group(ode, group, gi, many, pair, t, x)
+        parts.append(part)
+        steps.extend(group_steps)
+        for cond in group_conditions:
+            if cond not in conditions:
+                conditions.append(cond)
+    solution = sp.Add(*parts)
+    steps.append(
+        ParticularSolutionStep(
+            "Particular solution",
+            "The particular solution is the sum of the parts found for each exponent group."
+            if many
+            else "The solved coefficients put back into the trial form give the particular solution.",
+            solution,
+            t,
+        )
+    )
+    residual_expr = ode.apply(solution, t) - split.forcing
+    verified = vanishes(residual_expr, t)
+    residual = sp.S.Zero if verified else sp.simplify(residual_expr)
+    steps.append(
+        VerificationStep(
+            "Check by substitution",
+            "Substituting the particular solution back into the equation leaves a residual "
+            + ("of exactly zero, so the solution is verified." if verified else "that is not zero."),
+            residual,
+            verified,
+        )
+    )
+    if not verified:  # a failure here is a bug in calckit, never the user's
+        raise ForcingError(
+            f"the derived particular solution does not satisfy the equation (residual {residual})",
+            where=f"forcing {split.forcing}",
+            do="Please report this forcing and model to the calckit maintainers",
+        )
+    return Derivation(ode, split.forcing, t, split, solution, tuple(steps), verified, tuple(conditions))
+
+
+def _split_sentence(split: ForcingSplit) -> str:
+    n = len(split.groups)
+    if n == 1:
+        return (
+            "The forcing is one group of terms sharing the exponent lambda = a + i b, "
+            "so one trial form covers it."
+        )
+    return (
+        f"Products and powers are expanded and the terms sorted into {n} groups by their exponent "
+        "lambda = a + i b; each group gets its own trial form and is solved on its own."
+    )
+
+
+def _resonance_sentence(s: int, group: ExponentGroup) -> str:
+    """One plain sentence: is the exponent a root, and what follows."""
+    lam = sp.sstr(group.exponent)
+    if s == 0:
+        return (
+            f"p({lam}) is not zero: the exponent is not a root of the characteristic polynomial, "
+            "so the trial form needs no extra factor t."
+        )
+    which = {1: "a simple root", 2: "a double root", 3: "a triple root"}.get(s, f"a root of multiplicity {s}")
+    what = "resonance: the forcing matches a free motion of the system"
+    factor = "t" if s == 1 else f"t^{s}"
+    return (
+        f"The exponent {lam} is {which} of the characteristic polynomial ({what}), "
+        f"so the trial form is multiplied by {factor}."
+    )
+
+
+def _solve_group(ode, group, gi, many, pair, t, x):
+    steps: list[Step] = []
+    s, value = ode.multiplicity(group.exponent)
+    steps.append(
+        ResonanceStep(
+            f"Group {gi}: is the exponent a root?" if many else "Is the exponent a root?",
+            _resonance_sentence(s, group),
+            gi,
+            group.exponent,
+            value,
+            s,
+        )
+    )
+    d = group.degree
+    cos_u, sin_u = _make_unknowns(group, gi, many, pair)
+    unknowns = cos_u + sin_u
+    trial_terms: dict = {}
+    for i in range(d + 1):
+        trial_terms[(COS, i + s)] = {cos_u[i]: sp.S.One}
+        if group.harmonic:
+            trial_terms[(SIN, i + s)] = {sin_u[i]: sp.S.One}
+    form = _Form(group.decay, group.frequency, trial_terms)
+    trial = form.expr(t)
+    prefix = f"Group {gi}: " if many else ""
+    steps.append(
+        TrialFormStep(
+            prefix + "trial form",
+            _trial_sentence(group, s, d),
+            gi,
+            trial,
+            unknowns,
+        )
+    )
+    derivs = [form]
+    for _ in range(ode.order):
+        derivs.append(derivs[-1].derivative())
+    steps.append(
+        DerivativesStep(
+            prefix + "derivatives of the trial form",
+            "The trial form is differentiated as many times as the equation needs.",
+            gi,
+            tuple(d_.expr(t) for d_ in derivs[1:]),
+        )
+    )
+    n = ode.order
+    lhs_form = form.scaled_sum([(c, derivs[n - i]) for i, c in enumerate(ode.coefficients)])
+    steps.append(
+        SubstitutionStep(
+            prefix + "substitution into the equation",
+            "The trial form and its derivatives are substituted into the left side and collected "
+            "by basis function.",
+            gi,
+            lhs_form.expr(t),
+            group.expr(t),
+        )
+    )
+    rhs = {(term.kind, term.power): term.coefficient for term in group.terms}
+    # one equation per basis function, as linear forms {unknown: factor}
+    system: dict = {}
+    keys = set(rhs) | {key for key, lin in lhs_form.terms.items()}
+    for key in keys:
+        lin = {u: sp.expand(c) for u, c in lhs_form.terms.get(key, {}).items()}
+        lin = {u: c for u, c in lin.items() if c != 0}
+        system[key] = (lin, rhs.get(key, sp.S.Zero))
+    order_key = sorted(system, key=lambda k: (-k[1], k[0] != COS))
+    equations, basis = [], []
+    for key in order_key:
+        lin, r = system[key]
+        if not lin and _is_zero(r):
+            continue
+        equations.append(sp.Eq(sp.Add(*(c * u for u, c in lin.items())), r, evaluate=False))
+        basis.append(_basis(group, key[0], key[1], t))
+    steps.append(
+        CoefficientEquationsStep(
+            prefix + "equating coefficients",
+            "Both sides must agree for every t, so the coefficients of each basis function "
+            "must be equal: one linear equation per basis function.",
+            gi,
+            tuple(basis),
+            tuple(equations),
+        )
+    )
+    values, conds = _back_substitute(system, cos_u, sin_u, d, s, group)
+    steps.append(
+        SolvedCoefficientsStep(
+            prefix + "solved coefficients",
+            "The equations are solved from the highest power of t down, two unknowns at a time"
+            if group.harmonic
+            else "The equations are solved from the highest power of t down, one unknown at a time.",
+            gi,
+            tuple((u, values[u]) for u in unknowns),
+            tuple(conds),
+        )
+    )
+    part = trial.xreplace(values)
+    return part, steps, conds
+
+
+def _trial_sentence(group: ExponentGroup, s: int, d: int) -> str:
+    """One plain sentence: why the trial form has the shape it has."""
+    if group.harmonic:
+        shape = "cosine and sine terms" + (" times an exponential" if group.decay != 0 else "")
+        assumed = "both a cosine and a sine"
+    else:
+        shape = "an exponential term" if group.decay != 0 else "a polynomial term"
+        assumed = "the same shape"
+    degree = f" multiplied by powers of t up to t^{d}" if d else ""
+    text = f"The group holds {shape}{degree}, so {assumed} with unknown coefficients"
+    if d:
+        text += f" and every power of t up to t^{d}"
+    text += " is assumed"
+    if s:
+        text += f", multiplied by t{'' if s == 1 else '^' + str(s)} because the exponent is a root"
+    return text + "."
+
+
+def _back_substitute(system, cos_u, sin_u, d, s, group):
+    """Solve the block-triangular system from the top power down."""
+    values: dict = {}
+    conditions: list[sp.Expr] = []
+    for j in range(d, -1, -1):
+        eq_keys = [(COS, j)] + ([(SIN, j)] if group.harmonic else [])
+        block = [cos_u[j]] + ([sin_u[j]] if group.harmonic else [])
+        rows = []
+        for key in eq_keys:
+            lin, r = system.get(key, ({}, sp.S.Zero))
+            rhs = r - sp.Add(*(c * values[u] for u, c in lin.items() if u in values))
+            rows.append(([lin.get(u, sp.S.Zero) for u in block], rhs))
+        if len(block) == 1:
+            (alpha,), r1 = rows[0]
+            det = alpha
+            sol = [r1 / alpha]
+        else:
+            (alpha, beta), r1 = rows[0]
+            (gamma, delta), r2 = rows[1]
+            alpha, beta, gamma, delta = (sp.factor(v) for v in (alpha, beta, gamma, delta))
+            det = alpha * delta - beta * gamma
+            sol = [(r1 * delta - beta * r2) / det, (alpha * r2 - gamma * r1) / det]
+        if _is_zero(det):  # cannot happen when s is the true multiplicity
+            raise ModelError(
+                "the coefficient equations are singular",
+                where=f"exponent {group.exponent}",
+                do="Please report this forcing and model to the calckit maintainers",
+            )
+        if det.free_symbols and j == d:
+            condition = sp.Ne(_tidy(det), 0)
+            if condition is not sp.true:
+                conditions.append(condition)
+        for u, v in zip(block, sol, strict=True):
+            values[u] = _tidy(v)
+    return values, conditions
