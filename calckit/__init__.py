@@ -14,6 +14,8 @@ from .errors import (
     UnitsError,
 )
 from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
+from .oscillator import REGIMES, HarmonicLine, Oscillator
+from .response import Response
 from .undetermined import Derivation, LinearODE
 
 __version__ = "0.1.0"
@@ -28,7 +30,11 @@ __all__ = [
     "ForcingSplit",
     "ForcingTerm",
     "InputsError",
+    "HarmonicLine",
     "LinearODE",
+    "Oscillator",
+    "REGIMES",
+    "Response",
     "ModelError",
     "OverwriteError",
     "SheetError",

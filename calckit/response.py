@@ -1,0 +1,226 @@
+"""Transient and total response of a linear constant-coefficient equation.
+
+The homogeneous solution is written in real form from the roots of the
+characteristic polynomial: a real root ``r`` of multiplicity ``mu`` gives
+``t^j e^{rt}`` for ``j < mu``; a complex pair ``a +/- i b`` gives
+``t^j e^{at} cos bt`` and ``t^j e^{at} sin bt``. The free constants are fixed
+by the initial values ``x(0), x'(0), ..., x^{(n-1)}(0)``; the total response is
+transient (homogeneous) plus steady state (particular).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import sympy as sp
+
+from .errors import ModelError
+from .exact import exact
+from .steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
+from .undetermined import Derivation, LinearODE, _is_zero, _tidy
+
+__all__ = ["Response", "homogeneous_basis", "total_response"]
+
+
+@dataclass(frozen=True)
+class Response:
+    """Total response ``x(t) = transient + steady state`` meeting the initial values.
+
+    Attributes
+    ----------
+    solution, transient, steady_state : sympy.Expr
+    particular : Derivation
+        The derivation of the steady state (particular solution).
+    constants : tuple of (Symbol, value)
+        The constants of the homogeneous solution as fixed by the initial values.
+    steps : tuple of Step
+        The particular solution's steps followed by the homogeneous solution, the
+        initial-value equations and the total.
+    """
+
+    solution: sp.Expr
+    transient: sp.Expr
+    steady_state: sp.Expr
+    particular: Derivation
+    constants: tuple[tuple[sp.Symbol, sp.Expr], ...]
+    initial_values: tuple[sp.Expr, ...]
+    t: sp.Symbol
+    steps: tuple[Step, ...]
+
+    @property
+    def verified(self) -> bool:
+        """The particular solution's back-substitution check."""
+        return self.particular.verified
+
+    def _repr_latex_(self) -> str:
+        from .render.display import derivation_latex_document
+
+        return derivation_latex_document(self)
+
+    def _repr_html_(self) -> str:
+        from .render.display import derivation_html
+
+        return derivation_html(self)
+
+    def __str__(self) -> str:
+        from .render.display import derivation_text
+
+        return derivation_text(self)
+
+
+def _root_groups(ode: LinearODE, roots):
+    """Pair complex roots as (a, b, multiplicity) with b > 0; real ones with b = 0."""
+    out = []
+    seen = set()
+    for root, mult in roots:
+        real, imag = root.as_real_imag() if root.is_number else _split_symbolic(root)
+        real, imag = sp.simplify(real), sp.simplify(imag)
+        if _is_zero(imag):
+            out.append((real, sp.S.Zero, mult))
+            continue
+        key = (real, abs(imag) if imag.is_number else sp.sqrt(sp.factor(imag**2)))
+        if key in seen:
+            continue
+        seen.add(key)
+        out.append((real, key[1], mult))
+    return out
+
+
+def _split_symbolic(root):
+    real, imag = sp.S.Zero, sp.S.Zero
+    for term in sp.Add.make_args(sp.expand(root)):
+        coef, rest = term.as_independent(sp.I, as_Add=False)
+        if rest == sp.I:
+            imag += coef
+        else:
+            real += term
+    return real, imag
+
+
+def homogeneous_basis(ode: LinearODE, t: sp.Symbol, roots=None) -> tuple[sp.Expr, ...]:
+    """Real basis functions of the homogeneous solution.
+
+    Raises ModelError when the roots of a symbolic characteristic polynomial are
+    not found in closed form.
+    """
+    roots = ode.characteristic_roots() if roots is None else roots
+    if roots is None:
+        raise ModelError(
+            "the roots of the characteristic polynomial were not found in closed form",
+            where=f"{ode!r}",
+            do="Give numeric coefficients, or a lower-order model",
+        )
+    basis = []
+    for a, b, mult in _root_groups(ode, roots):
+        for j in range(mult):
+            if b == 0:
+                basis.append(t**j * sp.exp(a * t))
+            else:
+                basis.append(t**j * sp.exp(a * t) * sp.cos(b * t))
+                basis.append(t**j * sp.exp(a * t) * sp.sin(b * t))
+    if len(basis) != ode.order:
+        raise ModelError(
+            "the homogeneous solution has the wrong number of basis functions",
+            where=f"{ode!r}",
+            do="Please report this model to the calckit maintainers",
+        )
+    return tuple(basis)
+
+
+def total_response(
+    ode: LinearODE,
+    f,
+    initial_values,
+    *,
+    t: sp.Symbol | None = None,
+    basis: tuple[sp.Expr, ...] | None = None,
+    regime: str = "",
+    names: tuple[str, ...] | None = None,
+) -> Response:
+    """Total response of ``L[x] = f`` meeting ``x^{(j)}(0) = initial_values[j]``.
+
+    Parameters
+    ----------
+    ode : LinearODE
+    f : forcing (see :meth:`LinearODE.particular`)
+    initial_values : sequence of length ``ode.order``
+        ``x(0), x'(0), ...``.
+    basis : tuple, optional
+        Basis functions of the homogeneous solution (default: from the roots).
+    """
+    values = list(initial_values)
+    if len(values) != ode.order:
+        raise ModelError(
+            f"got {len(values)} initial value(s) for an equation of order {ode.order}",
+            where="initial values",
+            do=f"Give x(0) and the first {ode.order - 1} derivative(s) at t = 0, {ode.order} values in all",
+        )
+    values = [exact(v, where=f"initial value {i + 1}") for i, v in enumerate(values)]
+    der = ode.particular(f, t=t)
+    t = der.t
+    basis = homogeneous_basis(ode, t) if basis is None else basis
+    n = ode.order
+    names = names or tuple(f"C_{i + 1}" for i in range(n))
+    taken = {s.name for s in der.solution.free_symbols}
+    constants = tuple(sp.Symbol(name if name not in taken else name + "'") for name in names)
+    transient_general = sp.Add(*(c * phi for c, phi in zip(constants, basis, strict=True)))
+    homogeneous = HomogeneousStep(
+        "Homogeneous (transient) solution",
+        "The roots of the characteristic polynomial give the free motion of the system"
+        + (f" ({regime})" if regime else "")
+        + "; its constants are fixed by the initial state.",
+        transient_general,
+        constants,
+        regime,
+    )
+    total_general = transient_general + der.solution
+    equations = []
+    current = total_general
+    for j in range(n):
+        lhs = sp.expand(current.subs(t, 0))
+        equations.append(sp.Eq(lhs, values[j]))
+        current = sp.diff(current, t)
+    matrix, rhs = sp.linear_eq_to_matrix([eq.lhs - eq.rhs for eq in equations], constants)
+    try:
+        solved = matrix.LUsolve(rhs)
+    except (ValueError, ZeroDivisionError) as exc:  # singular: basis not independent
+        raise ModelError(
+            "the initial-value equations are singular",
+            where=f"{ode!r}",
+            do="Please report this model to the calckit maintainers",
+        ) from exc
+    found = tuple(
+        (c, _tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
+        for c, v in zip(constants, solved, strict=True)
+    )
+    mapping = dict(found)
+    transient = transient_general.xreplace(mapping)
+    labels = ["x(0)", "x'(0)", "x''(0)"] + [f"x^({j})(0)" for j in range(3, n)]
+    ic_step = InitialConditionsStep(
+        "Constants from the initial state",
+        "The total response and its derivatives at t = 0 must equal the initial values "
+        + ", ".join(labels[:n])
+        + ": one linear equation per value.",
+        tuple(equations),
+        found,
+    )
+    total_step = TotalResponseStep(
+        "Total response",
+        "The total response is the transient (free motion from the initial state) plus the "
+        "steady state (the particular solution).",
+        transient,
+        der.solution,
+        transient + der.solution,
+        t,
+    )
+    steps = der.steps + (homogeneous, ic_step, total_step)
+    return Response(
+        transient + der.solution,
+        transient,
+        der.solution,
+        der,
+        found,
+        tuple(values),
+        t,
+        steps,
+    )
