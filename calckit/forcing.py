@@ -395,8 +395,9 @@ def split_forcing(f, t: sp.Symbol | None = None) -> ForcingSplit:
     for fn in expr.atoms(sp.core.function.AppliedUndef):
         if not fn.has(t):
             raise ForcingError(
-                f"forcing term {fn} is a function of {', '.join(map(str, fn.args))}, not a parameter",
-                where="forcing",
+                f"it is a function of {', '.join(map(str, fn.args))}, which is neither the time {t} "
+                "nor a parameter",
+                where=f"forcing term {fn}",
                 do="Use plain symbols for parameters, or write the forcing out in t",
             )
     terms = sp.Add.make_args(expr)

@@ -516,7 +516,7 @@ def _solve_group(ode, group, gi, many, pair, t, x):
     prefix = f"Group {gi}: " if many else ""
     steps.append(
         TrialFormStep(
-            prefix + "trial form",
+            prefix + "trial form" if many else "Trial form",
             _trial_sentence(group, s, d),
             gi,
             trial,
@@ -528,7 +528,7 @@ def _solve_group(ode, group, gi, many, pair, t, x):
         derivs.append(derivs[-1].derivative())
     steps.append(
         DerivativesStep(
-            prefix + "derivatives of the trial form",
+            prefix + "derivatives of the trial form" if many else "Derivatives of the trial form",
             "The trial form is differentiated as many times as the equation needs.",
             gi,
             tuple(d_.expr(t) for d_ in derivs[1:]),
@@ -538,7 +538,7 @@ def _solve_group(ode, group, gi, many, pair, t, x):
     lhs_form = form.scaled_sum([(c, derivs[n - i]) for i, c in enumerate(ode.coefficients)])
     steps.append(
         SubstitutionStep(
-            prefix + "substitution into the equation",
+            prefix + "substitution into the equation" if many else "Substitution into the equation",
             "The trial form and its derivatives are substituted into the left side and collected "
             "by basis function.",
             gi,
@@ -564,7 +564,7 @@ def _solve_group(ode, group, gi, many, pair, t, x):
         basis.append(_basis(group, key[0], key[1], t))
     steps.append(
         CoefficientEquationsStep(
-            prefix + "equating coefficients",
+            prefix + "equating coefficients" if many else "Equating coefficients",
             "Both sides must agree for every t, so the coefficients of each basis function "
             "must be equal: one linear equation per basis function.",
             gi,
@@ -575,8 +575,8 @@ def _solve_group(ode, group, gi, many, pair, t, x):
     values, conds = _back_substitute(system, cos_u, sin_u, d, s, group)
     steps.append(
         SolvedCoefficientsStep(
-            prefix + "solved coefficients",
-            "The equations are solved from the highest power of t down, two unknowns at a time"
+            prefix + "solved coefficients" if many else "Solved coefficients",
+            "The equations are solved from the highest power of t down, two unknowns at a time."
             if group.harmonic
             else "The equations are solved from the highest power of t down, one unknown at a time.",
             gi,
