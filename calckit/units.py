@@ -497,19 +497,14 @@ def fmt_number(x: Any, sig: int = 4) -> str:
         return str(x)
     if x == 0:
         return "0"
-    exponent = math.floor(math.log10(abs(x)))
-    rounded = round(x, sig - 1 - exponent)
-    if rounded != 0:
-        exponent = math.floor(math.log10(abs(rounded)))
+    mantissa, _, exponent_text = f"{x:.{sig - 1}e}".partition("e")  # rounds to sig figures
+    exponent = int(exponent_text)
     if -3 <= exponent < 6:
-        decimals = max(sig - 1 - exponent, 0)
-        text = f"{rounded:.{decimals}f}"
-        if "." in text:
-            text = text.rstrip("0").rstrip(".")
-        return "0" if text in ("-0", "0") else text
-    mantissa = rounded / 10**exponent
-    digits = f"{mantissa:.{sig - 1}f}".rstrip("0").rstrip(".")
-    return f"{digits}e{exponent}"
+        text = f"{float(mantissa + 'e' + exponent_text):.{max(sig - 1 - exponent, 0)}f}"
+        return text.rstrip("0").rstrip(".") if "." in text else text
+    if "." in mantissa:
+        mantissa = mantissa.rstrip("0").rstrip(".")
+    return f"{mantissa}e{exponent}"
 
 
 def _display_quantity(q: pint.Quantity) -> pint.Quantity:

@@ -1,0 +1,832 @@
+"""Inputs files for ``calckit build``, template parameters, and a safe expression reader.
+
+Inputs file format
+------------------
+An inputs file is TOML. Keys at the top level are inputs; their names are the
+names in the template's parameters cell. Text values carry units; plain numbers
+are dimensionless::
+
+    # Harrow Creek water-treatment works: pump P-101 on its inertia base
+    mass = "250 kg"
+    stiffness = "12 N/mm"
+    zeta = 0.05
+    forcing = "F0*cos(w*t)"
+
+    [sheet]                      # the title block, all fields optional
+    project = "Harrow Creek water-treatment works"
+    calculation = "HCW-VIB-001"
+    revision = "B"
+    author = "A. Engineer"
+    checker = "B. Checker"
+    date = 2024-05-02            # a TOML date or text
+
+    [machine]                    # any other table only groups inputs for reading:
+    speed = "1480 rpm"           # its keys are inputs like the top-level ones
+    unbalance = "120 g*mm"
+
+Input values are text, integers, finite floats, true/false, or arrays of those.
+Input names are Python names, unique across all groups. The title-block fields
+are passed to the template under their own names (``project``, ``revision``...)
+when the template's parameters cell declares them.
+
+Expressions
+-----------
+:func:`parse_expression` reads a forcing expression such as ``"F0*cos(w*t)"``
+without running it: Python's parser builds a syntax tree, and only numbers, the
+declared names, ``t``, ``pi``, ``+ - * / **``, parentheses and the functions
+``sin cos exp sinh cosh sqrt`` are turned into sympy objects. Numbers are taken
+as the exact decimal written.
+
+Examples
+--------
+>>> import sympy as sp
+>>> F0, w = sp.symbols("F0 w", positive=True)
+>>> parse_expression("F0*cos(w*t) + 2.5", {"F0": F0, "w": w}, where="forcing")
+F0*cos(t*w) + 5/2
+"""
+
+from __future__ import annotations
+
+import ast
+import datetime as _dt
+import difflib
+import keyword
+import math
+import re
+import tomllib
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from fractions import Fraction
+from numbers import Number
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any
+
+import pint
+import sympy as sp
+
+from .errors import InputsError
+from .exact import exact
+
+__all__ = [
+    "FUNCTIONS",
+    "TITLE_FIELDS",
+    "TitleBlock",
+    "InputsFile",
+    "parse_expression",
+    "read_inputs",
+    "check_keys",
+    "parameters_from_source",
+    "injected_source",
+    "positive",
+    "non_negative",
+    "finite",
+]
+
+#: Functions an expression may call.
+FUNCTIONS: Mapping[str, Any] = MappingProxyType(
+    {"sin": sp.sin, "cos": sp.cos, "exp": sp.exp, "sinh": sp.sinh, "cosh": sp.cosh, "sqrt": sp.sqrt}
+)
+#: Fields of the ``[sheet]`` table (the title block).
+TITLE_FIELDS: tuple[str, ...] = ("project", "calculation", "revision", "author", "checker", "date")
+
+_MAX_LENGTH = 2000
+_MAX_EXPONENT = 100  # largest power of a number in an expression
+_MAX_DECIMAL_EXPONENT = 300  # largest e-exponent in a number written
+_MAX_DIGITS = 10_000  # largest number of digits a power of a number may have
+_OPERATORS = {ast.Add: "+", ast.Sub: "-", ast.Mult: "*", ast.Div: "/", ast.Pow: "**"}
+_REFUSED_OPERATORS = {
+    ast.Mod: "%",
+    ast.FloorDiv: "//",
+    ast.MatMult: "@",
+    ast.LShift: "<<",
+    ast.RShift: ">>",
+    ast.BitOr: "|",
+    ast.BitAnd: "&",
+}
+_NODE_NAMES = {
+    ast.Attribute: "attribute access",
+    ast.Subscript: "indexing",
+    ast.Lambda: "a lambda",
+    ast.ListComp: "a comprehension",
+    ast.SetComp: "a comprehension",
+    ast.DictComp: "a comprehension",
+    ast.GeneratorExp: "a comprehension",
+    ast.List: "a list",
+    ast.Tuple: "a tuple",
+    ast.Set: "a set",
+    ast.Dict: "a dict",
+    ast.Compare: "a comparison",
+    ast.BoolOp: "and/or",
+    ast.IfExp: "a conditional",
+    ast.NamedExpr: "an assignment",
+    ast.JoinedStr: "a string",
+    ast.Starred: "unpacking",
+    ast.Slice: "a slice",
+}
+
+
+# ---------------------------------------------------------------------------
+# Expressions
+
+
+@dataclass(frozen=True)
+class _Reader:
+    """Walks a syntax tree of an expression and builds the sympy object."""
+
+    text: str
+    names: Mapping[str, sp.Basic]
+    where: str
+
+    def allowed(self) -> str:
+        inputs = ", ".join(n for n in self.names if n not in ("t", "pi"))
+        inputs = f"the inputs {inputs}, " if inputs else ""
+        return (
+            f"Allowed: numbers, {inputs}the time t, pi, + - * / ** and parentheses, "
+            f"and the functions {', '.join(FUNCTIONS)}"
+        )
+
+    def segment(self, node: ast.AST) -> str:
+        return ast.get_source_segment(self.text, node) or type(node).__name__
+
+    def refuse(self, what: str, do: str | None = None) -> InputsError:
+        if self.text not in what:  # say where the piece sits, unless it is the whole text
+            what = f'{what} in "{self.text}"'
+        return InputsError(what, where=self.where, do=do or self.allowed())
+
+    def read(self, node: ast.AST) -> sp.Expr:
+        if isinstance(node, ast.Constant):
+            return self.number(node)
+        if isinstance(node, ast.Name):
+            return self.name(node)
+        if isinstance(node, ast.BinOp):
+            return self.binary(node)
+        if isinstance(node, ast.UnaryOp):
+            return self.unary(node)
+        if isinstance(node, ast.Call):
+            return self.call(node)
+        kind = _NODE_NAMES.get(type(node), "this construct")
+        raise self.refuse(f'{kind} "{self.segment(node)}" is not allowed')
+
+    def number(self, node: ast.Constant) -> sp.Expr:
+        value = node.value
+        piece = self.segment(node)
+        if isinstance(value, str | bytes):
+            raise self.refuse(f"a string {piece} is not allowed")
+        if isinstance(value, bool) or value is None or value is Ellipsis:
+            raise self.refuse(f'"{piece}" is not allowed')
+        if isinstance(value, complex):
+            raise self.refuse(
+                f'the imaginary number "{piece}" is not allowed', do="Write real expressions only"
+            )
+        if isinstance(value, int):
+            return sp.Integer(value)
+        digits = piece.replace("_", "")
+        exponent = re.search(r"[eE]([+-]?\d+)$", digits)
+        if not math.isfinite(value) or (exponent and abs(int(exponent.group(1))) > _MAX_DECIMAL_EXPONENT):
+            raise self.refuse(f'the number "{piece}" is out of range', do="Give a finite number")
+        try:
+            return sp.Rational(Fraction(digits))
+        except ValueError:  # pragma: no cover - every float literal Python accepts reads as a Fraction
+            return exact(value, self.where)
+
+    def name(self, node: ast.Name) -> sp.Expr:
+        if node.id in self.names:
+            return self.names[node.id]
+        if node.id in FUNCTIONS:
+            raise self.refuse(
+                f'the function "{node.id}" is used without an argument',
+                do=f"Call it with its argument in parentheses, for example {node.id}(w*t)",
+            )
+        close = difflib.get_close_matches(node.id, list(self.names), n=1)
+        hint = f'Did you mean "{close[0]}"? ' if close else ""
+        raise self.refuse(f'unknown name "{node.id}"', do=hint + self.allowed())
+
+    def binary(self, node: ast.BinOp) -> sp.Expr:
+        op = type(node.op)
+        if op is ast.BitXor:
+            raise self.refuse('the operator "^" is not a power', do="Use ** for powers, for example t**2")
+        if op not in _OPERATORS:
+            raise self.refuse(f'the operator "{_REFUSED_OPERATORS.get(op, op.__name__)}" is not allowed')
+        left, right = self.read(node.left), self.read(node.right)
+        if op is ast.Add:
+            return left + right
+        if op is ast.Sub:
+            return left - right
+        if op is ast.Mult:
+            return left * right
+        if op is ast.Div:
+            if right == 0:
+                raise self.refuse(f'division by zero "{self.segment(node)}"', do="Check the divisor")
+            return left / right
+        if right.is_number and (right.is_real is not True or abs(right) > _MAX_EXPONENT):
+            raise self.refuse(
+                f'the power "{self.segment(node)}" is too large',
+                do=f"Use real exponents between -{_MAX_EXPONENT} and {_MAX_EXPONENT}",
+            )
+        if left.is_Rational and right.is_number and _digits(left) * abs(right) > _MAX_DIGITS:
+            raise self.refuse(
+                f'the power "{self.segment(node)}" is too large',
+                do=f"Keep numbers under {_MAX_DIGITS} digits",
+            )
+        if left == 0 and right.is_number and right.is_negative:
+            raise self.refuse(f'division by zero "{self.segment(node)}"', do="Check the divisor")
+        return left**right
+
+    def unary(self, node: ast.UnaryOp) -> sp.Expr:
+        if isinstance(node.op, ast.USub):
+            return -self.read(node.operand)
+        if isinstance(node.op, ast.UAdd):
+            return self.read(node.operand)
+        word = "not" if isinstance(node.op, ast.Not) else "~"
+        raise self.refuse(f'the operator "{word}" is not allowed')
+
+    def call(self, node: ast.Call) -> sp.Expr:
+        func = node.func
+        if not isinstance(func, ast.Name):
+            if type(func) in _NODE_NAMES:  # obj.attr(...), obj[0](...), (lambda: 1)()
+                return self.read(func)
+            raise self.refuse(f'calling "{self.segment(func)}" is not allowed')
+        if func.id not in FUNCTIONS:
+            raise self.refuse(f'the function "{func.id}" is not allowed')
+        if node.keywords:
+            raise self.refuse(f'the keyword argument "{self.segment(node.keywords[0])}" is not allowed')
+        if len(node.args) != 1:
+            raise self.refuse(
+                f'"{self.segment(node)}" gives {func.id} {len(node.args)} arguments',
+                do=f"Give {func.id} one argument, for example {func.id}(w*t)",
+            )
+        return FUNCTIONS[func.id](self.read(node.args[0]))
+
+
+def _digits(r: sp.Rational) -> int:
+    return len(str(abs(r.p))) + len(str(r.q))
+
+
+def _declared(names: Mapping[str, Any], t: sp.Symbol, where: str) -> dict[str, sp.Basic]:
+    declared: dict[str, sp.Basic] = {}
+    for name, value in names.items():
+        if name in ("t", "pi") or name in FUNCTIONS:
+            raise InputsError(
+                f'the name "{name}" is reserved',
+                where=where,
+                do="Pass the time symbol as t=; do not declare t, pi or the function names as inputs",
+            )
+        if not isinstance(value, sp.Basic | int | float | Fraction):
+            raise InputsError(
+                f'the name "{name}" stands for {type(value).__name__} {value!r}',
+                where=where,
+                do="Declare each name as a sympy symbol or a number",
+            )
+        declared[name] = value if isinstance(value, sp.Basic) and not value.is_Float else exact(value, name)
+    declared["t"] = t
+    declared["pi"] = sp.pi
+    return declared
+
+
+def parse_expression(
+    text: str, names: Mapping[str, Any], *, where: str, t: sp.Symbol | None = None
+) -> sp.Expr:
+    """Read *text* as a sympy expression without running any of it.
+
+    Parameters
+    ----------
+    text : str
+        For example ``"F0*cos(w*t) + 0.2*F0*sin(2*w*t)"``.
+    names : mapping
+        Declared input names: name -> sympy symbol or number (numbers go in
+        exactly: ``2.5`` is ``5/2``).
+    where : str
+        The input's name, used in error messages.
+    t : sympy.Symbol, optional
+        The time symbol; ``Symbol("t", real=True)`` unless given.
+
+    Returns
+    -------
+    sympy.Expr
+
+    Raises
+    ------
+    InputsError
+        Anything outside the whitelist, with the offending piece and what is allowed.
+
+    Examples
+    --------
+    >>> parse_expression("2.5*sin(3*t)", {}, where="forcing")
+    5*sin(3*t)/2
+    >>> parse_expression("t^2", {}, where="forcing")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.InputsError: forcing: the operator "^" is not a power in "t^2". Use ** for powers, for example t**2.
+    """
+    if not isinstance(text, str):
+        raise InputsError(
+            f"expected the expression as text, got {type(text).__name__} {text!r}",
+            where=where,
+            do='Write the expression in quotes, for example "F0*cos(w*t)"',
+        )
+    text = text.strip()
+    if not text:
+        raise InputsError(
+            "the expression is empty", where=where, do='Write an expression, for example "F0*cos(w*t)"'
+        )
+    if len(text) > _MAX_LENGTH:
+        raise InputsError(
+            f"the expression is {len(text)} characters long",
+            where=where,
+            do=f"Keep expressions under {_MAX_LENGTH} characters",
+        )
+    reader = _Reader(text, _declared(names, t if t is not None else sp.Symbol("t", real=True), where), where)
+    try:
+        tree = ast.parse(text, mode="eval")
+    except SyntaxError as exc:
+        column = f" (column {exc.offset})" if exc.offset else ""
+        raise InputsError(
+            f'cannot read "{text}" as an expression{column}',
+            where=where,
+            do="Check for a missing operator or parenthesis; write products with * (2*t, not 2t)",
+        ) from exc
+    except (RecursionError, MemoryError, ValueError) as exc:
+        raise InputsError(
+            f'cannot read "{text}" as an expression',
+            where=where,
+            do="Write a shorter, less nested expression",
+        ) from exc
+    try:
+        result = reader.read(tree.body)
+    except RecursionError as exc:
+        raise InputsError(
+            "the expression is nested too deeply", where=where, do="Write a shorter, less nested expression"
+        ) from exc
+    if result.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
+        raise InputsError(f'"{text}" is not finite', where=where, do="Check for division by zero")
+    return result
+
+
+# ---------------------------------------------------------------------------
+# Inputs files
+
+
+@dataclass(frozen=True)
+class TitleBlock:
+    """Title-block fields from the ``[sheet]`` table (each optional)."""
+
+    project: str | None = None
+    calculation: str | None = None
+    revision: str | None = None
+    author: str | None = None
+    checker: str | None = None
+    date: str | None = None
+
+    def present(self) -> dict[str, str]:
+        """The fields that were given, by name, in :data:`TITLE_FIELDS` order."""
+        return {name: getattr(self, name) for name in TITLE_FIELDS if getattr(self, name) is not None}
+
+
+@dataclass(frozen=True)
+class InputsFile:
+    """An inputs file as read: its path, inputs, title block and text.
+
+    Attributes
+    ----------
+    path : Path
+    values : Mapping[str, object]
+        Inputs by name, raw TOML values (text, int, float, bool, tuple), in file order.
+    sheet : TitleBlock
+    groups : Mapping[str, str]
+        Name of the table each input sits in (``""`` at the top level).
+    text : str
+        The file's text, kept for line numbers.
+    """
+
+    path: Path
+    values: Mapping[str, Any]
+    sheet: TitleBlock = field(default_factory=TitleBlock)
+    groups: Mapping[str, str] = field(default_factory=dict)
+    text: str = ""
+
+    def line_of(self, key: str) -> int | None:
+        """Line number (from 1) where *key* is set, best effort; None if not found.
+
+        Examples
+        --------
+        >>> f = InputsFile(Path("a.toml"), {"mass": "250 kg"}, text='# P-101\\nmass = "250 kg"\\n')
+        >>> f.line_of("mass")
+        2
+        """
+        if key in TITLE_FIELDS and key not in self.values:
+            table = "sheet"
+        else:
+            table = self.groups.get(key, "")
+        return _find_line(self.text, table, key)
+
+    def where(self, key: str) -> str:
+        """``"p101.toml, line 4, mass"``: where to point an error about *key*."""
+        line = self.line_of(key)
+        place = f", line {line}" if line else ""
+        return f"{self.path}{place}, {key}"
+
+    def assignments(self, declared: Iterable[str] | None = None) -> dict[str, Any]:
+        """Values to hand to the template: the inputs, then the title-block fields given.
+
+        With *declared* (the template's parameter names), only title-block fields
+        the template declares are included; the inputs always are.
+        """
+        title = self.sheet.present()
+        if declared is not None:
+            declared = set(declared)
+            title = {name: value for name, value in title.items() if name in declared}
+        return {**self.values, **title}
+
+
+_HEADER = re.compile(r"\s*\[\s*([^\[\]]*?)\s*\]\s*(#.*)?$")
+
+
+def _find_line(text: str, table: str, key: str) -> int | None:
+    key_pattern = re.compile(
+        r"\s*(?:" + re.escape(key) + r"|\"" + re.escape(key) + r"\"|'" + re.escape(key) + r"')\s*="
+    )
+    current = ""
+    for number, line in enumerate(text.splitlines(), start=1):
+        header = _HEADER.match(line)
+        if header:
+            current = header.group(1).strip().strip("\"'")
+        elif current == table and key_pattern.match(line):
+            return number
+    return None
+
+
+_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)$")
+
+
+def read_inputs(path: str | Path) -> InputsFile:
+    """Read an inputs file (TOML; format in the module notes).
+
+    Raises
+    ------
+    InputsError
+        Missing file, broken TOML (with line and column), a key that is not a
+        Python name, a key given twice across groups, a value of a kind that
+        inputs cannot have, a float that is NaN or infinite.
+
+    Examples
+    --------
+    >>> import tempfile, os
+    >>> folder = tempfile.mkdtemp()
+    >>> p = Path(folder, "p101.toml")
+    >>> _ = p.write_text('mass = "250 kg"\\n[sheet]\\nrevision = "A"\\n')
+    >>> f = read_inputs(p)
+    >>> dict(f.values), f.sheet.revision
+    ({'mass': '250 kg'}, 'A')
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError as exc:
+        raise InputsError("the inputs file does not exist", where=str(path), do="Check the path") from exc
+    except UnicodeDecodeError as exc:
+        raise InputsError(
+            "the inputs file is not UTF-8 text", where=str(path), do="Save it as UTF-8"
+        ) from exc
+    except OSError as exc:
+        raise InputsError(
+            f"cannot read the inputs file ({exc.strerror})", where=str(path), do="Check the path"
+        ) from exc
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        message = str(exc)
+        position = _TOML_POSITION.search(message)
+        where = f"{path}, line {position.group(1)}, column {position.group(2)}" if position else str(path)
+        what = _TOML_POSITION.sub("", message)
+        raise InputsError(
+            f"the inputs file is not valid TOML: {what[:1].lower()}{what[1:]}",
+            where=where,
+            do='Check that line: text needs quotes (mass = "250 kg") and each key is set once',
+        ) from exc
+    values: dict[str, Any] = {}
+    groups: dict[str, str] = {}
+    sheet = TitleBlock()
+    text_file = InputsFile(path, {}, text=text)
+
+    def add(key: str, value: Any, group: str) -> None:
+        place = f"{path}, line {_find_line(text, group, key) or '?'}, {key}"
+        if not key.isidentifier() or keyword.iskeyword(key) or key.startswith("_"):
+            raise InputsError(
+                f'"{key}" is not usable as an input name',
+                where=place,
+                do="Use letters, digits and underscores, starting with a letter (e.g. pump_speed)",
+            )
+        if key in values:
+            first = f"[{groups[key]}]" if groups[key] else "the top level"
+            raise InputsError(
+                f'the input "{key}" is also set in {first}',
+                where=place,
+                do="Give each input once",
+            )
+        values[key] = _input_value(value, place)
+        groups[key] = group
+
+    for key, value in data.items():
+        if key == "sheet" and isinstance(value, dict):
+            sheet = _title_block(value, path, text_file)
+        elif isinstance(value, dict):
+            for inner, inner_value in value.items():
+                if isinstance(inner_value, dict):
+                    raise InputsError(
+                        f'the table "{key}.{inner}" is nested inside "{key}"',
+                        where=str(path),
+                        do="Use one level of tables to group inputs",
+                    )
+                add(inner, inner_value, key)
+        else:
+            add(key, value, "")
+    return InputsFile(path, MappingProxyType(values), sheet, MappingProxyType(groups), text)
+
+
+def _input_value(value: Any, place: str) -> Any:
+    if isinstance(value, list):
+        return tuple(_input_value(item, place) for item in value)
+    if isinstance(value, float) and not math.isfinite(value):
+        raise InputsError(f"the value {value} is not a finite number", where=place, do="Give a finite number")
+    if isinstance(value, str | int | float | bool):
+        return value
+    raise InputsError(
+        f"a {type(value).__name__} value cannot be an input",
+        where=place,
+        do='Give text with a unit ("250 kg"), a number or true/false',
+    )
+
+
+def _title_block(table: Mapping[str, Any], path: Path, file: InputsFile) -> TitleBlock:
+    fields: dict[str, str] = {}
+    for key, value in table.items():
+        line = _find_line(file.text, "sheet", key)
+        place = f"{path}, line {line or '?'}, sheet.{key}"
+        if key not in TITLE_FIELDS:
+            close = difflib.get_close_matches(key, TITLE_FIELDS, n=1)
+            hint = f'Did you mean "{close[0]}"? ' if close else ""
+            raise InputsError(
+                f'unknown title-block field "{key}"',
+                where=place,
+                do=f"{hint}The [sheet] table takes {', '.join(TITLE_FIELDS)}",
+            )
+        if isinstance(value, _dt.date | _dt.datetime):
+            value = value.isoformat()
+        if not isinstance(value, str):
+            raise InputsError(
+                f"expected text, got {value!r}",
+                where=place,
+                do=f'Write it in quotes, for example {key} = "{value}"',
+            )
+        fields[key] = value
+    return TitleBlock(**fields)
+
+
+def _quoted(names: Iterable[str]) -> str:
+    return ", ".join(f'"{n}"' for n in names)
+
+
+def check_keys(
+    inputs: InputsFile | Mapping[str, Any],
+    expected: Mapping[str, Any],
+    *,
+    path: str | Path,
+    optional: Iterable[str] = TITLE_FIELDS,
+) -> None:
+    """Check that *inputs* gives exactly the names *expected* (a template's parameters).
+
+    Unknown names are reported with the closest expected name; missing names
+    are reported unless listed in *optional* (the title-block fields, by
+    default, which keep the template's values when not given). For an
+    :class:`InputsFile` the inputs are checked, not the ``[sheet]`` table (its
+    fields were checked when it was read), and unknown names give their line.
+
+    Raises
+    ------
+    InputsError
+        One error listing every unknown and missing name.
+
+    Examples
+    --------
+    >>> check_keys({"mass": "250 kg", "stifness": "12 N/mm"}, {"mass": "", "stiffness": ""}, path="p101.toml")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.InputsError: p101.toml: unknown input "stifness" (did you mean "stiffness"?); missing input "stiffness". The template's inputs are mass, stiffness.
+    """
+    given = dict(inputs.values) if isinstance(inputs, InputsFile) else dict(inputs)
+    optional = set(optional)
+    problems = []
+    for name in given:
+        if name in expected:
+            continue
+        line = inputs.line_of(name) if isinstance(inputs, InputsFile) else None
+        at = f" on line {line}" if line else ""
+        close = difflib.get_close_matches(name, list(expected), n=1)
+        hint = f' (did you mean "{close[0]}"?)' if close else ""
+        problems.append(f'unknown input "{name}"{at}{hint}')
+    missing = [name for name in expected if name not in given and name not in optional]
+    if missing:
+        problems.append(f"missing input{'s' if len(missing) > 1 else ''} {_quoted(missing)}")
+    if problems:
+        required = [name for name in expected if name not in optional]
+        raise InputsError(
+            "; ".join(problems),
+            where=str(path),
+            do=f"The template's inputs are {', '.join(required)}",
+        )
+
+
+# ---------------------------------------------------------------------------
+# Template parameters
+
+
+def _literal(node: ast.expr) -> Any:
+    """The value of a literal str/int/float/bool (with a sign), or raise ValueError."""
+    if isinstance(node, ast.UnaryOp) and isinstance(node.op, ast.USub | ast.UAdd):
+        inner = _literal(node.operand)
+        if isinstance(inner, bool) or not isinstance(inner, int | float):
+            raise ValueError
+        return -inner if isinstance(node.op, ast.USub) else inner
+    if isinstance(node, ast.Constant) and isinstance(node.value, str | int | float | bool):
+        return node.value
+    raise ValueError
+
+
+def parameters_from_source(cell_source: str) -> Mapping[str, Any]:
+    """Names and default values of a template's parameters cell, in order.
+
+    The cell may hold only assignments of literal values to plain names
+    (``mass = "250 kg"``, ``zeta = 0.05``, ``flag = True``, ``mass: str = "1 kg"``),
+    comments and a docstring. Nothing in it is run.
+
+    Raises
+    ------
+    InputsError
+        Any other statement, a value that is not a literal, a name set twice.
+
+    Examples
+    --------
+    >>> dict(parameters_from_source('mass = "250 kg"  # P-101\\nzeta = 0.05'))
+    {'mass': '250 kg', 'zeta': 0.05}
+    """
+    try:
+        tree = ast.parse(cell_source)
+    except SyntaxError as exc:
+        raise InputsError(
+            f"the parameters cell is not valid Python ({exc.msg})",
+            where=f"parameters cell, line {exc.lineno}",
+            do='Write one assignment per line, for example mass = "250 kg"',
+        ) from exc
+    params: dict[str, Any] = {}
+    for number, statement in enumerate(tree.body):
+        where = f"parameters cell, line {statement.lineno}"
+        if number == 0 and isinstance(statement, ast.Expr) and isinstance(statement.value, ast.Constant):
+            if isinstance(statement.value.value, str):
+                continue  # docstring
+        if isinstance(statement, ast.Assign) and len(statement.targets) == 1:
+            target, value = statement.targets[0], statement.value
+        elif isinstance(statement, ast.AnnAssign) and statement.value is not None:
+            target, value = statement.target, statement.value
+        else:
+            raise InputsError(
+                f'"{ast.get_source_segment(cell_source, statement)}" is not a plain assignment',
+                where=where,
+                do='Keep the parameters cell to lines like mass = "250 kg"; do the work in later cells',
+            )
+        if not isinstance(target, ast.Name):
+            raise InputsError(
+                f'"{ast.get_source_segment(cell_source, target)}" is not a plain name',
+                where=where,
+                do='Assign to a single name, for example mass = "250 kg"',
+            )
+        try:
+            literal = _literal(value)
+        except ValueError:
+            raise InputsError(
+                f'the value of "{target.id}" is not a literal: {ast.get_source_segment(cell_source, value)}',
+                where=where,
+                do="Give text, a number or True/False; compute derived values in later cells",
+            ) from None
+        if target.id in params:
+            raise InputsError(f'"{target.id}" is set twice', where=where, do="Set each parameter once")
+        params[target.id] = literal
+    return MappingProxyType(params)
+
+
+def injected_source(values: Mapping[str, Any]) -> str:
+    """Python source of an assignments cell setting *values*.
+
+    Only text, integers, finite floats and True/False are written, each with
+    ``repr``, so reading the cell back with :func:`parameters_from_source`
+    gives the same values.
+
+    Examples
+    --------
+    >>> print(injected_source({"mass": "250 kg", "zeta": 0.05}))
+    # Inputs set by calckit build
+    mass = '250 kg'
+    zeta = 0.05
+    <BLANKLINE>
+    """
+    lines = ["# Inputs set by calckit build"]
+    for name, value in values.items():
+        where = f"input {name}"
+        if not isinstance(name, str) or not name.isidentifier() or keyword.iskeyword(name):
+            raise InputsError(
+                f"{name!r} is not usable as a Python name",
+                where="inputs",
+                do="Use letters, digits and underscores, starting with a letter",
+            )
+        if isinstance(value, float) and not math.isfinite(value):
+            raise InputsError(
+                f"the value {value} is not a finite number", where=where, do="Give a finite number"
+            )
+        if not isinstance(value, str | int | float | bool):
+            raise InputsError(
+                f"a {type(value).__name__} value cannot be passed to a template",
+                where=where,
+                do='Give text ("250 kg"), a number or True/False',
+            )
+        lines.append(f"{name} = {value!r}")
+    return "\n".join(lines) + "\n"
+
+
+# ---------------------------------------------------------------------------
+# Value checks
+
+
+def _magnitude(q: Any, where: str) -> tuple[float | sp.Expr, str]:
+    """A comparable magnitude of *q* and how to show it."""
+    from .units import fmt
+
+    if isinstance(q, bool):
+        raise InputsError(f"got a truth value {q!r}", where=where, do="Give a number")
+    if isinstance(q, pint.Quantity):
+        return q.magnitude, fmt(q)
+    if isinstance(q, sp.Basic):
+        if not q.is_number:
+            raise InputsError(f"{q} is not a number", where=where, do="Give a number")
+        return q, str(q)
+    if isinstance(q, Number):
+        return q, str(q)
+    raise InputsError(
+        f"expected a number or a quantity, got {type(q).__name__} {q!r}", where=where, do="Give a number"
+    )
+
+
+def finite(q: Any, where: str) -> Any:
+    """Return *q* if it is a finite number or quantity, else raise InputsError.
+
+    Examples
+    --------
+    >>> finite(float("nan"), "mass")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.InputsError: mass: nan is not a finite number. Give a finite number.
+    """
+    value, shown = _magnitude(q, where)
+    is_finite = value.is_finite if isinstance(value, sp.Basic) else math.isfinite(value)
+    if not is_finite:
+        raise InputsError(f"{shown} is not a finite number", where=where, do="Give a finite number")
+    return q
+
+
+def _sign_check(q: Any, where: str, *, allow_zero: bool) -> Any:
+    finite(q, where)
+    value, shown = _magnitude(q, where)
+    if isinstance(value, sp.Basic) and value.is_extended_real is not True:
+        raise InputsError(f"{shown} is not a real number", where=where, do="Give a real number")
+    if value < 0 or (value == 0 and not allow_zero):
+        bound = "zero or more" if allow_zero else "greater than zero"
+        raise InputsError(
+            f"must be {bound}, got {shown}",
+            where=where,
+            do="Check the value and its sign in the inputs",
+        )
+    return q
+
+
+def positive(q: Any, where: str) -> Any:
+    """Return *q* if it is finite and greater than zero (a mass, a stiffness).
+
+    Examples
+    --------
+    >>> from calckit.units import Q_
+    >>> positive(Q_(0, "kg"), "mass")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.InputsError: mass: must be greater than zero, got 0 kg. Check the value and its sign in the inputs.
+    """
+    return _sign_check(q, where, allow_zero=False)
+
+
+def non_negative(q: Any, where: str) -> Any:
+    """Return *q* if it is finite and zero or more (a damping ratio, a damping coefficient).
+
+    Examples
+    --------
+    >>> non_negative(0, "zeta")
+    0
+    """
+    return _sign_check(q, where, allow_zero=True)

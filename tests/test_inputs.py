@@ -1,0 +1,728 @@
+"""Tests for calckit.inputs: safe expressions, inputs files, template parameters, value checks."""
+
+from __future__ import annotations
+
+import ast
+import builtins
+import math
+from pathlib import Path
+
+import pytest
+import sympy as sp
+from hypothesis import given
+from hypothesis import strategies as st
+
+import calckit.inputs as inputs_module
+from calckit.errors import CalcError, InputsError
+from calckit.inputs import (
+    TITLE_FIELDS,
+    InputsFile,
+    TitleBlock,
+    check_keys,
+    finite,
+    injected_source,
+    non_negative,
+    parameters_from_source,
+    parse_expression,
+    positive,
+    read_inputs,
+)
+from calckit.units import Q_
+
+T = sp.Symbol("t", real=True)
+F0, W = sp.symbols("F0 w", positive=True)
+NAMES = {"F0": F0, "w": W}
+ALLOWED = (
+    "Allowed: numbers, the inputs F0, w, the time t, pi, + - * / ** and parentheses, "
+    "and the functions sin, cos, exp, sinh, cosh, sqrt."
+)
+
+
+def message(excinfo) -> str:
+    return str(excinfo.value)
+
+
+def refused(text: str, names=NAMES) -> str:
+    with pytest.raises(InputsError) as excinfo:
+        parse_expression(text, names, where="forcing")
+    return message(excinfo)
+
+
+class TestParseExpressionGood:
+    @pytest.mark.parametrize(
+        ("text", "expected"),
+        [
+            ("F0*cos(w*t)", F0 * sp.cos(W * T)),
+            ("2.5e-3*F0*exp(-0.5*t)*sin(w*t)", sp.Rational(1, 400) * F0 * sp.exp(-T / 2) * sp.sin(W * T)),
+            ("F0*(1 + 0.2*cos(2*w*t))", F0 * (1 + sp.Rational(1, 5) * sp.cos(2 * W * T))),
+            ("t**2*exp(-t)", T**2 * sp.exp(-T)),
+            ("sinh(t) + cosh(t) - sqrt(2)", sp.sinh(T) + sp.cosh(T) - sp.sqrt(2)),
+            ("-t + +t/2", -T / 2),
+            ("pi*t", sp.pi * T),
+            ("1e-3", sp.Rational(1, 1000)),
+            ("0.1 + 0.2", sp.Rational(3, 10)),
+            ("1_000.5", sp.Rational(2001, 2)),
+            ("2**-1", sp.Rational(1, 2)),
+            ("  F0  ", F0),
+        ],
+    )
+    def test_matches_hand_built(self, text, expected):
+        """Good expressions give the sympy object built by hand."""
+        assert parse_expression(text, NAMES, where="forcing") == expected
+
+    def test_number_values(self):
+        """Names may stand for numbers; floats go in as the decimal shown."""
+        result = parse_expression("sqrt(k/m) + z", {"k": 12000, "m": 250, "z": 0.1}, where="w")
+        assert result == 4 * sp.sqrt(3) + sp.Rational(1, 10)
+
+    def test_default_time_symbol_is_real(self):
+        """t is Symbol('t', real=True) by default."""
+        assert parse_expression("t", {}, where="f").free_symbols == {T}
+
+    def test_other_time_symbol(self):
+        """The caller may pass its own time symbol."""
+        tau = sp.Symbol("tau", positive=True)
+        assert parse_expression("sin(t)", {}, where="f", t=tau) == sp.sin(tau)
+
+    @given(st.decimals(min_value=-1e6, max_value=1e6, places=8, allow_nan=False, allow_infinity=False))
+    def test_decimals_exact(self, d):
+        """Any decimal written is read exactly as that decimal."""
+        assert parse_expression(str(d), {}, where="x") == sp.Rational(str(d))
+
+
+class TestParseExpressionRefused:
+    @pytest.mark.parametrize(
+        ("text", "text_message"),
+        [
+            (
+                "__import__('os').system('x')",
+                "forcing: attribute access \"__import__('os').system\" is not allowed "
+                "in \"__import__('os').system('x')\". " + ALLOWED,
+            ),
+            (
+                "().__class__.__bases__",
+                'forcing: attribute access "().__class__.__bases__" is not allowed. ' + ALLOWED,
+            ),
+            ("t.__class__", 'forcing: attribute access "t.__class__" is not allowed. ' + ALLOWED),
+            ("exp.__globals__", 'forcing: attribute access "exp.__globals__" is not allowed. ' + ALLOWED),
+            ("lambda: 1", 'forcing: a lambda "lambda: 1" is not allowed. ' + ALLOWED),
+            ("(lambda: 1)()", 'forcing: a lambda "lambda: 1" is not allowed in "(lambda: 1)()". ' + ALLOWED),
+            ("[x for x in ()]", 'forcing: a comprehension "[x for x in ()]" is not allowed. ' + ALLOWED),
+            ("open('f')", 'forcing: the function "open" is not allowed in "open(\'f\')". ' + ALLOWED),
+            ("eval('1')", 'forcing: the function "eval" is not allowed in "eval(\'1\')". ' + ALLOWED),
+            (
+                "__import__('os')",
+                'forcing: the function "__import__" is not allowed in "__import__(\'os\')". ' + ALLOWED,
+            ),
+            ("sin(t)(1)", 'forcing: calling "sin(t)" is not allowed in "sin(t)(1)". ' + ALLOWED),
+            ("F0[0]", 'forcing: indexing "F0[0]" is not allowed. ' + ALLOWED),
+            ("'text'", "forcing: a string 'text' is not allowed. " + ALLOWED),
+            ("sin(x=1)", 'forcing: the keyword argument "x=1" is not allowed in "sin(x=1)". ' + ALLOWED),
+            ("t if t else 1", 'forcing: a conditional "t if t else 1" is not allowed. ' + ALLOWED),
+            ("t < 1", 'forcing: a comparison "t < 1" is not allowed. ' + ALLOWED),
+            ("(t := 1)", 'forcing: an assignment "t := 1" is not allowed in "(t := 1)". ' + ALLOWED),
+            ("F0 % 2", 'forcing: the operator "%" is not allowed in "F0 % 2". ' + ALLOWED),
+            ("not t", 'forcing: the operator "not" is not allowed in "not t". ' + ALLOWED),
+            ("True", 'forcing: "True" is not allowed. ' + ALLOWED),
+        ],
+    )
+    def test_injection_corpus(self, text, text_message):
+        """Each trick is refused with the offending piece and what is allowed."""
+        assert refused(text) == text_message
+
+    def test_caret(self):
+        """^ is refused with the advice to use **."""
+        assert (
+            refused("F0*t^2")
+            == 'forcing: the operator "^" is not a power in "F0*t^2". Use ** for powers, for example t**2.'
+        )
+
+    def test_unknown_name_with_suggestion(self):
+        """An undeclared name is refused, suggesting the closest declared one."""
+        assert (
+            refused("F0*cos(ww*t)")
+            == 'forcing: unknown name "ww" in "F0*cos(ww*t)". Did you mean "w"? ' + ALLOWED
+        )
+
+    def test_unknown_name_without_suggestion(self):
+        """With nothing close, the allowed names are listed."""
+        assert refused("omega*t") == 'forcing: unknown name "omega" in "omega*t". ' + ALLOWED
+
+    def test_function_without_call(self):
+        """A function name alone is refused."""
+        assert refused("sin") == (
+            'forcing: the function "sin" is used without an argument. '
+            "Call it with its argument in parentheses, for example sin(w*t)."
+        )
+
+    def test_two_arguments(self):
+        """Functions take one argument."""
+        assert refused("sin(t, 2)") == (
+            'forcing: "sin(t, 2)" gives sin 2 arguments. Give sin one argument, for example sin(w*t).'
+        )
+
+    def test_syntax_error(self):
+        """Text Python cannot parse gives the column and advice."""
+        assert refused("F0*cos(w*t") == (
+            'forcing: cannot read "F0*cos(w*t" as an expression (column 7). '
+            "Check for a missing operator or parenthesis; write products with * (2*t, not 2t)."
+        )
+
+    def test_implicit_product(self):
+        """2t is not read as 2*t."""
+        assert refused("2t").startswith('forcing: cannot read "2t" as an expression (column 1).')
+
+    @pytest.mark.parametrize(
+        ("text", "piece"), [("1/0", "1/0"), ("F0/(t-t)", "F0/(t-t)"), ("0**-1", "0**-1")]
+    )
+    def test_division_by_zero(self, text, piece):
+        """Division by zero is refused."""
+        expected = f'forcing: division by zero "{piece}". Check the divisor.'
+        assert refused(text) == expected
+
+    @pytest.mark.parametrize("text", ["9**9**9", "t**1000", "t**(-101)"])
+    def test_large_power(self, text):
+        """Powers that would hang or make no sense are refused before they are computed."""
+        assert (
+            refused(text)
+            == f'forcing: the power "{text}" is too large. Use real exponents between -100 and 100.'
+        )
+
+    def test_power_of_big_number(self):
+        """A power whose value would have too many digits is refused."""
+        assert refused("((10**100)**100)**100") == (
+            'forcing: the power "(10**100)**100" is too large in "((10**100)**100)**100". Keep numbers under 10000 digits.'
+        )
+
+    @pytest.mark.parametrize("text", ["1e999", "1e-400"])
+    def test_number_out_of_range(self, text):
+        """Numbers written beyond the float range are refused."""
+        assert refused(text) == f'forcing: the number "{text}" is out of range. Give a finite number.'
+
+    def test_imaginary(self):
+        """Imaginary numbers are refused."""
+        assert (
+            refused("2j*t")
+            == 'forcing: the imaginary number "2j" is not allowed in "2j*t". Write real expressions only.'
+        )
+
+    def test_empty(self):
+        """Empty text is refused."""
+        assert (
+            refused("   ")
+            == 'forcing: the expression is empty. Write an expression, for example "F0*cos(w*t)".'
+        )
+
+    def test_not_text(self):
+        """A number where text is expected is refused."""
+        assert refused(3) == (
+            'forcing: expected the expression as text, got int 3. Write the expression in quotes, for example "F0*cos(w*t)".'
+        )
+
+    def test_too_long(self):
+        """Very long text is refused before parsing."""
+        assert refused("t+" * 1000 + "t") == (
+            "forcing: the expression is 2001 characters long. Keep expressions under 2000 characters."
+        )
+
+    def test_too_deep(self):
+        """Deep nesting is refused, not a RecursionError."""
+        assert refused("-" * 1500 + "t") == (
+            "forcing: the expression is nested too deeply. Write a shorter, less nested expression."
+        )
+
+    @pytest.mark.parametrize("name", ["t", "pi", "sin"])
+    def test_reserved_names(self, name):
+        """t, pi and function names cannot be declared as inputs."""
+        with pytest.raises(InputsError) as excinfo:
+            parse_expression("1", {name: sp.Symbol("x")}, where="forcing")
+        assert message(excinfo) == (
+            f'forcing: the name "{name}" is reserved. '
+            "Pass the time symbol as t=; do not declare t, pi or the function names as inputs."
+        )
+
+    def test_bad_name_value(self):
+        """Names must stand for symbols or numbers."""
+        with pytest.raises(InputsError) as excinfo:
+            parse_expression("m", {"m": "250 kg"}, where="forcing")
+        assert message(excinfo) == (
+            "forcing: the name \"m\" stands for str '250 kg'. Declare each name as a sympy symbol or a number."
+        )
+
+    def test_errors_are_calc_errors(self):
+        """Refusals are CalcErrors and ValueErrors."""
+        with pytest.raises(CalcError):
+            parse_expression("t.x", {}, where="f")
+        with pytest.raises(ValueError):
+            parse_expression("t.x", {}, where="f")
+
+
+class TestNothingRuns:
+    def test_no_file_created(self, tmp_path):
+        """Expressions that would write a file if run leave no file behind."""
+        target = tmp_path / "made"
+        tricks = [
+            f"open({str(target)!r}, 'w')",
+            f"__import__('pathlib').Path({str(target)!r}).touch()",
+            f"exec(\"open({str(target)!r}, 'w')\")",
+            f"(lambda: open({str(target)!r}, 'w'))()",
+            f"[open({str(target)!r}, 'w') for _ in (1,)]",
+        ]
+        for text in tricks:
+            with pytest.raises(InputsError):
+                parse_expression(text, {}, where="forcing")
+        assert not target.exists()
+
+    def test_no_eval_during_parsing(self, monkeypatch):
+        """Parsing works with eval, exec and sympy's text readers disabled."""
+
+        def forbidden(*args, **kwargs):
+            raise AssertionError("text was evaluated")
+
+        monkeypatch.setattr(builtins, "eval", forbidden)
+        monkeypatch.setattr(builtins, "exec", forbidden)
+        monkeypatch.setattr(sp, "sympify", forbidden)
+        monkeypatch.setattr(sp, "parse_expr", forbidden)
+        result = parse_expression("F0*cos(w*t) + 0.5*sinh(t)", NAMES, where="forcing")
+        assert result == F0 * sp.cos(W * T) + sp.sinh(T) / 2
+
+    def test_module_calls_no_evaluator(self):
+        """The module's source calls none of eval, exec, compile, sympify, parse_expr."""
+        tree = ast.parse(Path(inputs_module.__file__).read_text(encoding="utf-8"))
+        names, attributes = set(), set()
+        for node in ast.walk(tree):
+            if isinstance(node, ast.Call) and isinstance(node.func, ast.Name):
+                names.add(node.func.id)
+            elif isinstance(node, ast.Call) and isinstance(node.func, ast.Attribute):
+                attributes.add(node.func.attr)
+        assert not names & {"eval", "exec", "compile", "sympify", "parse_expr", "__import__", "S"}
+        assert not attributes & {"eval", "exec", "sympify", "parse_expr", "literal_eval", "S"}
+
+
+GOOD_TOML = """\
+# Harrow Creek water-treatment works: pump P-101 on its inertia base
+mass = "250 kg"
+stiffness = "12 N/mm"
+zeta = 0.05
+forcing = "F0*cos(w*t)"
+run_up = true
+speeds = ["1400 rpm", "1480 rpm"]
+
+[sheet]
+project = "Harrow Creek water-treatment works"
+calculation = "HCW-VIB-001"
+revision = "B"
+date = 2024-05-02
+
+[machine]
+speed = "1480 rpm"
+"unbalance" = "120 g*mm"
+"""
+
+
+def write(tmp_path: Path, text: str, name: str = "p101.toml") -> Path:
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def read_error(tmp_path: Path, text: str) -> str:
+    path = write(tmp_path, text)
+    with pytest.raises(InputsError) as excinfo:
+        read_inputs(path)
+    return message(excinfo).replace(str(path), "FILE")
+
+
+class TestReadInputs:
+    def test_values_in_order(self, tmp_path):
+        """Inputs come out in file order, groups flattened, raw TOML values."""
+        f = read_inputs(write(tmp_path, GOOD_TOML))
+        assert dict(f.values) == {
+            "mass": "250 kg",
+            "stiffness": "12 N/mm",
+            "zeta": 0.05,
+            "forcing": "F0*cos(w*t)",
+            "run_up": True,
+            "speeds": ("1400 rpm", "1480 rpm"),
+            "speed": "1480 rpm",
+            "unbalance": "120 g*mm",
+        }
+        assert list(f.values) == [
+            "mass",
+            "stiffness",
+            "zeta",
+            "forcing",
+            "run_up",
+            "speeds",
+            "speed",
+            "unbalance",
+        ]
+        assert f.groups["speed"] == "machine" and f.groups["mass"] == ""
+
+    def test_title_block(self, tmp_path):
+        """The [sheet] table becomes the title block; a TOML date becomes ISO text."""
+        f = read_inputs(write(tmp_path, GOOD_TOML))
+        assert f.sheet == TitleBlock(
+            project="Harrow Creek water-treatment works",
+            calculation="HCW-VIB-001",
+            revision="B",
+            date="2024-05-02",
+        )
+
+    def test_frozen(self, tmp_path):
+        """The result cannot be changed."""
+        f = read_inputs(write(tmp_path, GOOD_TOML))
+        with pytest.raises(TypeError):
+            f.values["mass"] = "1 kg"
+        with pytest.raises(AttributeError):
+            f.path = Path("x")
+
+    def test_line_of(self, tmp_path):
+        """Line numbers are found for plain, quoted, grouped and title-block keys."""
+        f = read_inputs(write(tmp_path, GOOD_TOML))
+        assert [f.line_of(k) for k in ("mass", "zeta", "speed", "unbalance", "revision", "nothing")] == [
+            2,
+            4,
+            16,
+            17,
+            12,
+            None,
+        ]
+        assert f.where("speed") == f"{f.path}, line 16, speed"
+
+    def test_assignments(self, tmp_path):
+        """Assignments are the inputs, then title-block fields the template declares."""
+        f = read_inputs(write(tmp_path, GOOD_TOML))
+        assert list(f.assignments()) == list(f.values) + ["project", "calculation", "revision", "date"]
+        assert list(f.assignments(["mass", "revision"])) == list(f.values) + ["revision"]
+
+    def test_empty_file(self, tmp_path):
+        """An empty file has no inputs and an empty title block."""
+        f = read_inputs(write(tmp_path, ""))
+        assert dict(f.values) == {} and f.sheet == TitleBlock()
+
+    def test_broken_toml(self, tmp_path):
+        """Broken TOML gives file, line and column (from tomllib) and what to do."""
+        assert read_error(tmp_path, 'mass = "250 kg"\nstiffness = 12 N/mm\n') == (
+            "FILE, line 2, column 16: the inputs file is not valid TOML: "
+            "expected newline or end of document after a statement. "
+            'Check that line: text needs quotes (mass = "250 kg") and each key is set once.'
+        )
+
+    def test_key_twice(self, tmp_path):
+        """A key set twice in one table is a TOML error."""
+        assert read_error(tmp_path, "zeta = 0.05\nzeta = 0.1\n").startswith(
+            "FILE, line 2, column 11: the inputs file is not valid TOML: cannot overwrite a value."
+        )
+
+    def test_key_in_two_groups(self, tmp_path):
+        """The same input in two groups is refused."""
+        assert read_error(tmp_path, 'mass = "250 kg"\n[base]\nmass = "900 kg"\n') == (
+            'FILE, line 3, mass: the input "mass" is also set in the top level. Give each input once.'
+        )
+
+    @pytest.mark.parametrize(("literal", "shown"), [("nan", "nan"), ("inf", "inf"), ("-inf", "-inf")])
+    def test_not_finite(self, tmp_path, literal, shown):
+        """NaN and infinite floats are refused at reading, with the line."""
+        assert read_error(tmp_path, f'forcing = "t"\nmass = {literal}\n') == (
+            f"FILE, line 2, mass: the value {shown} is not a finite number. Give a finite number."
+        )
+
+    def test_bad_name(self, tmp_path):
+        """Keys that are not Python names are refused."""
+        assert read_error(tmp_path, '"pump speed" = "1480 rpm"\n') == (
+            'FILE, line 1, pump speed: "pump speed" is not usable as an input name. '
+            "Use letters, digits and underscores, starting with a letter (e.g. pump_speed)."
+        )
+
+    def test_nested_table(self, tmp_path):
+        """Only one level of grouping tables."""
+        assert read_error(tmp_path, '[machine.motor]\nspeed = "1480 rpm"\n') == (
+            'FILE: the table "machine.motor" is nested inside "machine". Use one level of tables to group inputs.'
+        )
+
+    def test_date_input(self, tmp_path):
+        """Values other than text, numbers and booleans are refused."""
+        assert read_error(tmp_path, "when = 2024-05-02\n") == (
+            'FILE, line 1, when: a date value cannot be an input. Give text with a unit ("250 kg"), a number or true/false.'
+        )
+
+    def test_unknown_title_field(self, tmp_path):
+        """A misspelt title-block field gets a suggestion."""
+        assert read_error(tmp_path, '[sheet]\nprojekt = "Harrow Creek"\n') == (
+            'FILE, line 2, sheet.projekt: unknown title-block field "projekt". Did you mean "project"? '
+            "The [sheet] table takes project, calculation, revision, author, checker, date."
+        )
+
+    def test_title_field_not_text(self, tmp_path):
+        """Title-block fields are text."""
+        assert read_error(tmp_path, "[sheet]\nrevision = 2\n") == (
+            'FILE, line 2, sheet.revision: expected text, got 2. Write it in quotes, for example revision = "2".'
+        )
+
+    def test_missing_file(self, tmp_path):
+        """A missing file is refused with its path."""
+        path = tmp_path / "none.toml"
+        with pytest.raises(InputsError) as excinfo:
+            read_inputs(path)
+        assert message(excinfo) == f"{path}: the inputs file does not exist. Check the path."
+
+    def test_not_utf8(self, tmp_path):
+        """A file that is not UTF-8 is refused."""
+        path = tmp_path / "latin.toml"
+        path.write_bytes('author = "J. Müller"\n'.encode("latin-1"))
+        with pytest.raises(InputsError) as excinfo:
+            read_inputs(path)
+        assert message(excinfo) == f"{path}: the inputs file is not UTF-8 text. Save it as UTF-8."
+
+
+class TestCheckKeys:
+    EXPECTED = {"mass": "1 kg", "stiffness": "1 N/m", "zeta": 0.0, "project": "", "revision": ""}
+
+    def test_ok(self):
+        """Exactly the expected inputs (title-block fields optional) pass."""
+        check_keys({"mass": "250 kg", "stiffness": "12 N/mm", "zeta": 0.05}, self.EXPECTED, path="p101.toml")
+
+    def test_unknown_and_missing(self):
+        """Unknown keys get a suggestion, missing keys are listed, in one error."""
+        with pytest.raises(InputsError) as excinfo:
+            check_keys({"mass": "250 kg", "stifness": "12 N/mm"}, self.EXPECTED, path="p101.toml")
+        assert message(excinfo) == (
+            'p101.toml: unknown input "stifness" (did you mean "stiffness"?); '
+            'missing inputs "stiffness", "zeta". The template\'s inputs are mass, stiffness, zeta.'
+        )
+
+    def test_missing_one(self):
+        """One missing key is named in the singular."""
+        with pytest.raises(InputsError) as excinfo:
+            check_keys({"mass": "250 kg", "stiffness": "12 N/mm"}, self.EXPECTED, path="p101.toml")
+        assert message(excinfo) == (
+            'p101.toml: missing input "zeta". The template\'s inputs are mass, stiffness, zeta.'
+        )
+
+    def test_unknown_without_suggestion(self):
+        """An unknown key with nothing close gets no suggestion."""
+        with pytest.raises(InputsError) as excinfo:
+            check_keys(
+                {"mass": "1 kg", "stiffness": "1 N/m", "zeta": 0, "colour": "red"}, self.EXPECTED, path="a"
+            )
+        assert (
+            message(excinfo) == 'a: unknown input "colour". The template\'s inputs are mass, stiffness, zeta.'
+        )
+
+    def test_inputs_file_gives_lines(self, tmp_path):
+        """With an InputsFile, unknown keys give their line; [sheet] fields are not inputs."""
+        f = read_inputs(write(tmp_path, '[sheet]\nauthor = "A. Engineer"\n[base]\nmas = "250 kg"\n'))
+        with pytest.raises(InputsError) as excinfo:
+            check_keys(f, {"mass": "1 kg"}, path=f.path)
+        assert message(excinfo) == (
+            f'{f.path}: unknown input "mas" on line 4 (did you mean "mass"?); missing input "mass". '
+            "The template's inputs are mass."
+        )
+
+    def test_optional_names(self):
+        """Names listed as optional may be missing."""
+        check_keys({}, {"mass": "1 kg"}, path="a", optional=["mass"])
+
+
+CELL = '''\
+"""Parameters of the P-101 inertia-base calculation."""
+# pump P-101, Harrow Creek
+mass = "250 kg"
+stiffness = "12 N/mm"  # supplier data
+zeta = 0.05
+offset = -2
+flag = True
+title: str = "P-101"
+'''
+
+
+class TestParametersFromSource:
+    def test_reads_in_order(self):
+        """Literal assignments are read in order, comments and docstring ignored."""
+        params = parameters_from_source(CELL)
+        assert list(params.items()) == [
+            ("mass", "250 kg"),
+            ("stiffness", "12 N/mm"),
+            ("zeta", 0.05),
+            ("offset", -2),
+            ("flag", True),
+            ("title", "P-101"),
+        ]
+
+    @pytest.mark.parametrize(
+        ("source", "text"),
+        [
+            (
+                "import os",
+                'parameters cell, line 1: "import os" is not a plain assignment. '
+                'Keep the parameters cell to lines like mass = "250 kg"; do the work in later cells.',
+            ),
+            (
+                "a = b = 1",
+                'parameters cell, line 1: "a = b = 1" is not a plain assignment. '
+                'Keep the parameters cell to lines like mass = "250 kg"; do the work in later cells.',
+            ),
+            (
+                "x = 1\nprint(x)",
+                'parameters cell, line 2: "print(x)" is not a plain assignment. '
+                'Keep the parameters cell to lines like mass = "250 kg"; do the work in later cells.',
+            ),
+            (
+                "a, b = 1, 2",
+                'parameters cell, line 1: "a, b" is not a plain name. '
+                'Assign to a single name, for example mass = "250 kg".',
+            ),
+            (
+                "mass = Q_(250, 'kg')",
+                "parameters cell, line 1: the value of \"mass\" is not a literal: Q_(250, 'kg'). "
+                "Give text, a number or True/False; compute derived values in later cells.",
+            ),
+            (
+                "k = 2 * 6",
+                'parameters cell, line 1: the value of "k" is not a literal: 2 * 6. '
+                "Give text, a number or True/False; compute derived values in later cells.",
+            ),
+            (
+                "z = -True",
+                'parameters cell, line 1: the value of "z" is not a literal: -True. '
+                "Give text, a number or True/False; compute derived values in later cells.",
+            ),
+            ("m = 1\nm = 2", 'parameters cell, line 2: "m" is set twice. Set each parameter once.'),
+            (
+                "%matplotlib inline",
+                "parameters cell, line 1: the parameters cell is not valid Python (invalid syntax). "
+                'Write one assignment per line, for example mass = "250 kg".',
+            ),
+        ],
+    )
+    def test_refused(self, source, text):
+        """Anything but literal assignments is refused with the line."""
+        with pytest.raises(InputsError) as excinfo:
+            parameters_from_source(source)
+        assert message(excinfo) == text
+
+    def test_nothing_runs(self, tmp_path):
+        """Reading a cell runs none of it."""
+        target = tmp_path / "made"
+        with pytest.raises(InputsError):
+            parameters_from_source(f"x = open({str(target)!r}, 'w')")
+        assert not target.exists()
+
+
+class TestInjectedSource:
+    def test_source(self):
+        """Values are written with repr, one per line, after a comment."""
+        assert injected_source({"mass": "250 kg", "zeta": 0.05, "n": 3, "flag": False}) == (
+            "# Inputs set by calckit build\nmass = '250 kg'\nzeta = 0.05\nn = 3\nflag = False\n"
+        )
+
+    @given(
+        st.dictionaries(
+            st.from_regex(r"[a-z][a-z0-9_]{0,8}", fullmatch=True).filter(
+                lambda s: s not in {"if", "in", "is", "or", "as", "for", "def", "del", "not", "and", "try"}
+            ),
+            st.one_of(
+                st.text(), st.integers(), st.floats(allow_nan=False, allow_infinity=False), st.booleans()
+            ),
+        )
+    )
+    def test_round_trip(self, values):
+        """Reading the injected cell back gives the same values (and types)."""
+        back = parameters_from_source(injected_source(values))
+        assert list(back.items()) == list(values.items())
+        assert [type(v) for v in back.values()] == [type(v) for v in values.values()]
+
+    @pytest.mark.parametrize(
+        ("values", "text"),
+        [
+            ({"mass": math.nan}, "input mass: the value nan is not a finite number. Give a finite number."),
+            (
+                {"speeds": ["1 Hz"]},
+                'input speeds: a list value cannot be passed to a template. Give text ("250 kg"), a number or True/False.',
+            ),
+            (
+                {"pump speed": 1},
+                "inputs: 'pump speed' is not usable as a Python name. Use letters, digits and underscores, starting with a letter.",
+            ),
+            (
+                {"class": 1},
+                "inputs: 'class' is not usable as a Python name. Use letters, digits and underscores, starting with a letter.",
+            ),
+        ],
+    )
+    def test_refused(self, values, text):
+        """Values that cannot be written as literals, and bad names, are refused."""
+        with pytest.raises(InputsError) as excinfo:
+            injected_source(values)
+        assert message(excinfo) == text
+
+
+class TestValueChecks:
+    @pytest.mark.parametrize("value", [Q_(250, "kg"), 3, 0.5, sp.Rational(1, 3), sp.sqrt(2)])
+    def test_positive_passes(self, value):
+        """Positive values come back unchanged."""
+        assert positive(value, "mass") is value
+
+    @pytest.mark.parametrize(
+        ("value", "shown"),
+        [(Q_(0, "kg"), "0 kg"), (Q_(-250, "kg"), "-250 kg"), (0, "0"), (sp.Integer(-2), "-2")],
+    )
+    def test_positive_refuses(self, value, shown):
+        """Zero or negative mass is refused with what to do."""
+        with pytest.raises(InputsError) as excinfo:
+            positive(value, "mass")
+        assert (
+            message(excinfo)
+            == f"mass: must be greater than zero, got {shown}. Check the value and its sign in the inputs."
+        )
+
+    def test_non_negative(self):
+        """Zero passes non_negative; a negative value does not."""
+        assert non_negative(Q_(0, "N*s/m"), "c") == Q_(0, "N*s/m")
+        with pytest.raises(InputsError) as excinfo:
+            non_negative(-0.01, "zeta")
+        assert (
+            message(excinfo)
+            == "zeta: must be zero or more, got -0.01. Check the value and its sign in the inputs."
+        )
+
+    @pytest.mark.parametrize(
+        ("value", "shown"),
+        [(math.nan, "nan"), (math.inf, "inf"), (Q_(math.inf, "N/m"), "inf N/m"), (sp.oo, "oo")],
+    )
+    def test_finite_refuses(self, value, shown):
+        """NaN and infinity are refused."""
+        with pytest.raises(InputsError) as excinfo:
+            finite(value, "stiffness")
+        assert message(excinfo) == f"stiffness: {shown} is not a finite number. Give a finite number."
+
+    def test_positive_refuses_nan(self):
+        """positive() also refuses NaN, which compares false both ways."""
+        with pytest.raises(InputsError, match="is not a finite number"):
+            positive(math.nan, "mass")
+
+    @pytest.mark.parametrize(
+        ("value", "text"),
+        [
+            (True, "mass: got a truth value True. Give a number."),
+            ("250 kg", "mass: expected a number or a quantity, got str '250 kg'. Give a number."),
+            (sp.Symbol("m"), "mass: m is not a number. Give a number."),
+            (sp.I, "mass: I is not a real number. Give a real number."),
+        ],
+    )
+    def test_not_numbers(self, value, text):
+        """Things that are not real numbers are refused."""
+        with pytest.raises(InputsError) as excinfo:
+            positive(value, "mass")
+        assert message(excinfo) == text
+
+
+def test_title_fields_match_title_block():
+    """TITLE_FIELDS lists the TitleBlock fields in order."""
+    assert tuple(TitleBlock.__dataclass_fields__) == TITLE_FIELDS
+
+
+def test_inputs_file_line_of_without_text():
+    """line_of gives None when the text is not kept."""
+    assert InputsFile(Path("x.toml"), {"mass": "1 kg"}).line_of("mass") is None
