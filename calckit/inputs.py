@@ -67,6 +67,7 @@ import sympy as sp
 
 from .errors import InputsError
 from .exact import exact
+from .units import fmt
 
 __all__ = [
     "FUNCTIONS",
@@ -758,8 +759,6 @@ def injected_source(values: Mapping[str, Any]) -> str:
 
 def _magnitude(q: Any, where: str) -> tuple[float | sp.Expr, str]:
     """A comparable magnitude of *q* and how to show it."""
-    from .units import fmt
-
     if isinstance(q, bool):
         raise InputsError(f"got a truth value {q!r}", where=where, do="Give a number")
     if isinstance(q, pint.Quantity):

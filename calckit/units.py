@@ -51,6 +51,7 @@ import pint
 import sympy as sp
 
 from .errors import UnitsError
+from .exact import exact as _exact
 
 __all__ = [
     "ureg",
@@ -345,10 +346,6 @@ def _check_kind(q: pint.Quantity, kind: Kind, where: str, shown: str) -> None:
     )
 
 
-def _as_quantity(value: Any, where: str) -> pint.Quantity:
-    return quantity(value, where)
-
-
 class SIValue(NamedTuple):
     """A magnitude in SI units (exact sympy number) and the SI unit's text."""
 
@@ -402,16 +399,14 @@ def to_si(q: Any, where: str) -> SIValue:
     >>> to_si("2.5 kg", "m").magnitude
     5/2
     """
-    from .exact import exact
-
-    q = _as_quantity(q, where)
+    q = quantity(q, where)
     if np.ndim(q.magnitude) != 0:
         raise UnitsError(
             "expected a single value, got an array", where=where, do="Convert one value at a time"
         )
-    magnitude = exact(q.magnitude, where)
+    magnitude = _exact(q.magnitude, where)
     if Q_(0, q.units).to_base_units().magnitude != 0:  # offset unit (degC): convert in floats
-        return SIValue(exact(q.to_base_units().magnitude, where), _si_unit_text(q))
+        return SIValue(_exact(q.to_base_units().magnitude, where), _si_unit_text(q))
     factor = _exact_factor(str(q.units))
     return SIValue(magnitude * factor, _si_unit_text(q))
 
