@@ -32,7 +32,7 @@ CONSTRUCTS = (
     Construct("square root", r"\omega_n = \sqrt{\frac{k}{m}}", ("msqrt", "mfrac", "msub"), True),
     Construct("subscripts", r"\omega_n, \; x_p, \; \omega_{d}", ("msub",), True),
     Construct("greek", r"\zeta, \omega, \lambda, \phi", ("mi",), True),
-    Construct("primes", r"m x'' + c x' + k x = f(t)", ("msup",), True),
+    Construct("primes", r"m x'' + c x' + k x = f(t)", ("mo", "mrow"), True),
     Construct("dots", r"m \ddot x + c \dot x + k x = f(t)", ("mover",), True),
     Construct("stretchy fences", r"\left( 1 - r^{2} \right)^{2}", ("mo", "msup"), True),
     Construct(
@@ -106,10 +106,25 @@ class TestConstructs:
         assert _texts(root, "mi") == ["\u03b6", "\u03c9", "\u03bb", "\u03d5", "\u03c6"]
 
     def test_primes_are_prime_characters(self):
-        """x'' carries U+2033 (double prime) and x' U+2032 as superscripts."""
+        """x'' and x' carry U+2033 (double prime) and U+2032 at full size, not as superscripts.
+
+        Prime characters are drawn raised already; as superscripts they shrank
+        to a speck in Chromium (seen in a screenshot).
+        """
         root = _tree(latex_to_mathml(r"x'' + x'"))
-        supers = [sup[1].text for sup in root.iter(NS + "msup")]
-        assert supers == ["\u2033", "\u2032"]
+        assert not list(root.iter(NS + "msup"))
+        marks = [e for e in root.iter(NS + "mo") if e.text in ("\u2032", "\u2033")]
+        assert [(e.text, e.get("lspace"), e.get("rspace")) for e in marks] == [
+            ("\u2033", "0", "0"),
+            ("\u2032", "0", "0"),
+        ]
+
+    def test_primed_subscript(self):
+        """x_p' and x_{p}'' put the prime on x and keep p as the subscript."""
+        for latex, prime in ((r"x_p'", "\u2032"), (r"x_{p}''", "\u2033")):
+            sub = next(_tree(latex_to_mathml(latex)).iter(NS + "msub"))
+            assert [e.text for e in sub[0]] == ["x", prime]
+            assert [e.text for e in sub[1].iter(NS + "mi")] == ["p"]
 
     def test_fraction_keeps_numerator_and_denominator_apart(self):
         """\\frac{F_0}{k} has F_0 in the first child of <mfrac> and k in the second."""
@@ -135,28 +150,59 @@ class TestRepairs:
         root = _tree(latex_to_mathml(r"x &= 1 \\ y &= 2"))
         assert len(list(root.iter(NS + "mtr"))) == 2
 
+    def test_aligned_cells_carry_css_alignment(self):
+        """Chromium ignores columnalign, so each cell carries text-align, and the pair sits tight."""
+        root = _tree(latex_to_mathml(r"a &= b & c &= d"))
+        styles = [td.get("style") for td in root.iter(NS + "mtd")]
+        assert styles == [
+            "text-align: right; padding-right: 0; padding-left: 0",
+            "text-align: left; padding-left: 0",
+            "text-align: right; padding-right: 0; padding-left: 1em",
+            "text-align: left; padding-left: 0",
+        ]
+
+    def test_sign_after_relation_is_unary(self):
+        """In '= -A' and '(-x)' the minus is a prefix sign with no space; in 'a - b' it stays binary."""
+        root = _tree(latex_to_mathml(r"y = -A \left(-x\right) - b"))
+        minus = [e for e in root.iter(NS + "mo") if e.text == "\u2212"]
+        assert [(e.get("form"), e.get("lspace")) for e in minus] == [
+            ("prefix", "0"),
+            ("prefix", "0"),
+            (None, None),
+        ]
+
+    def test_solidus_is_tight(self):
+        """The / in N/m has no operator space either side."""
+        slash = next(e for e in _tree(latex_to_mathml(r"\mathrm{N/m}")).iter(NS + "mo") if e.text == "/")
+        assert (slash.get("lspace"), slash.get("rspace")) == ("0", "0")
+
     def test_gathered_becomes_centred_table(self):
         """gathered rows become centred <mtable> rows."""
         root = _tree(latex_to_mathml(r"\begin{gathered} a = 1 \\ b = 2 \end{gathered}"))
         assert [td.get("columnalign") for td in root.iter(NS + "mtd")] == ["center", "center"]
 
     def test_operator_name_with_digit(self):
-        """\\operatorname{atan2} is one upright operator, not an empty <mo/> and italic letters."""
+        """\\operatorname{atan2} is one function name like cos, not an empty <mo/> and italic letters."""
         root = _tree(latex_to_mathml(r"\operatorname{atan2}(y, x)"))
-        assert "atan2" in _texts(root, "mo")
+        assert _texts(root, "mi")[0] == "atan2"
         assert "" not in _texts(root, "mo")
+
+    def test_operator_name_spaced_like_cos(self):
+        """A letters-only operator name becomes <mi>, as latex2mathml writes \\cos."""
+        root = _tree(latex_to_mathml(r"\operatorname{sgn} x + \cos x"))
+        assert _texts(root, "mi") == ["sgn", "x", "cos", "x"]
 
     def test_operator_name_with_subscript(self):
         """\\operatorname{atan_{2}} (an older sympy form) becomes atan with subscript 2."""
         root = _tree(latex_to_mathml(r"\operatorname{atan_{2}}{\left(y,x\right)}"))
         sub = next(root.iter(NS + "msub"))
-        assert sub[0].tag == NS + "mo" and sub[0].text == "atan"
+        assert sub[0].tag == NS + "mi" and sub[0].text == "atan"
 
     def test_sympy_atan2_converts(self):
         """sympy.latex(atan2(y, x)) converts with the operator name kept."""
         y, x = sp.symbols("y x")
         root = _tree(latex_to_mathml(sp.latex(sp.atan2(y, x))))
-        assert "atan" in _texts(root, "mo")
+        assert "atan" in _texts(root, "mi")
 
     def test_single_letter_unit_is_upright(self):
         """\\mathrm{m} keeps mathvariant="normal", like \\mathrm{kg} does."""

@@ -137,6 +137,12 @@ def latex_to_mathml(latex: str, *, display: bool = True) -> str:
         raise SheetError(what, where=where, do="Correct the LaTeX") from exc
     for element in root.iter():
         _repair(element, names, where)
+    for element in reversed(list(root.iter())):  # children before their parents
+        _fold_primes(element)
+    for element in root.iter("mtable"):
+        _align_cells(element)
+    for element in root.iter():
+        _mark_unary_signs(element)
     return ET.tostring(root, encoding="unicode")
 
 
@@ -221,6 +227,11 @@ def _repair(element: ET.Element, names: dict[str, str], where: str) -> None:
         text = _TEXT_ESCAPE.sub(r"\1", text)
     if tag == "mo" and text in names:
         text = names[text]
+    if tag == "mo" and not element.attrib and re.fullmatch(r"[A-Za-z][A-Za-z0-9]+", text):
+        element.tag = "mi"  # an operator name is spaced like \cos, with no gap before "("
+    if tag == "mo" and text == "/":
+        element.set("lspace", "0")  # a solidus sits tight, as in N/m or F/k
+        element.set("rspace", "0")
     if tag == "mi" and element.get("mathvariant") == "bold-italic" and len(text) == 1 and text.isascii():
         text = _bold_italic(text)
         del element.attrib["mathvariant"]
@@ -248,6 +259,112 @@ def _repair(element: ET.Element, names: dict[str, str], where: str) -> None:
         element.text = text
     if element.tail:
         element.tail = html.unescape(element.tail)
+
+
+_PRIMES = frozenset("\u2032\u2033\u2034\u2057")
+
+
+def _prime_text(element: ET.Element) -> str | None:
+    """The primes an element holds, when it holds nothing else."""
+    if element.tag == "mrow" and len(element) == 1:
+        element = element[0]
+    text = element.text or ""
+    if element.tag in ("mi", "mo") and not len(element) and text and set(text) <= _PRIMES:
+        return text
+    return None
+
+
+def _prime_mark(text: str) -> ET.Element:
+    mark = ET.Element("mo", lspace="0", rspace="0")
+    mark.text = text
+    return mark
+
+
+def _fold_primes(element: ET.Element) -> None:
+    """Write x' as x followed by a prime at full size, not as a tiny superscript.
+
+    Prime characters are drawn raised already; as a superscript they shrink to
+    a speck. ``x_p'`` becomes x-prime with subscript p, as TeX sets it.
+    """
+    if element.tag not in ("msup", "msubsup") or len(element) != (2 if element.tag == "msup" else 3):
+        return
+    primes = _prime_text(element[-1])
+    if primes is None:
+        return
+    base = element[0]
+    if element.tag == "msubsup":
+        sub = element[1]
+        for child in list(element):
+            element.remove(child)
+        element.tag = "msub"
+        element.extend([ET.Element("mrow"), sub])
+        element[0].extend([base, _prime_mark(primes)])
+        return
+    element.remove(element[-1])
+    element.tag = "mrow"
+    inner = base[0] if base.tag == "msub" and len(base) == 2 else None
+    if inner is not None and inner.tag == "mrow" and len(inner) and _prime_text(inner[-1]):
+        inner[-1].text = _join_primes((inner[-1].text or "") + primes)  # x_p'' read as (x_p')'
+    else:
+        element.append(_prime_mark(primes))
+
+
+def _join_primes(text: str) -> str:
+    count = sum({"\u2032": 1, "\u2033": 2, "\u2034": 3, "\u2057": 4}[c] for c in text)
+    return {1: "\u2032", 2: "\u2033", 3: "\u2034", 4: "\u2057"}.get(count, "\u2032" * count)
+
+
+_SIGNS = frozenset("+\u2212\u00b1\u2213")
+_CLOSERS = frozenset(")]}|\u2016\u232a\u27e9")
+
+
+def _mark_unary_signs(parent: ET.Element) -> None:
+    """Set a sign right after an operator, relation or opening fence tight, as TeX does.
+
+    latex2mathml writes ``= -A`` as two infix operators, which browsers space
+    as "= − A"; the sign is made to hug what it negates.
+    """
+    previous = None
+    for child in parent:
+        if (
+            child.tag == "mo"
+            and (child.text or "") in _SIGNS
+            and previous is not None
+            and previous.tag == "mo"
+            and (previous.text or "") not in _CLOSERS
+            and previous.get("form") != "postfix"
+        ):
+            child.set("form", "prefix")
+            child.set("lspace", "0")
+            child.set("rspace", "0")
+        previous = child
+
+
+_ALIGN = {"left": "left", "right": "right", "center": "center"}
+
+
+def _align_cells(table: ET.Element) -> None:
+    """Carry column alignment into CSS, which Chromium reads (it ignores ``columnalign``).
+
+    Tables from aligned steps (``columnspacing="0em"``) also lose the padding
+    between each right-aligned cell and the left-aligned cell after it, so the
+    relation signs line up as in TeX; pairs of columns are 1 em apart.
+    """
+    tight = (table.get("columnspacing") or "").split()[:1] == ["0em"]
+    for row in table.iter("mtr"):
+        for index, cell in enumerate(c for c in row if c.tag == "mtd"):
+            rules = []
+            align = _ALIGN.get(cell.get("columnalign", ""))
+            if align:
+                rules.append(f"text-align: {align}")
+            if tight:
+                if index % 2 == 0:
+                    rules.append("padding-right: 0")
+                    rules.append(f"padding-left: {'0' if index == 0 else '1em'}")
+                else:
+                    rules.append("padding-left: 0")
+            if rules:
+                cell.set("style", "; ".join(rules))
 
 
 def _bold_italic(letter: str) -> str:
