@@ -46,6 +46,16 @@ systems, ``\operatorname{atan2}``, ``\cdot``, units after ``\;\mathrm{N/m}``,
     * Unknown commands (``\foo``, ``\label``) pass through as text: they are
       refused with :class:`calckit.errors.SheetError`.
 
+    Seen in Chromium screenshots and repaired for layout:
+
+    * primes as superscripts (``<msup>x ′</msup>``) shrink to a speck: they
+      follow the base at full size, and ``x_p'`` becomes x-prime sub p;
+    * Chromium ignores ``columnalign`` and ``columnspacing``: cells carry
+      ``text-align`` and padding in ``style`` so relation signs line up;
+    * ``/`` in units and ``-`` after ``=`` or ``(`` were spaced as binary
+      operators: they are set tight;
+    * operator names become ``<mi>`` like ``\cos``, with no gap before "(".
+
 Decision: latex2mathml for everything, with the repairs above.
 """
 
