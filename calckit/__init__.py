@@ -3,6 +3,8 @@
 The public API is listed in ``__all__``; see ``shared/DESIGN.md`` for the contract.
 """
 
+from . import units
+from ._version import __version__
 from .errors import (
     BuildError,
     CalcError,
@@ -16,9 +18,8 @@ from .errors import (
 from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
 from .oscillator import REGIMES, HarmonicLine, Oscillator
 from .response import Response
+from .sheet import DEFAULT_CAUTION, Check, Sheet
 from .undetermined import Derivation, LinearODE
-
-__version__ = "0.1.0"
 
 __all__ = [
     "__version__",
@@ -35,9 +36,13 @@ __all__ = [
     "Oscillator",
     "REGIMES",
     "Response",
+    "Sheet",
+    "Check",
+    "DEFAULT_CAUTION",
     "ModelError",
     "OverwriteError",
     "SheetError",
     "UnitsError",
     "split_forcing",
+    "units",
 ]

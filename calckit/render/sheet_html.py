@@ -1,0 +1,291 @@
+"""A calculation sheet as HTML: the exported page and the notebook view.
+
+The same functions build the file and the notebook display, so what the
+engineer sees while working is what the checker reads. Blocks appear in the
+order they were added, except that inputs are gathered into one table, and
+checks, references and notes into their own sections.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import sympy as sp
+
+from ..sheet import (
+    RELATIONS,
+    CalcStep,
+    Check,
+    DerivationBlock,
+    Figure,
+    ResultLine,
+    Sheet,
+    SheetInput,
+    TextBlock,
+    _shown,
+)
+from .page import SHEET_CSS, Html, escape, html_page, math_block, math_inline, section, table
+
+__all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block"]
+
+
+def _latex_of(obj: Any) -> str:
+    """LaTeX of anything in the display pipeline, without $$ delimiters."""
+    if hasattr(obj, "latex") and callable(obj.latex):
+        text = obj.latex()
+    elif hasattr(obj, "_repr_latex_"):
+        text = obj._repr_latex_()
+    else:
+        text = sp.latex(obj)
+    text = text.strip()
+    for left, right in (("$$", "$$"), ("$", "$")):
+        if text.startswith(left) and text.endswith(right) and len(text) > 2 * len(left):
+            return text[len(left) : -len(right)].strip()
+    return text
+
+
+def _input_rows(sheet: Sheet) -> list[list[Any]]:
+    rows = []
+    for rec in sheet.inputs.values():
+        value = rec.value
+        if isinstance(value, sp.Basic) and not value.is_number:
+            shown = math_inline(sp.latex(value))
+        else:
+            shown = escape(_shown(value)) if hasattr(value, "units") else escape(rec.text)
+        rows.append([math_inline(rec.symbol), rec.description, shown, rec.source or "not given"])
+    return rows
+
+
+def _check_rows(checks: list[Check]) -> list[list[Any]]:
+    rows = []
+    for check in checks:
+        criterion = Html(f"value {escape(check.relation.replace('<=', '≤').replace('>=', '≥'))} limit")
+        verdict = Html(
+            f'<span class="verdict {"verdict-met" if check.met else "verdict-not-met"}">'
+            f"{'met' if check.met else 'NOT MET'}</span>"
+        )
+        rows.append(
+            [
+                check.name,
+                criterion,
+                check.shown_value,
+                check.shown_limit,
+                f"{check.margin_percent:+.1f} %",
+                verdict,
+                check.basis or "not given",
+            ]
+        )
+    return rows
+
+
+def _step_html(number: str, title: str, latex: str, reference: str) -> Html:
+    ref = f'<p class="step-ref">Reference: {escape(reference)}</p>' if reference else ""
+    heading = (
+        f'<h3><span class="number">{escape(number)}</span> {escape(title)}</h3>'
+        if title
+        else (f'<h3><span class="number">{escape(number)}</span></h3>')
+    )
+    return Html(f'<div class="step">{heading}{math_block(latex)}{ref}</div>')
+
+
+def block_html(block: Any, number: str = "") -> Html:
+    """One block as HTML (used both in the page and in the notebook)."""
+    if isinstance(block, SheetInput):
+        return table(
+            ["Symbol", "Description", "Value", "Source"],
+            [_input_rows_single(block)],
+            cls="inputs",
+        )
+    if isinstance(block, CalcStep):
+        return _step_html(number, block.title or block.name, _latex_of(block.record), block.reference)
+    if isinstance(block, ResultLine):
+        value = block.value
+        shown = _shown(value)
+        latex = (
+            f"{block.symbol} = \\text{{{shown}}}"
+            if hasattr(value, "units") or isinstance(value, (int, float))
+            else f"{block.symbol} = {sp.latex(value)}"
+        )
+        return _step_html(number, block.title or block.name, latex, block.reference)
+    if isinstance(block, DerivationBlock):
+        from .display import derivation_html
+
+        inner = derivation_html(block.derivation, level=block.level)
+        verdict = "verified by substitution" if block.derivation.verified else "NOT verified"
+        return Html(
+            f'<div class="derivation"><h3><span class="number">{escape(number)}</span> '
+            f'{escape(block.title)} <span class="tag">({verdict})</span></h3>{inner}</div>'
+        )
+    if isinstance(block, Figure):
+        return Html(
+            f'<figure class="figure">{block.svg}<figcaption>Figure {escape(number)}. '
+            f"{escape(block.caption)}</figcaption></figure>"
+        )
+    if isinstance(block, Check):
+        return table(
+            ["Check", "Criterion", "Value", "Limit", "Margin", "Verdict", "Basis"],
+            _check_rows([block]),
+            cls="checks",
+        )
+    if isinstance(block, TextBlock):
+        return Html(
+            f'<p class="{escape(block.kind)}"><em>{escape(block.kind.capitalize())}:</em> {escape(block.text)}</p>'
+        )
+    raise TypeError(f"no HTML for {type(block).__name__}")
+
+
+def _input_rows_single(rec: SheetInput) -> list[Any]:
+    class _One:
+        inputs = {rec.name: rec}
+
+    return _input_rows(_One)[0]  # type: ignore[arg-type]
+
+
+def _title_block(sheet: Sheet) -> Html:
+    tb = sheet.title
+    cells = [
+        ("Project", tb.project),
+        ("Calculation no.", tb.number),
+        ("Revision", tb.revision),
+        ("Subject", tb.subject),
+        ("Prepared by", tb.author),
+        ("Checked by", tb.checker or "(not yet checked)"),
+        ("Date", tb.date),
+    ]
+    rows = "".join(f"<tr><th>{escape(k)}</th><td>{escape(v)}</td></tr>" for k, v in cells)
+    return Html(f'<table class="title-block"><tbody>{rows}</tbody></table>')
+
+
+def _summary(sheet: Sheet) -> Html:
+    n, met = len(sheet.checks), sheet.checks_met
+    if not n:
+        text = "No acceptance checks on this sheet."
+    elif met == n:
+        text = f"Acceptance checks: all {n} met."
+    else:
+        text = f"Acceptance checks: {met} of {n} met; {n - met} NOT MET (see section on checks)."
+    return Html(f'<p class="summary">{escape(text)}</p>')
+
+
+def _caution(sheet: Sheet) -> Html:
+    if not sheet.caution:
+        return Html("")
+    return Html(f'<div class="caution">{escape(sheet.caution)}</div>')
+
+
+def _signoff(sheet: Sheet) -> Html:
+    tb = sheet.title
+    rows = [
+        ["Prepared", tb.author, "", tb.date],
+        ["Checked", tb.checker, "", ""],
+        ["Approved", tb.approver, "", ""],
+    ]
+    return Html(
+        '<div class="signoff"><h2>Sign-off</h2>'
+        + table(["Role", "Name", "Signature", "Date"], rows, cls="signoff")
+        + "</div>"
+    )
+
+
+def _body(sheet: Sheet) -> Html:
+    parts = [_title_block(sheet), _summary(sheet), _caution(sheet)]
+    n = 0
+
+    def next_section(title: str, inner: str) -> None:
+        nonlocal n
+        n += 1
+        parts.append(section(n, title, inner))
+
+    if sheet.inputs:
+        next_section(
+            "Inputs",
+            table(["Symbol", "Description", "Value", "Source"], _input_rows(sheet), cls="inputs"),
+        )
+    assumptions = [b for b in sheet.of_type(TextBlock) if b.kind == "assumption"]
+    if assumptions:
+        next_section(
+            "Assumptions", "<ol>" + "".join(f"<li>{escape(b.text)}</li>" for b in assumptions) + "</ol>"
+        )
+    calc_blocks = [b for b in sheet.blocks if isinstance(b, (CalcStep, ResultLine, DerivationBlock, Figure))]
+    if calc_blocks:
+        section_number = n + 1
+        inner, step_no, fig_no = [], 0, 0
+        for block in calc_blocks:
+            if isinstance(block, Figure):
+                fig_no += 1
+                inner.append(block_html(block, str(fig_no)))
+            else:
+                step_no += 1
+                inner.append(block_html(block, f"{section_number}.{step_no}"))
+        next_section("Calculation", "".join(inner))
+    if sheet.checks:
+        next_section(
+            "Acceptance checks",
+            table(
+                ["Check", "Criterion", "Value", "Limit", "Margin", "Verdict", "Basis"],
+                _check_rows(sheet.checks),
+                cls="checks",
+            ),
+        )
+    references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
+    if references:
+        next_section(
+            "References", "<ol>" + "".join(f"<li>{escape(b.text)}</li>" for b in references) + "</ol>"
+        )
+    notes = [b for b in sheet.of_type(TextBlock) if b.kind == "note"]
+    if notes:
+        next_section("Notes", "".join(f"<p>{escape(b.text)}</p>" for b in notes))
+    parts.append(_signoff(sheet))
+    parts.append(
+        Html(
+            f'<p class="fingerprint">Built with calckit {escape(sheet.record()["calckit"])}. '
+            f"Fingerprint (SHA-256 of inputs, kit version and template): <code>{sheet.fingerprint}</code></p>"
+        )
+    )
+    return Html(f'<div class="sheet" data-fingerprint="{sheet.fingerprint}">' + "".join(parts) + "</div>")
+
+
+def sheet_page(sheet: Sheet) -> str:
+    """The whole sheet as one self-contained HTML page."""
+    tb = sheet.title
+    ident = " ".join(x for x in (tb.number, f"rev. {tb.revision}" if tb.revision else "") if x)
+    return html_page(
+        f"{tb.number} {tb.subject}".strip(),
+        _body(sheet),
+        header_left=tb.project,
+        header_right=ident,
+        footer_left=f"{ident} · {tb.subject}" if ident else tb.subject,
+        footer_right=f"fingerprint {sheet.fingerprint[:12]}",
+    )
+
+
+def sheet_fragment(sheet: Sheet) -> str:
+    """The sheet for a notebook: the page body with its style, scoped to the sheet."""
+    return f"<style>{_scoped_css()}</style>{_body(sheet)}"
+
+
+def _scoped_css() -> str:
+    # keep the notebook's own styles intact: only the sheet's classes, no @page rules
+    keep = []
+    for chunk in SHEET_CSS.split("}"):
+        head = chunk.split("{")[0]
+        if any(sel in head for sel in ("html", "body", ":root", "@page", "@media")):
+            continue
+        if chunk.strip():
+            keep.append(".sheet " + chunk.strip().replace(",\n", ", .sheet ") + "}")
+    return "\n".join(keep)
+
+
+def show_block(sheet: Sheet, block: Any) -> None:
+    """Display a block just added, in a running IPython kernel."""
+    from IPython.display import HTML, display
+
+    number = ""
+    if isinstance(block, (CalcStep, ResultLine, DerivationBlock)):
+        number = str(sum(isinstance(b, (CalcStep, ResultLine, DerivationBlock)) for b in sheet.blocks))
+    elif isinstance(block, Figure):
+        number = str(len(sheet.of_type(Figure)))
+    display(HTML(f'<div class="sheet">{block_html(block, number)}</div>'))
+
+
+_ = RELATIONS  # relation symbols are shown by _check_rows
