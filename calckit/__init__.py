@@ -19,6 +19,7 @@ from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
 from .oscillator import REGIMES, HarmonicLine, Oscillator
 from .response import Response
 from .sheet import DEFAULT_CAUTION, Check, Sheet
+from .units import Q_, angular_frequency, cyclic_frequency, fmt, quantity, to_si, ureg
 from .undetermined import Derivation, LinearODE
 
 __all__ = [
@@ -45,4 +46,11 @@ __all__ = [
     "UnitsError",
     "split_forcing",
     "units",
+    "ureg",
+    "Q_",
+    "quantity",
+    "to_si",
+    "angular_frequency",
+    "cyclic_frequency",
+    "fmt",
 ]
