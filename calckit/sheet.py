@@ -459,6 +459,8 @@ class Sheet:
             fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None}, bbox_inches="tight")
         svg = buffer.getvalue()
         svg = svg[svg.index("<svg") :]
+        # the RDF metadata block names remote vocabularies; the sheet needs none of it
+        svg = re.sub(r"\s*<metadata>.*?</metadata>", "", svg, flags=re.DOTALL)
         return self._add(Figure(caption, svg))
 
     def assume(self, text: str) -> TextBlock:

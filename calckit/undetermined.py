@@ -31,6 +31,7 @@ Problems*, 11th ed., sec. 3.5 and 4.3 (the modification rule), from memory.
 
 from __future__ import annotations
 
+import re
 from collections import defaultdict
 from dataclasses import dataclass, field
 
@@ -473,9 +474,15 @@ def _split_sentence(split: ForcingSplit) -> str:
     )
 
 
+def _plain(expr: sp.Expr) -> str:
+    """A short plain-text form for sentences: 155*I -> 155i, -1 + 4*I -> -1 + 4i."""
+    text = sp.sstr(expr)
+    return re.sub(r"(\d)\*I\b", r"\1i", text).replace("*", " ")
+
+
 def _resonance_sentence(s: int, group: ExponentGroup) -> str:
     """One plain sentence: is the exponent a root, and what follows."""
-    lam = sp.sstr(group.exponent)
+    lam = _plain(group.exponent)
     if s == 0:
         return (
             f"p({lam}) is not zero: the exponent is not a root of the characteristic polynomial, "
