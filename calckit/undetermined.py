@@ -489,7 +489,10 @@ def _resonance_sentence(s: int, group: ExponentGroup) -> str:
             "so the trial form needs no extra factor t."
         )
     which = {1: "a simple root", 2: "a double root", 3: "a triple root"}.get(s, f"a root of multiplicity {s}")
-    what = "resonance: the forcing matches a free motion of the system"
+    if group.harmonic and group.decay == 0:
+        what = "resonance: the forcing is at a natural frequency of the undamped system"
+    else:
+        what = "the forcing has the shape of a free motion of the system"
     factor = "t" if s == 1 else f"t^{s}"
     return (
         f"The exponent {lam} is {which} of the characteristic polynomial ({what}), "
