@@ -49,6 +49,11 @@ class HarmonicLine:
     magnification: sp.Expr  # amplitude * k / force_amplitude
 
 
+def _article(word: str) -> str:
+    """``"an"`` before a vowel (an overdamped system), else ``"a"``."""
+    return "an" if word[:1] in "aeiou" else "a"
+
+
 def _is_quantity(value) -> bool:
     return hasattr(value, "magnitude") and hasattr(value, "units")
 
@@ -191,7 +196,7 @@ class Oscillator(LinearODE):
             return self.omega_n
         if regime != "underdamped":
             raise ModelError(
-                f"a {regime} system does not oscillate, so it has no damped frequency",
+                f"{_article(regime)} {regime} system does not oscillate, so it has no damped frequency",
                 where="damped_frequency",
                 do="Use the roots of the characteristic polynomial (characteristic_roots)",
             )
@@ -207,7 +212,7 @@ class Oscillator(LinearODE):
         """``delta = 2 pi zeta / sqrt(1 - zeta^2)`` (underdamped only)."""
         if self.regime != "underdamped":
             raise ModelError(
-                f"a {self.regime} system has no logarithmic decrement",
+                f"{_article(self.regime)} {self.regime} system has no logarithmic decrement",
                 where="log_decrement",
                 do="It is defined for underdamped systems only (0 < zeta < 1)",
             )
