@@ -1,0 +1,431 @@
+"""Fast numbers from derived expressions.
+
+A derivation gives ``x(t)`` as a sympy expression; a sheet needs it at
+thousands of times for a plot, or at a sweep of frequencies for a response
+curve. :func:`compile_expr` turns an expression into a numpy function once
+(``sympy.lambdify`` with the numpy module and common subexpressions shared),
+so that 100,000 points take milliseconds instead of the seconds that
+``subs``/``evalf`` would take per point.
+
+Evaluation rules
+----------------
+- The result has the shape of ``times`` (broadcast with any array parameter
+  values); a constant expression is broadcast too.
+- The expression is evaluated in real arithmetic first. Where that gives
+  ``nan`` (a square root of a negative number inside an expression that is
+  real overall, such as the overdamped basis written for values that turn out
+  underdamped), it is evaluated again in complex arithmetic, and a complex
+  result whose imaginary part is rounding noise (below ``1e-9`` of the
+  largest magnitude) is returned as real. Results that are truly complex (a
+  receptance) are returned complex.
+- Division by zero gives ``inf`` quietly, as in the closed forms of
+  :mod:`calckit.harmonic`.
+
+Examples
+--------
+>>> import sympy as sp
+>>> t, w = sp.symbols("t omega", real=True)
+>>> f = compile_expr(sp.cos(w * t), t, parameters=(w,))
+>>> f([0.0, 0.5], omega=2 * float(sp.pi)).round(12)
+array([ 1., -1.])
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass, field
+from functools import lru_cache
+from typing import Any
+
+import numpy as np
+import sympy as sp
+
+from .errors import ModelError, UnitsError
+from .exact import exact
+
+__all__ = ["Compiled", "FrequencyResponse", "compile_expr", "time_history", "frequency_response"]
+
+#: imaginary parts below this fraction of the largest magnitude count as rounding
+IMAG_TOLERANCE = 1e-9
+
+
+def _names(symbols: Iterable[sp.Symbol]) -> str:
+    return ", ".join(sorted(s.name for s in symbols))
+
+
+def _is_quantity(value: Any) -> bool:
+    return hasattr(value, "magnitude") and hasattr(value, "units")
+
+
+@dataclass(frozen=True)
+class Compiled:
+    """An expression compiled for numpy: call it as ``f(times, **parameter_values)``.
+
+    Attributes
+    ----------
+    expr : sympy.Expr
+        The expression compiled.
+    t : sympy.Symbol
+        The independent variable (time, or frequency for a response curve).
+    parameters : tuple of sympy.Symbol
+        Symbols whose values are passed by name at each call.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> t = sp.Symbol("t")
+    >>> compile_expr(sp.Integer(3), t)([0.0, 1.0, 2.0])
+    array([3., 3., 3.])
+    """
+
+    expr: sp.Expr
+    t: sp.Symbol
+    parameters: tuple[sp.Symbol, ...]
+    function: Callable[..., Any] = field(repr=False, compare=False)
+
+    @property
+    def parameter_names(self) -> tuple[str, ...]:
+        """Names of the parameters, the keywords a call takes."""
+        return tuple(p.name for p in self.parameters)
+
+    def __call__(self, times, **values) -> np.ndarray:
+        """Evaluate at *times* (number, sequence or array; a pint time is taken in s)."""
+        x = _times_array(times, self.t.name)
+        args = [x]
+        missing = [name for name in self.parameter_names if name not in values]
+        if missing:
+            raise ModelError(
+                f"no value given for {', '.join(missing)}",
+                where=f"evaluating {self.expr}",
+                do="Pass every parameter by name, e.g. f(times, "
+                + ", ".join(f"{name}=..." for name in missing)
+                + ")",
+            )
+        unknown = sorted(set(values) - set(self.parameter_names))
+        if unknown:
+            known = ", ".join(self.parameter_names) or "none"
+            raise ModelError(
+                f"{', '.join(unknown)} is not a parameter of the expression",
+                where=f"evaluating {self.expr}",
+                do=f"Pass only its parameters ({known})",
+            )
+        for name in self.parameter_names:
+            args.append(_value_array(values[name], name))
+        return _evaluate(self.function, args)
+
+
+def _times_array(times, name: str) -> np.ndarray:
+    if _is_quantity(times):
+        from .units import ureg
+
+        try:
+            times = times.to(ureg.second).magnitude
+        except Exception as exc:  # pint's DimensionalityError and kin
+            raise UnitsError(
+                f"expected times, got a quantity in {times.units}",
+                where=name,
+                do="Give times in s, ms or min, or plain numbers in seconds",
+            ) from exc
+    return _value_array(times, name)
+
+
+def _value_array(value, name: str) -> np.ndarray:
+    if _is_quantity(value):
+        raise UnitsError(
+            f"got a quantity with units ({value.units}) for a compiled expression",
+            where=name,
+            do="Give the value as a plain number in SI units (the expression is in SI)",
+        )
+    if isinstance(value, sp.Basic):
+        if value.free_symbols:
+            raise ModelError(
+                f"the value {value} still has the symbol(s) {_names(value.free_symbols)}",
+                where=name,
+                do="Give a number",
+            )
+        value = complex(value) if value.has(sp.I) else float(value)
+    try:
+        arr = np.asarray(value)
+        if arr.dtype.kind not in "biufc":
+            raise TypeError
+        return arr if arr.dtype.kind in "fc" else arr.astype(float)
+    except (TypeError, ValueError) as exc:
+        raise ModelError(
+            f"cannot read {value!r} as numbers", where=name, do="Give a number or an array of numbers"
+        ) from exc
+
+
+def _evaluate(function, args) -> np.ndarray:
+    shape = np.broadcast_shapes(*(np.shape(a) for a in args))
+    with np.errstate(all="ignore"):
+        out = np.asarray(function(*args))
+        if out.dtype.kind != "c" and np.isnan(out).any() and not any(np.isnan(a).any() for a in args):
+            out = np.asarray(function(*(a.astype(complex) for a in args)))
+    if out.dtype.kind == "c":
+        scale = np.nanmax(np.abs(out), initial=0.0) if out.size else 0.0
+        if np.all(np.abs(out.imag) <= IMAG_TOLERANCE * scale):
+            out = out.real.copy()
+    if out.dtype.kind not in "fc":
+        out = out.astype(float)
+    return np.array(np.broadcast_to(out, shape))
+
+
+@lru_cache(maxsize=256)
+def _lambdify(expr: sp.Expr, t: sp.Symbol, parameters: tuple[sp.Symbol, ...]):
+    return sp.lambdify((t, *parameters), expr, modules="numpy", cse=True)
+
+
+def compile_expr(expr, t: sp.Symbol, parameters: Iterable[sp.Symbol | str] = ()) -> Compiled:
+    """Compile *expr* in *t* once for fast evaluation on numpy arrays.
+
+    Parameters
+    ----------
+    expr : sympy expression or number
+        Floats are read as the decimals they show (see :func:`calckit.exact.exact`).
+    t : sympy.Symbol
+        The variable the array of the first argument stands for.
+    parameters : sequence of sympy.Symbol or str
+        Every other free symbol of *expr*, by symbol or by name; their values
+        are passed by name at each call.
+
+    Returns
+    -------
+    Compiled
+
+    Raises
+    ------
+    ModelError
+        A free symbol that is neither *t* nor a parameter, two symbols with one
+        name, or an undefined function such as ``f(t)``.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> t, c = sp.symbols("t c", positive=True)
+    >>> f = compile_expr(sp.exp(-c * t), t, parameters=["c"])
+    >>> f([0.0, 1.0], c=0.0)
+    array([1., 1.])
+    """
+    if not isinstance(t, sp.Symbol):
+        raise ModelError(
+            f"expected a sympy Symbol for the variable, got {type(t).__name__} {t!r}",
+            where="compile_expr(t=...)",
+            do='Pass the symbol itself, e.g. t = sympy.Symbol("t", real=True)',
+        )
+    expr = exact(sp.sympify(expr), where="compile_expr")
+    free = expr.free_symbols - {t}
+    by_name: dict[str, sp.Symbol] = {}
+    for s in free | {t}:
+        if s.name in by_name:
+            raise ModelError(
+                f"two different symbols are named {s.name} (with different assumptions)",
+                where=f"compile_expr({expr})",
+                do="Make the symbols with the same assumptions, or give them different names",
+            )
+        by_name[s.name] = s
+    chosen: list[sp.Symbol] = []
+    for p in parameters:
+        name = p if isinstance(p, str) else getattr(p, "name", None)
+        if name is None:
+            raise ModelError(
+                f"a parameter must be a sympy Symbol or a name, got {p!r}",
+                where="compile_expr(parameters=...)",
+            )
+        if name == t.name:
+            raise ModelError(
+                f"{name} is the variable of the expression, not a parameter",
+                where="compile_expr(parameters=...)",
+                do="Leave it out of the parameters",
+            )
+        symbol = by_name.get(name, p if isinstance(p, sp.Symbol) else sp.Symbol(name))
+        if symbol not in chosen:
+            chosen.append(symbol)
+    left = free - set(chosen)
+    if left:
+        raise ModelError(
+            f"the expression has the free symbol(s) {_names(left)}, which are neither {t.name} nor parameters",
+            where=f"compile_expr({expr})",
+            do="List them in parameters=(...) and pass their values at each call, or substitute numbers",
+        )
+    undefined = expr.atoms(sp.core.function.AppliedUndef) | expr.atoms(sp.Derivative, sp.Integral)
+    if undefined:
+        raise ModelError(
+            f"cannot compute numbers from {', '.join(sorted(map(str, undefined)))}",
+            where=f"compile_expr({expr})",
+            do="Give an explicit expression (solve the derivation first)",
+        )
+    return Compiled(expr, t, tuple(chosen), _lambdify(expr, t, tuple(chosen)))
+
+
+def _source(item, part: str):
+    """The expression and time symbol of a Response, Derivation or Compiled."""
+    if part not in ("solution", "transient", "steady_state"):
+        raise ModelError(
+            f"unknown part {part!r}",
+            where="time_history(part=...)",
+            do='Use "solution", "transient" or "steady_state"',
+        )
+    t = getattr(item, "t", None)
+    if part != "solution" and not hasattr(item, part):
+        raise ModelError(
+            f"a {type(item).__name__} has no {part}",
+            where="time_history(part=...)",
+            do="Ask a total response (Oscillator.response) for its transient and steady state",
+        )
+    expr = getattr(item, part, None)
+    if not isinstance(t, sp.Symbol) or not isinstance(expr, sp.Basic):
+        raise ModelError(
+            f"expected a Response or a Derivation, got {type(item).__name__}",
+            where="time_history",
+            do="Pass the result of Oscillator.response, total_response or particular",
+        )
+    return expr, t
+
+
+def time_history(response_or_derivation, times, *, part: str = "solution", **values) -> np.ndarray:
+    """``x(t)`` of a response or derivation at an array of times, by a compiled function.
+
+    Parameters
+    ----------
+    response_or_derivation : Response or Derivation
+        From :meth:`Oscillator.response`, :func:`calckit.response.total_response`
+        or ``particular``.
+    times : array-like or pint Quantity
+        Times in s.
+    part : {"solution", "transient", "steady_state"}
+        Which part of a Response to evaluate (a Derivation has only its solution).
+    **values
+        A number (or array broadcasting with *times*) for every parameter symbol
+        left in the expression, by name.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> from calckit import Oscillator
+    >>> t = sp.Symbol("t", real=True)
+    >>> res = Oscillator(1, 0, 4).response(0, 1, 0, t=t)
+    >>> time_history(res, [0.0, float(sp.pi) / 2]).round(12)
+    array([ 1., -1.])
+    """
+    expr, t = _source(response_or_derivation, part)
+    compiled = compile_expr(expr, t, parameters=sorted(expr.free_symbols - {t}, key=lambda s: s.name))
+    return compiled(times, **values)
+
+
+@dataclass(frozen=True)
+class FrequencyResponse:
+    """Steady-state response to a unit harmonic force at each frequency.
+
+    Attributes
+    ----------
+    omega : numpy.ndarray
+        Forcing frequencies, rad/s.
+    receptance : numpy.ndarray (complex)
+        ``H(omega) = X / F = 1 / p(i omega)``, m/N: for the oscillator
+        ``1 / (k - m omega^2 + i c omega)``.
+    static_stiffness : numpy.ndarray
+        ``a_0`` (``k`` for the oscillator), N/m, broadcast to the shape of omega.
+    """
+
+    omega: np.ndarray
+    receptance: np.ndarray
+    static_stiffness: np.ndarray
+
+    @property
+    def amplitude(self) -> np.ndarray:
+        """``|H|``, m/N: amplitude per unit force amplitude."""
+        return np.abs(self.receptance)
+
+    @property
+    def phase_lag(self) -> np.ndarray:
+        """Lag of the displacement behind the force, rad (in ``[0, pi]`` for c >= 0).
+
+        ``atan2(-Im H, Re H)`` with the sign of a zero imaginary part dropped, so
+        that an undamped system lags by exactly 0 below resonance and pi above;
+        at an undamped resonance (``|H|`` infinite) the lag is its limit pi/2.
+        """
+        h = self.receptance
+        with np.errstate(invalid="ignore"):
+            lag = np.arctan2(0.0 - h.imag, h.real)  # 0.0 - (+/-0.0) is +0.0
+        return np.where(np.isinf(np.abs(h)), np.pi / 2, lag)
+
+    @property
+    def magnification(self) -> np.ndarray:
+        """``k |H|``: amplitude over the static deflection ``F / k``."""
+        if np.any(self.static_stiffness == 0):
+            raise ModelError(
+                "with no spring (k = 0) there is no static deflection to compare with",
+                where="FrequencyResponse.magnification",
+                do="Use the amplitude |H| (m/N) instead",
+            )
+        return self.static_stiffness * self.amplitude
+
+
+@lru_cache(maxsize=64)
+def _receptance_compiled(coefficients: tuple[sp.Expr, ...], omega: sp.Symbol, parameters):
+    n = len(coefficients) - 1
+    p = sp.Add(*(a * (sp.I * omega) ** (n - i) for i, a in enumerate(coefficients)))
+    receptance = compile_expr(1 / sp.expand(p), omega, parameters)
+    stiffness = compile_expr(coefficients[-1], omega, parameters)
+    return receptance, stiffness
+
+
+def frequency_response(osc, omegas, **values) -> FrequencyResponse:
+    """Receptance, amplitude, phase lag and magnification over an array of frequencies.
+
+    Works for numeric and symbolic coefficients alike: the receptance
+    ``1 / p(i omega)`` is compiled once per model and the parameter values are
+    passed at each call.
+
+    Parameters
+    ----------
+    osc : Oscillator or LinearODE
+    omegas : array-like
+        Forcing frequencies, rad/s.
+    **values
+        Numbers for the symbols of a symbolic model, by name (``m=250, c=..``).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from calckit import Oscillator
+    >>> fr = frequency_response(Oscillator(1, 0, 4), np.array([0.0, 1.0]))
+    >>> fr.magnification
+    array([1.        , 1.33333333])
+    """
+    coefficients = getattr(osc, "coefficients", None)
+    if coefficients is None:
+        raise ModelError(
+            f"expected an Oscillator or LinearODE, got {type(osc).__name__}",
+            where="frequency_response",
+            do="Pass the model, e.g. Oscillator(m, c, k)",
+        )
+    params = tuple(sorted(frozenset().union(*(a.free_symbols for a in coefficients)), key=lambda s: s.name))
+    omega = sp.Dummy("omega", real=True)
+    receptance, stiffness = _receptance_compiled(tuple(coefficients), omega, params)
+    w = _times_array(omegas, "omega") if not _is_quantity(omegas) else _omega_array(omegas)
+    h = receptance(w, **values)
+    if h.dtype.kind != "c":
+        h = h.astype(complex)
+    k = stiffness(w, **values)
+    shape = np.broadcast_shapes(h.shape, np.shape(w))
+    return FrequencyResponse(np.array(np.broadcast_to(w, shape)), h, np.array(np.broadcast_to(k, shape)))
+
+
+def _omega_array(omegas) -> np.ndarray:
+    from .units import ureg
+
+    if omegas.check("[frequency]") and "hertz" in str(omegas.units):
+        raise UnitsError(
+            f"frequencies in {omegas.units} count cycles, not radians",
+            where="omega",
+            do="Give rad/s or rpm, or multiply Hz by 2 pi",
+        )
+    try:
+        return np.asarray(omegas.to(ureg.radian / ureg.second).magnitude, dtype=float)
+    except Exception as exc:  # pint's DimensionalityError
+        raise UnitsError(
+            f"expected frequencies, got a quantity in {omegas.units}",
+            where="omega",
+            do="Give rad/s or rpm",
+        ) from exc
