@@ -16,11 +16,12 @@ from .errors import (
     UnitsError,
 )
 from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
+from .numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
 from .oscillator import REGIMES, HarmonicLine, Oscillator
 from .response import Response
 from .sheet import DEFAULT_CAUTION, Check, Sheet
-from .units import Q_, angular_frequency, cyclic_frequency, fmt, quantity, to_si, ureg
 from .undetermined import Derivation, LinearODE
+from .units import Q_, angular_frequency, cyclic_frequency, fmt, quantity, to_si, ureg
 
 __all__ = [
     "__version__",
@@ -46,6 +47,11 @@ __all__ = [
     "UnitsError",
     "split_forcing",
     "units",
+    "compile_expr",
+    "Compiled",
+    "time_history",
+    "frequency_response",
+    "FrequencyResponse",
     "ureg",
     "Q_",
     "quantity",

@@ -261,10 +261,11 @@ class Oscillator(LinearODE):
 
     def _forcing_si(self, f):
         if _is_quantity(f):
-            from .units import quantity, to_si
+            from .units import Q_, quantity, to_si
 
-            q = quantity(f, "forcing", expect="force")
-            return exact(to_si(q, "forcing").magnitude, where="forcing")
+            # check the unit on a unit quantity: the magnitude may be an expression in t
+            scale = to_si(quantity(Q_(1, f.units), "forcing", expect="force"), "forcing").magnitude
+            return exact(f.magnitude, where="forcing") * exact(scale, where="forcing")
         return f
 
     def response(self, f, x0=0, v0=0, *, t: sp.Symbol | None = None) -> Response:
@@ -336,4 +337,5 @@ class Oscillator(LinearODE):
             )
         m, c, k = (float(p) for p in params)
         w = np.asarray(omega, dtype=float)
-        return 1.0 / (k - m * w**2 + 1j * c * w)
+        with np.errstate(divide="ignore", invalid="ignore"):  # inf at an undamped resonance
+            return 1.0 / (k - m * w**2 + 1j * c * w)

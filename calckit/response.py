@@ -47,6 +47,12 @@ class Response:
     t: sp.Symbol
     steps: tuple[Step, ...]
 
+    def evaluate(self, times, part: str = "solution", **values):
+        """The response (or its ``"transient"`` / ``"steady_state"`` part) at numeric *times*."""
+        from .numeric import time_history
+
+        return time_history(self, times, part=part, **values)
+
     @property
     def verified(self) -> bool:
         """The particular solution's back-substitution check."""

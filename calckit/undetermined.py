@@ -95,6 +95,15 @@ class Derivation:
         """Steps of one kind, e.g. ``"trial-form"``."""
         return tuple(step for step in self.steps if step.kind == kind)
 
+    def evaluate(self, times, **values):
+        """``x_p`` at numeric *times* (numpy array); symbols given as keyword values.
+
+        The expression is compiled once (see :mod:`calckit.numeric`).
+        """
+        from .numeric import time_history
+
+        return time_history(self, times, **values)
+
     def _repr_latex_(self) -> str:
         from .render.display import derivation_latex_document
 

@@ -346,11 +346,6 @@ class TestUnits:
         res = osc.response(0, Q_(2, "mm"), Q_(0, "mm/s"), t=t)
         assert sp.simplify(res.solution - R(2, 1000) * sp.cos(sp.sqrt(720) * t)) == 0
 
-    @pytest.mark.xfail(
-        strict=True,
-        raises=TypeError,
-        reason="bug in Oscillator._forcing_si: a quantity whose magnitude is a sympy expression fails in units.fmt",
-    )
     def test_forcing_as_quantity_expression(self):
         """A force written as Q_(120, "N") * cos(omega t) is taken in newtons."""
         osc = Oscillator(Q_(250, "kg"), Q_(670, "N*s/m"), Q_(180, "N/mm"))
@@ -480,11 +475,6 @@ def test_frequency_response_matches_closed_form():
     np.testing.assert_allclose(180_000 * np.abs(h), magnification(w / math.sqrt(720), 0.05), rtol=1e-12)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    raises=RuntimeWarning,
-    reason="bug in Oscillator.frequency_response: 1/0 at an undamped resonance warns (an error under pytest)",
-)
 def test_frequency_response_at_undamped_resonance():
     """At an undamped resonance the receptance is infinite, quietly (as in calckit.harmonic)."""
     h = Oscillator(1, 0, 4).frequency_response([2.0])
