@@ -1,0 +1,748 @@
+r"""Formulas of derivation steps, in hand-calculation reading order.
+
+Each step record (:mod:`calckit.steps`) becomes a few *rows*: an aligned
+left side, a right side starting with a relation, and an optional note, each
+piece spelled twice, once in LaTeX and once in plain text. The rows are the one
+formatter behind every output: :func:`rows_latex` prints them for the notebook
+and for MathML, :func:`rows_text` for a terminal. Nothing here knows about
+Jupyter or HTML.
+
+What a step shows
+-----------------
+========================  ==============================================================
+equation                  ``m \ddot{x} + c \dot{x} + k x = f(t)`` and ``f(t) = ...``
+forcing split             ``f_g(t) = ...`` with its exponent ``\lambda_g``, one row a group
+characteristic            ``p(\lambda) = ... = 0`` and the roots with multiplicity
+resonance                 ``p(\lambda_g) = value`` and the multiplicity ``s_g``
+trial form                ``x_g(t) = ...``
+derivatives               ``\dot{x}_g(t) = ...``, ``\ddot{x}_g(t) = ...`` (primes above order 2)
+substitution              the operator on ``x_g``, then the collected left side ``= f_g(t)``
+coefficient equations     a braced system, each row labelled by its basis function
+solved coefficients       ``A = ...`` and the conditions the solution needs
+particular solution       ``x_p(t) = ...``
+verification              ``m \ddot{x}_p + c \dot{x}_p + k x_p - f(t) = 0`` and a check word
+homogeneous               ``x_h(t) = ...``
+initial conditions        ``x(0) = ... = x_0`` and the constants
+total response            ``x(t) = x_h(t) + x_p(t) = ...``
+========================  ==============================================================
+
+Symbol names
+------------
+Symbols print through :func:`symbol_latex`: Greek names become Greek letters,
+``_`` starts a subscript, and a subscript that is a word is set upright
+(``omega_n`` -> ``\omega_{n}``, ``F_max`` -> ``F_{\mathrm{max}}``). Pass
+``names={"Fo": r"F_{\circ}"}`` to choose your own.
+
+Examples
+--------
+>>> import sympy as sp
+>>> from calckit import Oscillator
+>>> t = sp.Symbol("t", real=True)
+>>> m, c, k = sp.symbols("m c k", positive=True)
+>>> der = Oscillator(m, c, k).particular(sp.cos(t), t=t)
+>>> step_latex(der.steps[0], notation(der.steps))
+'\\begin{aligned}m \\ddot{x} + c \\dot{x} + k x &= f(t) \\\\ f(t) &= \\cos{\\left(t \\right)}\\end{aligned}'
+"""
+
+from __future__ import annotations
+
+import functools
+import re
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+
+import sympy as sp
+from sympy.printing.conventions import split_super_sub
+from sympy.printing.latex import translate
+
+from calckit.errors import SheetError
+from calckit.steps import (
+    CharacteristicStep,
+    CoefficientEquationsStep,
+    DerivativesStep,
+    EquationStep,
+    ForcingSplitStep,
+    HomogeneousStep,
+    InitialConditionsStep,
+    ParticularSolutionStep,
+    ResonanceStep,
+    SolvedCoefficientsStep,
+    Step,
+    SubstitutionStep,
+    TotalResponseStep,
+    TrialFormStep,
+    VerificationStep,
+)
+
+__all__ = [
+    "LEVELS",
+    "SUMMARY_KINDS",
+    "DERIVATIVE_STYLES",
+    "Tex",
+    "Row",
+    "Notation",
+    "notation",
+    "symbol_latex",
+    "expr_latex",
+    "expr_text",
+    "step_rows",
+    "step_latex",
+    "step_plain",
+    "rows_latex",
+    "rows_text",
+    "steps_at",
+]
+
+#: Levels of detail: the summary keeps the equation, the result and its check.
+LEVELS = ("summary", "full")
+#: Kinds of step shown at the summary level.
+SUMMARY_KINDS = frozenset({"equation", "particular-solution", "verification", "total-response"})
+#: How derivatives are written: dots up to order 2 and primes above ("auto"), or always one way.
+DERIVATIVE_STYLES = ("auto", "dots", "primes")
+
+
+@dataclass(frozen=True)
+class Tex:
+    """One piece of a formula, spelled in LaTeX and in plain text.
+
+    Examples
+    --------
+    >>> print(Tex(r"\\omega_{n}", "omega_n").latex)
+    \\omega_{n}
+    """
+
+    latex: str
+    text: str
+
+
+@dataclass(frozen=True)
+class Row:
+    """One row of a step's formula: ``lhs`` then ``rhs`` (starting with a relation), then a note.
+
+    In LaTeX the rows are aligned at the start of ``rhs``; the note sits in a
+    column of its own.
+    """
+
+    lhs: tuple[Tex, ...]
+    rhs: tuple[Tex, ...]
+    note: tuple[Tex, ...] = ()
+
+
+@dataclass(frozen=True)
+class Notation:
+    """What the formulas of a derivation need to know beyond one step.
+
+    Build it with :func:`notation`, which reads the steps of a derivation.
+
+    Attributes
+    ----------
+    names : tuple of (str, str)
+        Symbol name -> LaTeX, chosen by the user.
+    derivatives : str
+        One of :data:`DERIVATIVE_STYLES`.
+    unknown : str
+        Name of the dependent variable (``"x"``).
+    order : int
+        Order of the equation.
+    coefficients : tuple, optional
+        ``a_n, ..., a_0``; when known, the operator is written out.
+    groups : int
+        Number of exponent groups; with one group its part is ``x_p``.
+    unknowns : tuple of (int, tuple of Symbol)
+        The unknown coefficients of each group's trial form.
+    t : sympy.Symbol
+        The time variable.
+    """
+
+    names: tuple[tuple[str, str], ...] = ()
+    derivatives: str = "auto"
+    unknown: str = "x"
+    order: int = 2
+    coefficients: tuple[sp.Expr, ...] | None = None
+    groups: int = 1
+    unknowns: tuple[tuple[int, tuple[sp.Symbol, ...]], ...] = ()
+    t: sp.Symbol = field(default_factory=lambda: sp.Symbol("t", real=True))
+
+    @property
+    def name_map(self) -> dict[str, str]:
+        """The user's names as a dictionary."""
+        return dict(self.names)
+
+    @property
+    def dots(self) -> bool:
+        """True when derivatives are written with dots."""
+        return self.derivatives == "dots" or (self.derivatives == "auto" and self.order <= 2)
+
+    def unknowns_of(self, group: int) -> tuple[sp.Symbol, ...]:
+        """The unknown coefficients of one group, or () when not known."""
+        return dict(self.unknowns).get(group, ())
+
+
+def _check_names(names) -> tuple[tuple[str, str], ...]:
+    if names is None:
+        return ()
+    if not isinstance(names, Mapping):
+        raise SheetError(
+            f"expected a mapping of symbol names to LaTeX, got {type(names).__name__}",
+            where="names",
+            do='Pass a dict such as {"omega_n": r"\\omega_{n}"}',
+        )
+    out = []
+    for key, value in names.items():
+        name = key.name if isinstance(key, sp.Symbol) else key
+        if not isinstance(name, str) or not isinstance(value, str):
+            raise SheetError(
+                f"the entry {key!r}: {value!r} is not a name and a LaTeX string",
+                where="names",
+                do='Map symbol names (str) to LaTeX (str), e.g. {"Fo": r"F_{o}"}',
+            )
+        out.append((name, value))
+    return tuple(out)
+
+
+def notation(
+    steps: Iterable[Step] = (), *, names: Mapping | None = None, derivatives: str = "auto"
+) -> Notation:
+    """Read what the formulas need from the steps of a derivation.
+
+    Parameters
+    ----------
+    steps : iterable of Step
+        The steps of a derivation or response (any subset; missing facts keep defaults).
+    names : mapping, optional
+        Extra display names: symbol name (or Symbol) -> LaTeX.
+    derivatives : str
+        ``"auto"`` (dots up to order 2, primes above), ``"dots"`` or ``"primes"``.
+
+    Examples
+    --------
+    >>> notation(names={"Fo": "F_{o}"}).name_map
+    {'Fo': 'F_{o}'}
+    """
+    if derivatives not in DERIVATIVE_STYLES:
+        raise SheetError(
+            f'unknown derivative style "{derivatives}"',
+            where="derivatives",
+            do='Use "auto", "dots" or "primes"',
+        )
+    fields: dict = {"names": _check_names(names), "derivatives": derivatives}
+    unknowns = []
+    for step in steps:
+        if isinstance(step, EquationStep):
+            fields.update(
+                unknown=step.unknown.name,
+                order=len(step.coefficients) - 1,
+                coefficients=tuple(step.coefficients),
+                t=step.t,
+            )
+        elif isinstance(step, ForcingSplitStep):
+            fields["groups"] = len(step.groups)
+        elif isinstance(step, TrialFormStep):
+            unknowns.append((step.group, tuple(step.unknowns)))
+        elif isinstance(step, DerivativesStep) and "order" not in fields:
+            fields["order"] = len(step.derivatives)
+    return Notation(unknowns=tuple(unknowns), **fields)
+
+
+# ------------------------------------------------------------------ symbols
+
+_WORD = re.compile(r"[A-Za-z]{2,}")
+
+
+@functools.lru_cache(maxsize=512)
+def _name_latex(name: str) -> str:
+    if any(ch in name for ch in "{}\\^"):
+        return sp.latex(sp.Symbol(name))  # already LaTeX, or sympy's own reading of it
+    base, sups, subs = split_super_sub(name)
+
+    def part(text: str) -> str:
+        translated = translate(text)
+        if translated == text and _WORD.fullmatch(text):
+            return rf"\mathrm{{{text}}}"
+        return translated
+
+    out = translate(base)
+    if subs:
+        out += "_{" + ",".join(part(s) for s in subs) + "}"
+    if sups:
+        out += "^{" + ",".join(part(s) for s in sups) + "}"
+    return out
+
+
+def symbol_latex(name: str | sp.Symbol, names: Mapping[str, str] | None = None) -> str:
+    r"""LaTeX of a symbol's name.
+
+    Greek names become letters, ``_`` starts a subscript (a word subscript is
+    upright), digits at the end are a subscript; *names* overrides.
+
+    Examples
+    --------
+    >>> symbol_latex("omega_n"), symbol_latex("F_max"), symbol_latex("zeta")
+    ('\\omega_{n}', 'F_{\\mathrm{max}}', '\\zeta')
+    >>> symbol_latex("Fo", {"Fo": "F_{o}"})
+    'F_{o}'
+    """
+    name = name.name if isinstance(name, sp.Symbol) else name
+    if names and name in names:
+        return names[name]
+    return _name_latex(name)
+
+
+def expr_latex(expr, names: Mapping[str, str] | None = None, **settings) -> str:
+    r"""LaTeX of a sympy expression with readable symbol names.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> expr_latex(sp.sqrt(sp.Symbol("k") / sp.Symbol("m_u")))
+    '\\sqrt{\\frac{k}{m_{u}}}'
+    """
+    expr = sp.sympify(expr)
+    symbols = {s: symbol_latex(s.name, names) for s in expr.free_symbols if isinstance(s, sp.Symbol)}
+    return sp.latex(expr, symbol_names=symbols, **settings)
+
+
+def expr_text(expr) -> str:
+    """Plain text of a sympy expression (``sympy.sstr``), relations written ``=``, ``!=``.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> expr_text(sp.Ne(sp.Symbol("k") - 4, 0))
+    'k - 4 != 0'
+    """
+    expr = sp.sympify(expr)
+    if isinstance(expr, sp.Ne):
+        return f"{sp.sstr(expr.lhs)} != {sp.sstr(expr.rhs)}"
+    if isinstance(expr, sp.Eq):
+        return f"{sp.sstr(expr.lhs)} = {sp.sstr(expr.rhs)}"
+    return sp.sstr(expr)
+
+
+# ------------------------------------------------------------------ pieces
+
+EQ = Tex("=", "=")
+NE = Tex(r"\neq", "!=")
+
+
+def _e(expr, nt: Notation) -> Tex:
+    return Tex(expr_latex(expr, nt.name_map), expr_text(expr))
+
+
+def _words(text: str) -> Tex:
+    safe = re.sub(r"([&%#_{}$])", r"\\\1", text)
+    return Tex(rf"\text{{{safe}}}", text.strip())
+
+
+def _var(nt: Notation, sub: str | None = None) -> Tex:
+    """The dependent variable, with a subscript: ``x``, ``x_p``, ``x_1``."""
+    base = symbol_latex(nt.unknown, nt.name_map)
+    if sub is None:
+        return Tex(base, nt.unknown)
+    return Tex(f"{base}_{{{sub}}}", f"{nt.unknown}_{sub}")
+
+
+def _derivative(nt: Notation, j: int, sub: str | None = None, arg: str = "") -> Tex:
+    """The j-th derivative of the variable: dots, primes, or ``^{(j)}``."""
+    var = _var(nt, sub)
+    base = symbol_latex(nt.unknown, nt.name_map)
+    sub_latex = "" if sub is None else f"_{{{sub}}}"
+    if j == 0:
+        latex, text = var.latex, var.text
+    elif nt.dots and j <= 2:
+        accent = r"\dot" if j == 1 else r"\ddot"
+        latex, text = f"{accent}{{{base}}}{sub_latex}", var.text + "'" * j
+    elif j <= 3:
+        latex, text = var.latex + "'" * j, var.text + "'" * j
+    else:
+        latex, text = f"{var.latex}^{{({j})}}", f"{var.text}^({j})"
+    if arg:
+        latex, text = f"{latex}({arg})", f"{text}({arg})"
+    return Tex(latex, text)
+
+
+def _group_sub(nt: Notation, group: int) -> str:
+    return str(group) if nt.groups > 1 else "p"
+
+
+def _signed(parts: Sequence[tuple[bool, Tex]]) -> Tex:
+    """Join (negative, magnitude) pairs with + and - signs."""
+    if not parts:
+        return Tex("0", "0")
+    latex, text = [], []
+    for i, (negative, body) in enumerate(parts):
+        if i == 0:
+            latex.append(("-" if negative else "") + body.latex)
+            text.append(("-" if negative else "") + body.text)
+        else:
+            latex.append((" - " if negative else " + ") + body.latex)
+            text.append((" - " if negative else " + ") + body.text)
+    return Tex("".join(latex), "".join(text))
+
+
+def _term(coef, what: Tex | None, nt: Notation) -> tuple[bool, Tex] | None:
+    """``coef * what`` as (negative, magnitude); None when coef is 0."""
+    coef = sp.sympify(coef)
+    if coef == 0:
+        return None
+    negative = coef.could_extract_minus_sign() and not coef.is_Add
+    size = -coef if negative else coef
+    if what is None:
+        return negative, _e(size, nt)
+    if size == 1:
+        return negative, what
+    body = _e(size, nt)
+    if size.is_Add:
+        return negative, Tex(rf"\left({body.latex}\right) {what.latex}", f"({body.text})*{what.text}")
+    return negative, Tex(f"{body.latex} {what.latex}", f"{body.text}*{what.text}")
+
+
+def _combination(pairs: Iterable[tuple[sp.Expr, Tex | None]], nt: Notation) -> Tex:
+    """A linear combination ``sum coef * what`` with tidy signs."""
+    return _signed([p for p in (_term(c, w, nt) for c, w in pairs) if p is not None])
+
+
+def _operator(nt: Notation, sub: str | None = None) -> Tex:
+    """``m \\ddot{x} + c \\dot{x} + k x`` on the variable (with subscript)."""
+    if nt.coefficients is None:
+        var = _var(nt, sub)
+        return Tex(rf"L\left[{var.latex}\right]", f"L[{var.text}]")
+    n = len(nt.coefficients) - 1
+    return _combination(((c, _derivative(nt, n - i, sub)) for i, c in enumerate(nt.coefficients)), nt)
+
+
+def _exponent(group, nt: Notation) -> Tex:
+    """``a \\pm i b`` of a group (``a`` alone when it does not oscillate)."""
+    if not group.harmonic:
+        return _e(group.decay, nt)
+    b = group.frequency * sp.I
+    b_latex, b_text = expr_latex(b, nt.name_map), expr_text(b)
+    if group.decay == 0:
+        return Tex(rf"\pm {b_latex}", f"+/- {b_text}")
+    a = _e(group.decay, nt)
+    return Tex(rf"{a.latex} \pm {b_latex}", f"{a.text} +/- {b_text}")
+
+
+def _call(name: Tex, arg, nt: Notation) -> Tex:
+    inner = _e(arg, nt)
+    return Tex(rf"{name.latex}\left({inner.latex}\right)", f"{name.text}({inner.text})")
+
+
+# ------------------------------------------------------------------ steps
+
+
+@functools.singledispatch
+def step_rows(step: Step, nt: Notation) -> tuple[Row, ...]:
+    """The rows of one step's formula (no rows for a step type without one).
+
+    Parameters
+    ----------
+    step : Step
+    nt : Notation
+        From :func:`notation`.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> from calckit.steps import ParticularSolutionStep
+    >>> t = sp.Symbol("t")
+    >>> step = ParticularSolutionStep("Particular solution", "It is.", sp.cos(t) / 2, t)
+    >>> rows_text(step_rows(step, Notation()))
+    'x_p(t) = cos(t)/2'
+    """
+    return ()
+
+
+@step_rows.register
+def _(step: EquationStep, nt: Notation) -> tuple[Row, ...]:
+    n = len(step.coefficients) - 1
+    lhs = _combination(((c, _derivative(nt, n - i)) for i, c in enumerate(step.coefficients)), nt)
+    f = Tex("f(t)", "f(t)")
+    return (Row((lhs,), (EQ, f)), Row((f,), (EQ, _e(step.forcing, nt))))
+
+
+@step_rows.register
+def _(step: ForcingSplitStep, nt: Notation) -> tuple[Row, ...]:
+    many = len(step.groups) > 1
+    rows = []
+    for g, group in enumerate(step.groups, start=1):
+        f = Tex(f"f_{{{g}}}(t)", f"f_{g}(t)") if many else Tex("f(t)", "f(t)")
+        lam = Tex(rf"\lambda_{{{g}}}", f"lambda_{g}") if many else Tex(r"\lambda", "lambda")
+        exponent = _exponent(group, nt)
+        rows.append(Row((f,), (EQ, _e(group.expr(step.t), nt)), (lam, EQ, exponent)))
+    if not rows:
+        rows.append(Row((Tex("f(t)", "f(t)"),), (EQ, Tex("0", "0")), (_words("no forcing terms"),)))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: CharacteristicStep, nt: Notation) -> tuple[Row, ...]:
+    lam = _e(step.variable, nt)
+    p = Tex(rf"p({lam.latex})", f"p({lam.text})")
+    poly = sp.Poly(step.polynomial, step.variable)
+    n = poly.degree()
+    power = {
+        j: None if j == 0 else (lam if j == 1 else Tex(f"{lam.latex}^{{{j}}}", f"{lam.text}**{j}"))
+        for j in range(n + 1)
+    }
+    body = _combination(((c, power[n - i]) for i, c in enumerate(poly.all_coeffs())), nt)
+    rows = [Row((p,), (EQ, body, EQ, Tex("0", "0")))]
+    if step.roots is None:
+        rows.append(Row((), (), (_words("roots not found in closed form"),)))
+        return tuple(rows)
+    which = {1: "simple root", 2: "double root", 3: "triple root"}
+    for root, mult in step.roots:
+        rows.append(
+            Row((lam,), (EQ, _e(root, nt)), (_words(which.get(mult, f"root of multiplicity {mult}")),))
+        )
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: ResonanceStep, nt: Notation) -> tuple[Row, ...]:
+    many = nt.groups > 1
+    p_of = _call(Tex("p", "p"), step.exponent, nt)
+    if many:
+        lhs: tuple[Tex, ...] = (Tex(rf"p(\lambda_{{{step.group}}})", f"p(lambda_{step.group})"), EQ, p_of)
+        s = Tex(f"s_{{{step.group}}}", f"s_{step.group}")
+    else:
+        lhs = (p_of,)
+        s = Tex("s", "s")
+    if step.multiplicity == 0:
+        rhs = (EQ, _e(step.value, nt), NE, Tex("0", "0"))
+        note = (_words("not a root, multiplicity "), s, EQ, Tex("0", "0"))
+    else:
+        rhs = (EQ, Tex("0", "0"))
+        kind = {1: "simple", 2: "double", 3: "triple"}.get(step.multiplicity, "multiple")
+        note = (_words(f"{kind} root (resonance), multiplicity "), s, EQ, _e(step.multiplicity, nt))
+    return (Row(lhs, rhs, note),)
+
+
+@step_rows.register
+def _(step: TrialFormStep, nt: Notation) -> tuple[Row, ...]:
+    return (Row((_derivative(nt, 0, _group_sub(nt, step.group), "t"),), (EQ, _e(step.trial, nt))),)
+
+
+@step_rows.register
+def _(step: DerivativesStep, nt: Notation) -> tuple[Row, ...]:
+    sub = _group_sub(nt, step.group)
+    return tuple(
+        Row((_derivative(nt, j, sub, "t"),), (EQ, _e(d, nt))) for j, d in enumerate(step.derivatives, start=1)
+    )
+
+
+@step_rows.register
+def _(step: SubstitutionStep, nt: Notation) -> tuple[Row, ...]:
+    sub = _group_sub(nt, step.group)
+    f = Tex(f"f_{{{step.group}}}(t)", f"f_{step.group}(t)") if nt.groups > 1 else Tex("f(t)", "f(t)")
+    return (
+        Row((_operator(nt, sub),), (EQ, f)),
+        Row((_e(step.lhs, nt),), (EQ, _e(step.rhs, nt))),
+    )
+
+
+def _linear(expr: sp.Expr, unknowns: tuple[sp.Symbol, ...], nt: Notation) -> Tex:
+    """A linear form written coefficient first: ``(k - m r^2) A + c r B``."""
+    expr = sp.sympify(expr)
+    used = [u for u in unknowns if expr.has(u)]
+    if not used:
+        return _e(expr, nt)
+    poly = sp.Poly(expr, *used)
+    if poly.total_degree() > 1:
+        return _e(expr, nt)
+    pairs = [(poly.coeff_monomial(u), _e(u, nt)) for u in used]
+    pairs.append((poly.coeff_monomial(1), None))
+    return _combination(pairs, nt)
+
+
+@step_rows.register
+def _(step: CoefficientEquationsStep, nt: Notation) -> tuple[Row, ...]:
+    unknowns = nt.unknowns_of(step.group)
+    return tuple(
+        Row(
+            (_linear(eq.lhs, unknowns, nt),),
+            (EQ, _e(eq.rhs, nt)),
+            (_words("coefficients of "), _e(basis, nt)),
+        )
+        for basis, eq in zip(step.basis, step.equations, strict=True)
+    )
+
+
+@step_rows.register
+def _(step: SolvedCoefficientsStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [Row((_e(u, nt),), (EQ, _e(v, nt))) for u, v in step.values]
+    for cond in step.conditions:
+        rows.append(Row((), (), (_words("provided "), _e(cond, nt))))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: ParticularSolutionStep, nt: Notation) -> tuple[Row, ...]:
+    return (Row((_derivative(nt, 0, "p", "t"),), (EQ, _e(step.solution, nt))),)
+
+
+@step_rows.register
+def _(step: VerificationStep, nt: Notation) -> tuple[Row, ...]:
+    operator = _operator(nt, "p")
+    lhs = Tex(f"{operator.latex} - f(t)", f"{operator.text} - f(t)")
+    if step.verified:
+        return (Row((lhs,), (EQ, Tex("0", "0")), (_words("verified"),)),)
+    return (Row((lhs,), (EQ, _e(step.residual, nt), NE, Tex("0", "0")), (_words("not verified"),)),)
+
+
+@step_rows.register
+def _(step: HomogeneousStep, nt: Notation) -> tuple[Row, ...]:
+    return (Row((_derivative(nt, 0, "h", "t"),), (EQ, _e(step.solution, nt))),)
+
+
+@step_rows.register
+def _(step: InitialConditionsStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [
+        Row((_derivative(nt, j, None, "0"),), (EQ, _e(eq.lhs, nt), EQ, _e(eq.rhs, nt)))
+        for j, eq in enumerate(step.equations)
+    ]
+    rows.extend(Row((_e(c, nt),), (EQ, _e(v, nt))) for c, v in step.values)
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: TotalResponseStep, nt: Notation) -> tuple[Row, ...]:
+    x = _derivative(nt, 0, None, "t")
+    xh, xp = _derivative(nt, 0, "h", "t"), _derivative(nt, 0, "p", "t")
+    return (
+        Row((xh,), (EQ, _e(step.transient, nt))),
+        Row((x,), (EQ, Tex(f"{xh.latex} + {xp.latex}", f"{xh.text} + {xp.text}"))),
+        Row((), (EQ, _e(step.solution, nt))),
+    )
+
+
+# ------------------------------------------------------------------ printers
+
+
+def rows_latex(rows: Sequence[Row], *, brace: bool = False) -> str:
+    r"""LaTeX of a step's rows: one line, or an ``aligned`` block.
+
+    Parameters
+    ----------
+    rows : sequence of Row
+    brace : bool
+        Put a left brace before the block (a system of equations).
+
+    Examples
+    --------
+    >>> rows_latex([Row((Tex("a", "a"),), (EQ, Tex("1", "1")))])
+    'a = 1'
+    """
+    if not rows:
+        return ""
+
+    def join(pieces: tuple[Tex, ...]) -> str:
+        return " ".join(p.latex for p in pieces)
+
+    if len(rows) == 1 and not brace:
+        row = rows[0]
+        line = " ".join(s for s in (join(row.lhs), join(row.rhs)) if s)
+        if row.note:
+            line += (r" \qquad " if line else "") + join(row.note)
+        return line
+    lines = []
+    for row in rows:
+        line = f"{join(row.lhs)} &{join(row.rhs)}"
+        if row.note:
+            line += r" && \qquad " + join(row.note)
+        lines.append(line.strip())
+    block = r"\begin{aligned}" + r" \\ ".join(lines) + r"\end{aligned}"
+    return rf"\left\{{ {block} \right." if brace else block
+
+
+def rows_text(rows: Sequence[Row], *, indent: str = "") -> str:
+    """Plain text of a step's rows, aligned at the relation.
+
+    Examples
+    --------
+    >>> rows = [Row((Tex("a", "a"),), (EQ, Tex("1", "1"))), Row((Tex("bb", "bb"),), (EQ, Tex("2", "2")))]
+    >>> print(rows_text(rows))
+     a = 1
+    bb = 2
+    """
+    width = max((len(" ".join(p.text for p in r.lhs)) for r in rows), default=0)
+    lines = []
+    for row in rows:
+        lhs = " ".join(p.text for p in row.lhs)
+        line = f"{lhs:>{width}} " + " ".join(p.text for p in row.rhs) if row.rhs else lhs
+        if row.note:
+            note = " ".join(p.text for p in row.note)
+            line = f"{line.rstrip()}    ({note})" if line.strip() else note
+        lines.append(indent + line.rstrip())
+    return "\n".join(lines)
+
+
+def _braced(step: Step) -> bool:
+    return isinstance(step, CoefficientEquationsStep) and len(step.equations) > 1
+
+
+def step_latex(step: Step, nt: Notation | None = None, *, names: Mapping | None = None) -> str:
+    r"""LaTeX of one step's formula (without ``$$``).
+
+    Parameters
+    ----------
+    step : Step
+    nt : Notation, optional
+        From :func:`notation` over the whole derivation; default: read from the step alone.
+    names : mapping, optional
+        Extra display names (used when *nt* is not given).
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> from calckit.steps import HomogeneousStep
+    >>> C1, t = sp.symbols("C_1 t")
+    >>> step_latex(HomogeneousStep("Transient", "Free motion.", C1 * sp.exp(-t), (C1,), "overdamped"))
+    'x_{h}(t) = C_{1} e^{- t}'
+    """
+    nt = notation((step,), names=names) if nt is None else nt
+    return rows_latex(step_rows(step, nt), brace=_braced(step))
+
+
+def step_plain(
+    step: Step, nt: Notation | None = None, *, names: Mapping | None = None, indent: str = ""
+) -> str:
+    """Plain text of one step's formula (sympy ``sstr`` spelling).
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> from calckit.steps import HomogeneousStep
+    >>> C1, t = sp.symbols("C_1 t")
+    >>> step_plain(HomogeneousStep("Transient", "Free motion.", C1 * sp.exp(-t), (C1,), "overdamped"))
+    'x_h(t) = C_1*exp(-t)'
+    """
+    nt = notation((step,), names=names) if nt is None else nt
+    return rows_text(step_rows(step, nt), indent=indent)
+
+
+def check_level(level: str) -> str:
+    """Return *level* if it is one of :data:`LEVELS`, else raise SheetError."""
+    if level not in LEVELS:
+        raise SheetError(f'unknown level "{level}"', where="level", do='Use "summary" or "full"')
+    return level
+
+
+def steps_at(steps: Iterable[Step], level: str = "full") -> tuple[tuple[int, Step], ...]:
+    """The steps shown at *level*, each with its number in the full derivation.
+
+    Numbers are kept at the summary level, so that step 17 is step 17 in every output.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> from calckit import LinearODE
+    >>> t = sp.Symbol("t")
+    >>> [n for n, _ in steps_at(LinearODE([1, 0, 4]).particular(sp.cos(2 * t), t=t).steps, "summary")]
+    [1, 10, 11]
+    """
+    check_level(level)
+    numbered = tuple(enumerate(steps, start=1))
+    if level == "full":
+        return numbered
+    return tuple((n, s) for n, s in numbered if s.kind in SUMMARY_KINDS)
