@@ -18,6 +18,8 @@ from .errors import (
 from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
 from .numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
 from .oscillator import REGIMES, HarmonicLine, Oscillator
+from .render.display import show
+from .render.numbers import Substitution, put_through
 from .response import Response
 from .sheet import DEFAULT_CAUTION, Check, Sheet
 from .undetermined import Derivation, LinearODE
@@ -38,6 +40,9 @@ __all__ = [
     "Oscillator",
     "REGIMES",
     "Response",
+    "show",
+    "put_through",
+    "Substitution",
     "Sheet",
     "Check",
     "DEFAULT_CAUTION",

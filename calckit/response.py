@@ -63,6 +63,16 @@ class Response:
 
         return derivation_latex_document(self)
 
+    def _repr_markdown_(self) -> str:
+        from .render.display import derivation_markdown
+
+        return derivation_markdown(self)
+
+    def _repr_pretty_(self, printer, cycle: bool) -> None:
+        from .render.display import derivation_text
+
+        printer.text("..." if cycle else derivation_text(self))
+
     def _repr_html_(self) -> str:
         from .render.display import derivation_html
 

@@ -52,6 +52,16 @@ class Step:
 
         return step_latex_document(self)
 
+    def _repr_markdown_(self) -> str:
+        from .render.display import step_markdown
+
+        return step_markdown(self)
+
+    def _repr_pretty_(self, printer, cycle: bool) -> None:
+        from .render.display import step_text
+
+        printer.text("..." if cycle else step_text(self))
+
     def _repr_html_(self) -> str:
         from .render.display import step_html
 
