@@ -8,6 +8,7 @@ checks, references and notes into their own sections.
 
 from __future__ import annotations
 
+import re
 from typing import Any
 
 import sympy as sp
@@ -111,6 +112,9 @@ def block_html(block: Any, number: str = "") -> Html:
         from .display import derivation_html
 
         inner = derivation_html(block.derivation, level=block.level)
+        # the derivation's steps are sub-steps of this sheet step: 3.2.1, 3.2.2, ...
+        inner = re.sub(r'<span class="number">(\d+)</span>', rf'<span class="number">{number}.\1</span>', inner)
+        inner = inner.replace("<h3>", "<h4>").replace("</h3>", "</h4>")
         verdict = "verified by substitution" if block.derivation.verified else "NOT verified"
         return Html(
             f'<div class="derivation"><h3><span class="number">{escape(number)}</span> '
