@@ -3,7 +3,7 @@
 The public API is listed in ``__all__``; see ``shared/DESIGN.md`` for the contract.
 """
 
-from . import units
+from . import excitation, fourier, harmonic, units
 from ._version import __version__
 from .errors import (
     BuildError,
@@ -15,7 +15,23 @@ from .errors import (
     SheetError,
     UnitsError,
 )
+from .excitation import (
+    base_excitation,
+    eccentricity_from_grade,
+    transmitted_force_amplitude,
+    unbalance_force_amplitude,
+)
 from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
+from .fourier import FourierSeries, fourier_series, fourier_series_from_samples
+from .harmonic import (
+    half_power_bandwidth,
+    isolation_efficiency,
+    magnification,
+    peak_frequency_ratio,
+    peak_magnification,
+    phase_angle,
+    transmissibility,
+)
 from .numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
 from .oscillator import REGIMES, HarmonicLine, Oscillator
 from .render.display import show
@@ -52,6 +68,23 @@ __all__ = [
     "UnitsError",
     "split_forcing",
     "units",
+    "harmonic",
+    "excitation",
+    "fourier",
+    "magnification",
+    "transmissibility",
+    "phase_angle",
+    "peak_frequency_ratio",
+    "peak_magnification",
+    "half_power_bandwidth",
+    "isolation_efficiency",
+    "unbalance_force_amplitude",
+    "eccentricity_from_grade",
+    "base_excitation",
+    "transmitted_force_amplitude",
+    "FourierSeries",
+    "fourier_series",
+    "fourier_series_from_samples",
     "compile_expr",
     "Compiled",
     "time_history",
