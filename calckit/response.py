@@ -14,6 +14,7 @@ from dataclasses import dataclass
 
 import sympy as sp
 
+from .displayable import Displayable
 from .errors import ModelError
 from .exact import exact
 from .steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
@@ -23,7 +24,7 @@ __all__ = ["Response", "homogeneous_basis", "total_response"]
 
 
 @dataclass(frozen=True)
-class Response:
+class Response(Displayable):
     """Total response ``x(t) = transient + steady state`` meeting the initial values.
 
     Attributes
@@ -57,31 +58,6 @@ class Response:
     def verified(self) -> bool:
         """The particular solution's back-substitution check."""
         return self.particular.verified
-
-    def _repr_latex_(self) -> str:
-        from .render.display import derivation_latex_document
-
-        return derivation_latex_document(self)
-
-    def _repr_markdown_(self) -> str:
-        from .render.display import derivation_markdown
-
-        return derivation_markdown(self)
-
-    def _repr_pretty_(self, printer, cycle: bool) -> None:
-        from .render.display import derivation_text
-
-        printer.text("..." if cycle else derivation_text(self))
-
-    def _repr_html_(self) -> str:
-        from .render.display import derivation_html
-
-        return derivation_html(self)
-
-    def __str__(self) -> str:
-        from .render.display import derivation_text
-
-        return derivation_text(self)
 
 
 def _root_groups(ode: LinearODE, roots):

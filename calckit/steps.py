@@ -13,6 +13,7 @@ from dataclasses import dataclass
 
 import sympy as sp
 
+from .displayable import Displayable
 from .forcing import ExponentGroup
 
 __all__ = [
@@ -35,7 +36,7 @@ __all__ = [
 
 
 @dataclass(frozen=True)
-class Step:
+class Step(Displayable):
     """Base of every step: a short title and one plain sentence."""
 
     title: str
@@ -45,27 +46,6 @@ class Step:
     def kind(self) -> str:
         """A stable name of the step's type, e.g. ``"trial-form"``."""
         return _KINDS[type(self)]
-
-    # one display pipeline: see calckit.render.display
-    def _repr_latex_(self) -> str:
-        from .render.display import step_latex_document
-
-        return step_latex_document(self)
-
-    def _repr_markdown_(self) -> str:
-        from .render.display import step_markdown
-
-        return step_markdown(self)
-
-    def _repr_pretty_(self, printer, cycle: bool) -> None:
-        from .render.display import step_text
-
-        printer.text("..." if cycle else step_text(self))
-
-    def _repr_html_(self) -> str:
-        from .render.display import step_html
-
-        return step_html(self)
 
 
 @dataclass(frozen=True)

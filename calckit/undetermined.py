@@ -37,6 +37,7 @@ from dataclasses import dataclass, field
 
 import sympy as sp
 
+from .displayable import Displayable
 from .errors import ForcingError, ModelError
 from .exact import exact
 from .forcing import COS, SIN, ExponentGroup, ForcingSplit, quasi_polynomial, split_forcing
@@ -64,7 +65,7 @@ _LETTER_PAIRS = (("A", "B"), ("C", "D"), ("P", "Q"), ("U", "V"), ("G", "H"), ("K
 
 
 @dataclass(frozen=True)
-class Derivation:
+class Derivation(Displayable):
     """A particular solution derived step by step.
 
     Attributes
@@ -103,31 +104,6 @@ class Derivation:
         from .numeric import time_history
 
         return time_history(self, times, **values)
-
-    def _repr_latex_(self) -> str:
-        from .render.display import derivation_latex_document
-
-        return derivation_latex_document(self)
-
-    def _repr_markdown_(self) -> str:
-        from .render.display import derivation_markdown
-
-        return derivation_markdown(self)
-
-    def _repr_pretty_(self, printer, cycle: bool) -> None:
-        from .render.display import derivation_text
-
-        printer.text("..." if cycle else derivation_text(self))
-
-    def _repr_html_(self) -> str:
-        from .render.display import derivation_html
-
-        return derivation_html(self)
-
-    def __str__(self) -> str:
-        from .render.display import derivation_text
-
-        return derivation_text(self)
 
 
 def _check_coefficient(value, index: int, order: int):
