@@ -1,0 +1,632 @@
+"""Periodic loads that are not harmonic, as Fourier series.
+
+A periodic load (a press stroke, a reciprocating compressor's gas force, a square
+wave from a switching drive) is replaced by its mean plus ``N`` harmonics,
+
+.. math::
+    f(t) \\approx a_0 + \\sum_{n=1}^{N} \\left(a_n \\cos n\\omega t + b_n \\sin n\\omega t\\right),
+    \\qquad \\omega = \\frac{2\\pi}{T},
+
+each harmonic of which the derivation engine can take on its own (superposition).
+
+Two ways in:
+
+* :func:`fourier_series` for a sympy expression or ``Piecewise`` defined over one
+  period ``[0, T)``: closed-form coefficients by ``sympy.integrate``, piece by piece,
+  with numeric Gauss-Legendre quadrature (and a note saying so) for pieces sympy
+  cannot integrate quickly.
+* :func:`fourier_series_from_samples` for equally spaced samples over one period
+  (a measured or tabulated load): ``numpy.fft.rfft`` with the scaling that turns the
+  discrete transform into ``a_0, a_n, b_n``.
+
+References
+----------
+E. Kreyszig, *Advanced Engineering Mathematics*, 10th ed., Wiley, 2011, sec. 11.1-11.2
+(Euler formulas for the coefficients), from memory.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import sympy as sp
+
+from .errors import CalcError, ForcingError
+from .exact import exact
+
+__all__ = ["FourierSeries", "Harmonic", "fourier_series", "fourier_series_from_samples"]
+
+Number = sp.Expr | float
+
+_N = sp.Symbol("n", integer=True, positive=True)  # harmonic number in general formulas
+
+
+@dataclass(frozen=True)
+class Harmonic:
+    """One row of the harmonic table of a :class:`FourierSeries`.
+
+    ``a cos(n omega t) + b sin(n omega t) = amplitude * cos(n omega t - phase)``.
+
+    Attributes
+    ----------
+    n : harmonic number (1 is the fundamental).
+    frequency : ``n * omega``, rad/s.
+    a, b : cosine and sine coefficients.
+    amplitude : ``sqrt(a^2 + b^2)``.
+    phase : ``atan2(b, a)``, rad, in ``(-pi, pi]``; 0 when the harmonic is absent.
+    """
+
+    n: int
+    frequency: Number
+    a: Number
+    b: Number
+    amplitude: Number
+    phase: Number
+
+
+@dataclass(frozen=True)
+class FourierSeries:
+    r"""A periodic load as its mean plus ``N`` harmonics.
+
+    Attributes
+    ----------
+    period : ``T``, s (sympy for :func:`fourier_series`, float from samples).
+    omega : fundamental frequency ``2 pi / T``, rad/s.
+    a0 : the mean of the load over one period.
+    coefficients : ``((1, a_1, b_1), (2, a_2, b_2), ...)``.
+    mean_square : :math:`\frac{1}{T}\int_0^T f^2\,dt`, the whole load's mean square.
+    is_exact : True when every coefficient is an exact sympy expression.
+    a_n_formula, b_n_formula : the coefficients as sympy expressions in the
+        positive-integer symbol :attr:`n_symbol` when sympy found them for general
+        ``n``, else None. A note lists any ``n`` where the formula does not hold.
+    n_symbol : the harmonic-number symbol of the formulas (``n``, or a dummy if the
+        load itself uses a symbol called ``n``).
+    notes : what was done that a checker should know (numeric quadrature, rounding).
+
+    Examples
+    --------
+    >>> t = sp.Symbol("t", real=True)
+    >>> s = fourier_series(sp.Piecewise((1, t < 1), (-1, True)), t, 2, 3)
+    >>> s.coefficients
+    ((1, 0, 4/pi), (2, 0, 0), (3, 0, 4/(3*pi)))
+    >>> s.expression(t)
+    4*sin(pi*t)/pi + 4*sin(3*pi*t)/(3*pi)
+    """
+
+    period: Number
+    omega: Number
+    a0: Number
+    coefficients: tuple[tuple[int, Number, Number], ...]
+    mean_square: Number
+    is_exact: bool
+    a_n_formula: sp.Expr | None = None
+    b_n_formula: sp.Expr | None = None
+    n_symbol: sp.Symbol = _N
+    notes: tuple[str, ...] = ()
+
+    @property
+    def n_harmonics(self) -> int:
+        return len(self.coefficients)
+
+    @property
+    def harmonics(self) -> tuple[Harmonic, ...]:
+        """The harmonic table: n, frequency, a_n, b_n, amplitude, phase."""
+        rows = []
+        for n, a, b in self.coefficients:
+            if isinstance(a, sp.Basic) or isinstance(b, sp.Basic):
+                a, b = sp.sympify(a), sp.sympify(b)
+                amp = sp.sqrt(a**2 + b**2)
+                phase = sp.Integer(0) if (a == 0 and b == 0) else sp.atan2(b, a)
+            else:
+                amp, phase = math.hypot(a, b), math.atan2(b, a)
+            rows.append(Harmonic(n, n * self.omega, a, b, amp, phase))
+        return tuple(rows)
+
+    @property
+    def amplitudes(self) -> tuple[Number, ...]:
+        return tuple(h.amplitude for h in self.harmonics)
+
+    @property
+    def phases(self) -> tuple[Number, ...]:
+        return tuple(h.phase for h in self.harmonics)
+
+    @property
+    def captured_mean_square(self) -> Number:
+        r""":math:`a_0^2 + \frac12 \sum_{n=1}^N (a_n^2 + b_n^2)` (Parseval)."""
+        return self.a0**2 + sum((a**2 + b**2) for _, a, b in self.coefficients) / 2
+
+    @property
+    def captured_fraction(self) -> Number:
+        r"""Mean square of the truncated series over the mean square of the load.
+
+        .. math:: \frac{a_0^2 + \frac12\sum_{n=1}^N (a_n^2 + b_n^2)}{\frac1T\int_0^T f^2\,dt}
+
+        1 means the N harmonics (and the mean) hold all of the load's mean square
+        (Parseval's identity). A load that is zero throughout gives 1.
+        """
+        return _ratio(self.captured_mean_square, self.mean_square)
+
+    @property
+    def alternating_captured_fraction(self) -> Number:
+        """Like :attr:`captured_fraction` with the mean taken out of top and bottom:
+        how much of the fluctuating part the N harmonics hold."""
+        return _ratio(self.captured_mean_square - self.a0**2, self.mean_square - self.a0**2)
+
+    def expression(self, t: sp.Symbol) -> sp.Expr:
+        """The truncated series as a sympy expression in *t*, for the derivation engine.
+
+        Exact coefficients are used as they are; float coefficients (from samples) are
+        rounded to 12 significant figures, those below ``1e-12`` times the largest are
+        dropped as round-off, and the rest are made exact decimals with
+        :func:`calckit.exact.exact`. ``omega`` is exact (``2*pi/T``).
+        """
+        if not isinstance(t, sp.Symbol):
+            raise ForcingError(
+                f"expected a sympy Symbol for the time, got {type(t).__name__}",
+                where="FourierSeries.expression(t)",
+                do='Pass t = sympy.Symbol("t", real=True)',
+            )
+        omega = 2 * sp.pi / exact(self.period, where="FourierSeries.period")
+        coeffs = [self.a0] + [c for _, a, b in self.coefficients for c in (a, b)]
+        if all(isinstance(c, sp.Basic) for c in coeffs):
+            a0 = self.a0
+            ab = [(n, a, b) for n, a, b in self.coefficients]
+        else:
+            scale = max(abs(float(c)) for c in coeffs)
+            a0 = _clean(self.a0, scale)
+            ab = [(n, _clean(a, scale), _clean(b, scale)) for n, a, b in self.coefficients]
+        return a0 + sum(a * sp.cos(n * omega * t) + b * sp.sin(n * omega * t) for n, a, b in ab)
+
+    def evaluate(self, times) -> np.ndarray:
+        """The truncated series at *times* (s), as numpy floats; vectorised."""
+        try:
+            a0 = float(self.a0)
+            a = np.array([float(c) for _, c, _ in self.coefficients])
+            b = np.array([float(c) for _, _, c in self.coefficients])
+            omega = float(self.omega)
+        except TypeError:
+            names = sorted(
+                str(s)
+                for c in [self.a0, self.omega, *(x for row in self.coefficients for x in row[1:])]
+                if isinstance(c, sp.Basic)
+                for s in c.free_symbols
+            )
+            raise ForcingError(
+                f"the coefficients hold symbols ({', '.join(names)}), so they have no numeric value",
+                where="FourierSeries.evaluate",
+                do="Substitute numbers into .expression(t) and evaluate that, or build the series from numbers",
+            ) from None
+        tt = np.asarray(times, dtype=float)
+        n = np.arange(1, self.n_harmonics + 1)
+        phase = np.multiply.outer(tt, n * omega)
+        return a0 + np.cos(phase) @ a + np.sin(phase) @ b
+
+
+def _ratio(top, bottom):
+    if isinstance(top, sp.Basic) or isinstance(bottom, sp.Basic):
+        bottom = sp.factor_terms(sp.sympify(bottom))
+        if bottom.is_zero:
+            return sp.Integer(1)
+        return sp.factor_terms(sp.sympify(top)) / bottom  # common factors (A**2) cancel
+    return 1.0 if bottom == 0 else float(top / bottom)
+
+
+def _clean(value, scale: float) -> sp.Expr:
+    v = float(value)
+    if abs(v) <= 1e-12 * scale:
+        return sp.Integer(0)
+    return exact(float(f"{v:.12g}"))
+
+
+# --------------------------------------------------------------------------- validation
+
+
+def _check_count(n_harmonics, where: str) -> int:
+    if isinstance(n_harmonics, bool) or not isinstance(n_harmonics, int | np.integer):
+        raise ForcingError(
+            f"expected a whole number of harmonics, got {type(n_harmonics).__name__} {n_harmonics!r}",
+            where=where,
+            do="Give an int of at least 1",
+        )
+    if n_harmonics < 1:
+        raise ForcingError(
+            f"the number of harmonics must be at least 1, got {n_harmonics}",
+            where=where,
+            do="Give an int of at least 1",
+        )
+    return int(n_harmonics)
+
+
+def _check_period(period, where: str) -> sp.Expr:
+    try:
+        p = exact(period, where=where)
+    except CalcError as exc:
+        raise ForcingError(exc.what, where=exc.where, do=exc.do) from None
+    if p.is_positive is not True:
+        if p.is_number or p.is_positive is False or p.is_nonpositive:
+            raise ForcingError(
+                f"the period must be positive, got {p}", where=where, do="Give a positive number of seconds"
+            )
+        raise ForcingError(
+            f"cannot tell whether the period {p} is positive",
+            where=where,
+            do='Declare symbols as positive, e.g. sympy.Symbol("T", positive=True)',
+        )
+    return p
+
+
+# --------------------------------------------------------------------------- closed form
+
+
+_REWRITE = (sp.Heaviside, sp.Abs, sp.sign, sp.Max, sp.Min)
+
+
+def _is_quasi_polynomial(expr: sp.Expr, t: sp.Symbol) -> bool:
+    """True for sums of c * t**k * exp(linear) * sin/cos/sinh/cosh(linear) (powers allowed):
+    the class sympy integrates quickly and in closed form."""
+
+    def linear(arg) -> bool:
+        p = sp.Poly(arg, t) if arg.is_polynomial(t) else None
+        return p is not None and p.degree() <= 1
+
+    def factor_ok(f) -> bool:
+        if not f.has(t):
+            return True
+        if f == t:
+            return True
+        if f.is_Pow and f.exp.is_Integer and f.exp > 0:
+            return factor_ok(f.base)
+        if isinstance(f, sp.exp | sp.sin | sp.cos | sp.sinh | sp.cosh):
+            return linear(f.args[0])
+        return False
+
+    return all(
+        all(factor_ok(f) for f in sp.Mul.make_args(term)) for term in sp.Add.make_args(sp.expand(expr))
+    )
+
+
+def _integrate_exact(integrand: sp.Expr, t: sp.Symbol, lo, hi) -> sp.Expr | None:
+    try:
+        out = sp.integrate(integrand, (t, lo, hi))
+    except (NotImplementedError, ValueError, TypeError):  # pragma: no cover - sympy internals
+        return None
+    return None if out.has(sp.Integral) else out
+
+
+def _gauss_legendre(expr: sp.Expr, t: sp.Symbol, lo: float, hi: float, panels: int):
+    """Nodes, weights and f(nodes) for composite 16-point Gauss-Legendre on [lo, hi]."""
+    x, w = np.polynomial.legendre.leggauss(16)
+    edges = np.linspace(lo, hi, panels + 1)
+    half = np.diff(edges) / 2
+    mid = (edges[:-1] + edges[1:]) / 2
+    nodes = (mid[:, None] + half[:, None] * x[None, :]).ravel()
+    weights = (half[:, None] * w[None, :]).ravel()
+    f = sp.lambdify(t, expr, modules="numpy")
+    with np.errstate(all="ignore"):
+        values = np.broadcast_to(np.asarray(f(nodes), dtype=float), nodes.shape)
+    return nodes, weights, values
+
+
+def _intervals(pieces_set) -> list[tuple[sp.Expr, sp.Expr]]:
+    sets = pieces_set.args if isinstance(pieces_set, sp.Union) else (pieces_set,)
+    return [(s.inf, s.sup) for s in sets if isinstance(s, sp.Interval) and s.measure != 0]
+
+
+def fourier_series(f, t: sp.Symbol, period, n_harmonics: int, *, method: str = "auto") -> FourierSeries:
+    r"""Fourier series of a load given over one period ``[0, T)``.
+
+    .. math::
+        a_0 = \frac1T\int_0^T f\,dt, \quad
+        a_n = \frac2T\int_0^T f \cos n\omega t\,dt, \quad
+        b_n = \frac2T\int_0^T f \sin n\omega t\,dt, \quad \omega = \frac{2\pi}{T}
+
+    Parameters
+    ----------
+    f : sympy expression, ``Piecewise`` or number
+        The load over one period; it is repeated with period ``T``. ``Heaviside``,
+        ``Abs``, ``sign``, ``Max`` and ``Min`` are rewritten as ``Piecewise``. Floats
+        are read as the decimals they show, but write fractions of ``pi`` exactly:
+        ``sp.pi * t / 1.5`` reaches calckit as ``0.666666666666667*pi*t`` (sympy
+        evaluates it first), so use ``2 * sp.pi * t / 3`` or ``sp.Rational(3, 2)``.
+    t : sympy.Symbol
+        The time symbol used in *f*.
+    period : number or positive sympy expression
+        ``T``, s.
+    n_harmonics : int
+        ``N >= 1``, harmonics kept.
+    method : {"auto", "exact", "numeric"}
+        ``"auto"``: sympy integrates each piece made of polynomials, exponentials,
+        sines and cosines (closed form, fast); any other piece is integrated
+        numerically (composite Gauss-Legendre) and a note says so, because sympy can
+        take minutes over such integrals. ``"exact"`` tries sympy on every piece
+        (falling back to quadrature only if it gives up); ``"numeric"`` uses quadrature
+        throughout. Quadrature needs numbers: symbols other than *t* raise.
+
+    Returns
+    -------
+    FourierSeries
+
+    Raises
+    ------
+    ForcingError
+        Bad period or harmonic count, *f* not defined on all of ``[0, T)``, or
+        quadrature asked for an expression with symbols.
+
+    References
+    ----------
+    Kreyszig, *Advanced Engineering Mathematics*, 10th ed., sec. 11.1, eqs. (6), from memory.
+
+    Examples
+    --------
+    >>> t = sp.Symbol("t", real=True)
+    >>> half_sine = sp.Piecewise((sp.sin(sp.pi * t), t < 1), (0, True))
+    >>> s = fourier_series(half_sine, t, 2, 2)
+    >>> s.a0, s.coefficients
+    (1/pi, ((1, 0, 1/2), (2, -2/(3*pi), 0)))
+    """
+    where = "fourier_series"
+    if not isinstance(t, sp.Symbol):
+        raise ForcingError(
+            f"expected a sympy Symbol for the time, got {type(t).__name__}",
+            where=f"{where}(t)",
+            do='Pass t = sympy.Symbol("t", real=True)',
+        )
+    if method not in ("auto", "exact", "numeric"):
+        raise ForcingError(
+            f"unknown method {method!r}", where=f"{where}(method)", do='Use "auto", "exact" or "numeric"'
+        )
+    T = _check_period(period, f"{where}(period)")
+    N = _check_count(n_harmonics, f"{where}(n_harmonics)")
+    try:
+        f = exact(f if isinstance(f, sp.Basic) else sp.sympify(f), where=f"{where}(f)")
+    except sp.SympifyError:
+        raise ForcingError(
+            f"cannot read {f!r} as a sympy expression", where=f"{where}(f)", do="Give a sympy expression in t"
+        ) from None
+    if f.has(*_REWRITE):
+        f = f.rewrite(sp.Piecewise)
+    f = sp.piecewise_fold(f)
+
+    # Split into (expression, lo, hi) pieces when the period is a number.
+    if T.is_number:
+        if isinstance(f, sp.Piecewise):
+            whole = sp.Interval.Ropen(0, T)
+            try:
+                pairs = f.as_expr_set_pairs(whole)
+            except (NotImplementedError, TypeError, ValueError):
+                pairs = None
+            if pairs is not None:
+                covered = sp.Union(*[s for _, s in pairs]) if pairs else sp.EmptySet
+                missing = whole - covered
+                if missing.measure != 0:
+                    raise ForcingError(
+                        f"the Piecewise does not define the load on {missing}",
+                        where=f"{where}(f)",
+                        do="Cover the whole period [0, T), e.g. end with (value, True)",
+                    )
+                pieces = [(e, lo, hi) for e, s in pairs for lo, hi in _intervals(s)]
+            else:
+                pieces = [(f, sp.Integer(0), T)]
+        else:
+            pieces = [(f, sp.Integer(0), T)]
+    else:
+        pieces = [(f, sp.Integer(0), T)]
+
+    w = 2 * sp.pi / T
+    n_sym = (
+        _N
+        if "n" not in {str(x) for x in f.free_symbols | T.free_symbols}
+        else sp.Dummy("n", integer=True, positive=True)
+    )
+    notes: list[str] = []
+    a0 = sp.Integer(0)
+    ms = sp.Integer(0)
+    a = [sp.Integer(0)] * N
+    b = [sp.Integer(0)] * N
+    a_formula: sp.Expr | None = sp.Integer(0)
+    b_formula: sp.Expr | None = sp.Integer(0)
+    all_exact = True
+
+    for expr, lo, hi in pieces:
+        if expr == 0:
+            continue
+        branches = [e for e, _ in expr.args] if isinstance(expr, sp.Piecewise) else [expr]
+        use_exact = method == "exact" or (
+            method == "auto" and all(_is_quasi_polynomial(e, t) for e in branches)
+        )
+        done = False
+        if use_exact:
+            parts = _exact_piece(expr, t, lo, hi, w, N, n_sym)
+            if parts is not None:
+                p0, psq, pa, pb, fa, fb, odd_ones = parts
+                if odd_ones:
+                    notes.append(
+                        f"the general formula for {expr} on [{lo}, {hi}) does not hold at n = "
+                        f"{', '.join(map(str, odd_ones))}; those coefficients were integrated directly"
+                    )
+                a0 += p0
+                ms += psq
+                a = [x + y for x, y in zip(a, pa, strict=True)]
+                b = [x + y for x, y in zip(b, pb, strict=True)]
+                a_formula = None if (a_formula is None or fa is None) else a_formula + fa
+                b_formula = None if (b_formula is None or fb is None) else b_formula + fb
+                done = True
+            else:
+                notes.append(f"sympy could not integrate {expr} on [{lo}, {hi}); numeric quadrature used")
+        if not done:
+            p0, psq, pa, pb, note = _numeric_piece(expr, t, lo, hi, w, N, where)
+            notes.append(note)
+            a0 += p0
+            ms += psq
+            a = [x + y for x, y in zip(a, pa, strict=True)]
+            b = [x + y for x, y in zip(b, pb, strict=True)]
+            a_formula = b_formula = None
+            all_exact = False
+
+    scale = 2 / T
+    return FourierSeries(
+        period=T,
+        omega=w,
+        a0=_tidy(a0 / T),
+        coefficients=tuple((n + 1, _tidy(scale * a[n]), _tidy(scale * b[n])) for n in range(N)),
+        mean_square=_tidy(ms / T),
+        is_exact=all_exact,
+        a_n_formula=None if a_formula is None else _tidy_formula(scale * a_formula),
+        b_n_formula=None if b_formula is None else _tidy_formula(scale * b_formula),
+        n_symbol=n_sym,
+        notes=tuple(notes),
+    )
+
+
+def _tidy(expr: sp.Expr) -> sp.Expr:
+    """Cheap tidying for a coefficient: one fraction, common factors pulled out."""
+    expr = sp.sympify(expr)
+    if expr.has(sp.Float):
+        return expr
+    return sp.factor_terms(sp.together(expr))
+
+
+def _tidy_formula(expr: sp.Expr) -> sp.Expr:
+    """Fuller simplification for the two general-n formulas (done once, kept if shorter)."""
+    expr = _tidy(expr)
+    if sp.count_ops(expr) > 200:
+        return expr
+    simpler = sp.simplify(expr)
+    return simpler if sp.count_ops(simpler) <= sp.count_ops(expr) else expr
+
+
+def _exact_piece(expr, t, lo, hi, w, N, n_sym):
+    """Integrals of expr, expr**2, expr*cos(n w t), expr*sin(n w t) over [lo, hi), or None.
+
+    The trigonometric integrals are done once for a general positive integer n and
+    evaluated at n = 1..N; any n where that gives no finite value is integrated on
+    its own and reported.
+    """
+    i0 = _integrate_exact(expr, t, lo, hi)
+    isq = _integrate_exact(sp.piecewise_fold(expr**2), t, lo, hi)
+    if i0 is None or isq is None:
+        return None
+    out = []
+    odd_ones: set[int] = set()
+    for trig in (sp.cos, sp.sin):
+        general = _integrate_exact(expr * trig(n_sym * w * t), t, lo, hi)
+        values = []
+        for k in range(1, N + 1):
+            v = None
+            if general is not None:
+                v = general.subs(n_sym, k)
+                if v.has(sp.nan, sp.zoo, sp.oo, -sp.oo, sp.Integral):
+                    v = None
+                    odd_ones.add(k)
+            if v is None:
+                v = _integrate_exact(expr * trig(k * w * t), t, lo, hi)
+                if v is None:
+                    return None
+            values.append(v)
+        out.append((values, general))
+    (pa, fa), (pb, fb) = out
+    return i0, isq, pa, pb, fa, fb, sorted(odd_ones)
+
+
+def _numeric_piece(expr, t, lo, hi, w, N, where):
+    others = expr.free_symbols - {t}
+    if others or not (sp.sympify(lo).is_number and sp.sympify(hi).is_number):
+        names = ", ".join(sorted(str(s) for s in others | sp.sympify(hi - lo).free_symbols))
+        raise ForcingError(
+            f"the piece {expr} needs numeric quadrature but holds symbols ({names})",
+            where=f"{where}(f)",
+            do="Substitute numbers for the symbols, or rewrite the piece with polynomials, exponentials, sines and cosines",
+        )
+    flo, fhi, fT, fw = float(lo), float(hi), 2 * math.pi / float(w), float(w)
+    panels = max(4, math.ceil((4 * N + 16) * (fhi - flo) / fT))
+    nodes, weights, values = _gauss_legendre(expr, t, flo, fhi, panels)
+    if not np.all(np.isfinite(values)):
+        raise ForcingError(
+            f"the piece {expr} is not finite everywhere on [{lo}, {hi})",
+            where=f"{where}(f)",
+            do="Give a load that is finite over the whole period",
+        )
+    wv = weights * values
+    n = np.arange(1, N + 1)
+    arg = np.multiply.outer(n * fw, nodes)
+    pa = [sp.Float(x, 15) for x in np.cos(arg) @ wv]
+    pb = [sp.Float(x, 15) for x in np.sin(arg) @ wv]
+    note = (
+        f"{expr} on [{lo}, {hi}): coefficients by {panels}-panel 16-point Gauss-Legendre quadrature "
+        "(floats, not exact)"
+    )
+    return sp.Float(wv.sum(), 15), sp.Float(np.dot(weights, values**2), 15), pa, pb, note
+
+
+# --------------------------------------------------------------------------- samples
+
+
+def fourier_series_from_samples(values, period, n_harmonics: int) -> FourierSeries:
+    r"""Fourier series of equally spaced samples over one period.
+
+    Samples ``f_k = f(k T / M)``, ``k = 0 .. M-1`` (do not repeat the sample at ``T``).
+    With :math:`F_n = \sum_k f_k e^{-2\pi i n k / M}` (``numpy.fft.rfft``):
+
+    .. math:: a_0 = \frac{F_0}{M}, \quad a_n = \frac{2}{M}\operatorname{Re} F_n, \quad
+              b_n = -\frac{2}{M}\operatorname{Im} F_n, \qquad 1 \le n < M/2
+
+    so ``M`` must exceed ``2 N`` (Nyquist). The mean square is the mean of ``f_k^2``.
+    Take samples at a jump as the mid-value for the best agreement with the closed form.
+
+    Examples
+    --------
+    >>> k = np.arange(8)
+    >>> s = fourier_series_from_samples(3 + 2 * np.cos(2 * np.pi * k / 8), 0.5, 2)
+    >>> round(s.a0, 12), [(n, round(a, 12), round(b, 12)) for n, a, b in s.coefficients]
+    (3.0, [(1, 2.0, 0.0), (2, 0.0, 0.0)])
+    """
+    where = "fourier_series_from_samples"
+    N = _check_count(n_harmonics, f"{where}(n_harmonics)")
+    T = _check_period(period, f"{where}(period)")
+    if not T.is_number:
+        raise ForcingError(
+            f"the period {T} holds symbols",
+            where=f"{where}(period)",
+            do="Give the period as a number of seconds",
+        )
+    try:
+        f = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        raise ForcingError(
+            f"expected an array of numbers, got {type(values).__name__}",
+            where=f"{where}(values)",
+            do="Give a 1-D array of load values",
+        ) from None
+    if f.ndim != 1:
+        raise ForcingError(
+            f"expected a 1-D array of samples, got shape {f.shape}",
+            where=f"{where}(values)",
+            do="Give one period of samples",
+        )
+    if not np.all(np.isfinite(f)):
+        i = int(np.flatnonzero(~np.isfinite(f))[0])
+        raise ForcingError(
+            f"sample {i} is not a finite number ({float(f[i])!r})",
+            where=f"{where}(values)",
+            do="Give finite samples",
+        )
+    M = f.size
+    if M <= 2 * N:
+        raise ForcingError(
+            f"{M} samples cannot resolve {N} harmonics (Nyquist): at least {2 * N + 1} are needed",
+            where=f"{where}(values)",
+            do=f"Sample more finely or ask for at most {(M - 1) // 2} harmonics",
+        )
+    F = np.fft.rfft(f)
+    Tf = float(T)
+    return FourierSeries(
+        period=Tf,
+        omega=2 * math.pi / Tf,
+        a0=float(F[0].real / M),
+        coefficients=tuple((n, float(2 * F[n].real / M), float(-2 * F[n].imag / M)) for n in range(1, N + 1)),
+        mean_square=float(np.mean(f * f)),
+        is_exact=False,
+        notes=(f"from {M} equally spaced samples by numpy.fft.rfft",),
+    )
