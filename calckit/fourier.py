@@ -28,7 +28,7 @@ E. Kreyszig, *Advanced Engineering Mathematics*, 10th ed., Wiley, 2011, sec. 11.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import sympy as sp
@@ -109,6 +109,17 @@ class FourierSeries:
     @property
     def n_harmonics(self) -> int:
         return len(self.coefficients)
+
+    def truncated(self, n_harmonics: int) -> FourierSeries:
+        """The same series keeping only the first *n_harmonics* harmonics."""
+        n = _check_count(n_harmonics, "FourierSeries.truncated(n_harmonics)")
+        if n > self.n_harmonics:
+            raise ForcingError(
+                f"the series holds {self.n_harmonics} harmonics, cannot keep {n}",
+                where="FourierSeries.truncated(n_harmonics)",
+                do=f"Give at most {self.n_harmonics}, or build the series with more harmonics",
+            )
+        return replace(self, coefficients=self.coefficients[:n])
 
     @property
     def harmonics(self) -> tuple[Harmonic, ...]:

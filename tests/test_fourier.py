@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -36,6 +37,12 @@ STROKE_PERIOD = 4
 PULSE_PEAK = 12_000
 PULSE_LENGTH = sp.Rational(3, 2)
 PRESS = sp.Piecewise((PULSE_PEAK * sp.sin(sp.pi * t / PULSE_LENGTH), t < PULSE_LENGTH), (0, True))
+
+
+@functools.cache
+def press_series():
+    """The press load with 30 harmonics, built once for the tests that only read it."""
+    return fourier_series(PRESS, t, STROKE_PERIOD, 30)
 
 
 def press_numpy(tt):
@@ -182,7 +189,7 @@ class TestHalfWaveRectifier:
 class TestPressPulse:
     def test_against_scipy_quad(self):
         """Coefficients equal the Euler integrals done by scipy.integrate.quad."""
-        s = fourier_series(PRESS, t, STROKE_PERIOD, 6)
+        s = press_series().truncated(6)
         w = 2 * math.pi / STROKE_PERIOD
         a0 = quad(press_numpy, 0, 1.5)[0] / STROKE_PERIOD
         assert float(s.a0) == pytest.approx(a0, rel=1e-12)
@@ -194,7 +201,7 @@ class TestPressPulse:
 
     def test_mean_is_pulse_area_over_period(self):
         """a0 = 12 kN * (2/pi) * 1.5 s / 4 s = 9000/pi N (hand arithmetic)."""
-        assert fourier_series(PRESS, t, STROKE_PERIOD, 1).a0 == 9000 / sp.pi
+        assert press_series().truncated(1).a0 == 9000 / sp.pi
 
     def test_reproduces_pulse(self):
         """30 harmonics match the pulse within 0.5 % of peak away from the kinks at 0 and 1.5 s,
@@ -203,7 +210,7 @@ class TestPressPulse:
         away = (np.abs(tt - 1.5) > 0.05) & (tt > 0.05) & (tt < 3.95)
         err = {}
         for N in (8, 30):
-            s = fourier_series(PRESS, t, STROKE_PERIOD, N)
+            s = press_series().truncated(N)
             err[N] = np.abs(s.evaluate(tt) - press_numpy(tt))[away].max() / PULSE_PEAK
         assert err[30] < 0.005
         assert err[30] < err[8] / 3
@@ -211,7 +218,7 @@ class TestPressPulse:
     def test_samples_agree_with_closed_form(self):
         """rfft of 2048 samples gives the closed-form coefficients to 1e-5 of peak."""
         M = 2048
-        s_exact = fourier_series(PRESS, t, STROKE_PERIOD, 10)
+        s_exact = press_series().truncated(10)
         s_samp = fourier_series_from_samples(press_numpy(np.arange(M) * STROKE_PERIOD / M), 4.0, 10)
         assert s_samp.a0 == pytest.approx(float(s_exact.a0), abs=1e-5 * PULSE_PEAK)
         for (_, a, b), (_, ae, be) in zip(s_samp.coefficients, s_exact.coefficients, strict=True):
@@ -221,7 +228,7 @@ class TestPressPulse:
 
     def test_harmonic_table(self):
         """Each row satisfies a cos + b sin = amplitude cos(n w t - phase)."""
-        s = fourier_series(PRESS, t, STROKE_PERIOD, 4)
+        s = press_series().truncated(4)
         rows = s.harmonics
         assert all(isinstance(h, Harmonic) for h in rows) and [h.n for h in rows] == [1, 2, 3, 4]
         x = np.linspace(0, 4, 50)
@@ -235,10 +242,21 @@ class TestPressPulse:
 
     def test_expression_matches_evaluate(self):
         """The sympy expression, lambdified, equals .evaluate()."""
-        s = fourier_series(PRESS, t, STROKE_PERIOD, 5)
+        s = press_series().truncated(5)
         f = sp.lambdify(t, s.expression(t), "numpy")
         x = np.linspace(0, 8, 101)
         assert np.allclose(f(x), s.evaluate(x), rtol=1e-12, atol=1e-9)
+
+    def test_truncated(self):
+        """truncated(N) keeps the first N rows; asking for more than the series holds is refused."""
+        s = press_series()
+        assert s.truncated(3).coefficients == s.coefficients[:3] and s.truncated(3).a0 == s.a0
+        with pytest.raises(ForcingError) as info:
+            s.truncated(31)
+        assert str(info.value) == (
+            "FourierSeries.truncated(n_harmonics): the series holds 30 harmonics, cannot keep 31. "
+            "Give at most 30, or build the series with more harmonics."
+        )
 
 
 class TestOtherInputs:
@@ -419,3 +437,31 @@ class TestValidation:
             "FourierSeries.evaluate: the coefficients hold symbols (A), so they have no numeric value. "
             "Substitute numbers into .expression(t) and evaluate that, or build the series from numbers."
         )
+
+
+class TestWithOscillator:
+    def test_series_feeds_the_derivation_engine(self):
+        """The press series, fed to Oscillator.particular, is verified by back substitution, and each
+        harmonic's steady amplitude is |c_n| M(n r_1, zeta) / k with calckit.harmonic.magnification."""
+        from calckit.harmonic import magnification
+        from calckit.oscillator import Oscillator
+
+        m, c, k = 800, 2400, 320_000  # invented compactor frame: omega_n = 20 rad/s, zeta = 3/40
+        s = press_series().truncated(3)
+        der = Oscillator(m, c, k).particular(s.expression(t), t=t)
+        assert der.verified
+        wn, zeta = math.sqrt(k / m), c / (2 * math.sqrt(k * m))
+        x = sp.lambdify(t, der.solution, "numpy")
+        tt = np.linspace(0, 4, 2001)
+        expected = float(s.a0) / k + sum(
+            float(h.amplitude)
+            * float(magnification(float(h.frequency) / wn, zeta))
+            / k
+            * np.cos(
+                float(h.frequency) * tt
+                - float(h.phase)
+                - np.arctan2(2 * zeta * float(h.frequency) / wn, 1 - (float(h.frequency) / wn) ** 2)
+            )
+            for h in s.harmonics
+        )
+        assert np.allclose(x(tt), expected, rtol=1e-10, atol=1e-15)
