@@ -111,9 +111,11 @@ class TestMagnification:
     def test_vectorised_and_fast(self):
         """100,000 points come back as an array of the same shape in milliseconds."""
         r = np.linspace(0.0, 5.0, 100_000)
-        start = time.perf_counter()
-        out = magnification(r, 0.05)
-        elapsed = time.perf_counter() - start
+        elapsed = math.inf
+        for _ in range(3):  # best of three, so a busy machine does not fail the test
+            start = time.perf_counter()
+            out = magnification(r, 0.05)
+            elapsed = min(elapsed, time.perf_counter() - start)
         assert out.shape == r.shape and out.dtype == np.float64
         assert elapsed < 0.05
         assert out[0] == 1.0
