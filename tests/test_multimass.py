@@ -502,3 +502,41 @@ def test_inputs_accepted_in_every_form():
     c = MultiMass(sp.Matrix([[R(5, 2), 0], [0, 1]]), sp.zeros(2, 2), sp.Matrix([[30, -10], [-10, 10]]))
     assert a.M == b.M == c.M and a.K == b.K == c.K and a.C == b.C == c.C
     assert a.M[0, 0] == R(5, 2)
+
+
+@pytest.mark.slow
+def test_tuned_absorber_template_builds(tmp_path):
+    """The bundled absorber template builds from the Harrow Creek inputs, with equal peaks met.
+
+    Equal-peak criterion: Den Hartog, Mechanical Vibrations, 4th ed. (Dover), sec. 3.3, from memory.
+    The build runs in a child process: the kernel client's sockets are its business, not this test's.
+    """
+    import json
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parent.parent
+    inputs = root / "examples" / "harrow_creek_b201_absorber.toml"
+    out = tmp_path / "b201"
+    code = (
+        "import sys; from calckit.workflow import build_sheet; "
+        "print(build_sheet('tuned_absorber', sys.argv[1], sys.argv[2]).json)"
+    )
+    done = subprocess.run(
+        [sys.executable, "-c", code, str(inputs), str(out)],
+        cwd=root,
+        capture_output=True,
+        text=True,
+        timeout=240,
+    )
+    assert done.returncode == 0, done.stderr[-2000:]
+    record = json.loads(Path(done.stdout.strip().splitlines()[-1]).read_text())
+    verdicts = {check["name"]: check["verdict"] for check in record["checks"]}
+    assert verdicts == {"equal peaks": "met", "amplitude at running speed": "met", "highest peak": "met"}
+    results = {item["name"]: item["value"] for item in record["results"]}
+    assert results["amplitude"] < results["amplitude_without"] / 5
+    assert (
+        abs(results["peak_low"] - results["peak_high"]) / max(results["peak_low"], results["peak_high"])
+        < 0.05
+    )
