@@ -32,6 +32,7 @@ from .harmonic import (
     phase_angle,
     transmissibility,
 )
+from .multimass import Modes, MultiMass
 from .numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
 from .oscillator import REGIMES, HarmonicLine, Oscillator
 from .render.display import show
@@ -54,6 +55,8 @@ __all__ = [
     "HarmonicLine",
     "LinearODE",
     "Oscillator",
+    "MultiMass",
+    "Modes",
     "REGIMES",
     "Response",
     "show",
