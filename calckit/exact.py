@@ -4,7 +4,7 @@ Engineers type ``2.5`` and mean five halves. Binary floating point would turn
 ``2.5 * 0.1`` into a number that is not exactly ``1/4`` and hide a resonance
 behind a rounding error. Every number entering the engine goes through
 :func:`exact`, which takes a float as the shortest decimal that prints as it. A float that
-needs 15 or more significant digits was computed, not typed (``1/1.5``); it is
+needs 16 or more significant digits was computed, not typed (``1/1.5``); it is
 taken as the simple fraction (denominator up to a million) that rounds to it
 exactly, when there is one.
 """
@@ -31,8 +31,8 @@ def _float_to_rational(value: float, where: str) -> sp.Rational:
         )
     text = repr(float(value))
     digits = len(text.split("e")[0].replace("-", "").replace(".", "").lstrip("0"))
-    if digits >= 15:
-        # Nobody types 16 significant digits: this float was computed (1/1.5, pi/3.0 ...).
+    if digits >= 16:
+        # Nobody types 16 or more significant digits: this float was computed (1/1.5, pi/3.0 ...).
         # Take the simple fraction it rounds from when one reproduces it exactly.
         simple = Fraction(value).limit_denominator(10**6)
         if float(simple) == float(value):
