@@ -1,0 +1,234 @@
+"""The ``calckit`` command line: a thin layer over :mod:`calckit.workflow` and :mod:`calckit.diffing`.
+
+Commands
+--------
+``calckit demo --out DIR``
+    Build the bundled example sheets.
+``calckit build TEMPLATE --inputs FILE --out DIR [--pdf] [--overwrite]``
+    One sheet from a template and an inputs file.
+``calckit diff OLD NEW [--html FILE]``
+    What changed between two built sheets.
+``calckit batch TEMPLATE --cases FILE --out DIR [--inputs FILE] [--workers N] [--overwrite]``
+    One sheet per case, plus a summary.
+``calckit new TEMPLATE DEST``
+    Copy a bundled template (and an inputs file of its values) to start a calculation.
+
+Help texts are the library's docstrings. Exit codes: 0 done; 2 bad input (the
+message names the file, the key and the line where known), a refused overwrite,
+or a template cell that failed on a calckit error; 1 a template cell that
+failed on another error, a batch in which some case failed (the summary is
+written), or an internal error. Errors are one line on stderr, never a
+traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import inspect
+import re
+import sys
+import textwrap
+from collections.abc import Callable, Sequence
+from pathlib import Path
+
+from . import diffing, workflow
+from ._version import __version__
+from .errors import CalcError
+
+__all__ = ["main", "parser"]
+
+
+def _summary(func: Callable) -> str:
+    """The first paragraph of a docstring, on one line."""
+    doc = inspect.getdoc(func) or ""
+    return " ".join(doc.split("\n\n", 1)[0].split())
+
+
+def _description(func: Callable) -> str:
+    """The docstring's text before its first numpy-style section."""
+    doc = inspect.getdoc(func) or ""
+    text = re.split(r"\n(?:Parameters|Returns|Raises|Examples|Notes)\n-+\n", doc)[0]
+    return "\n\n".join(textwrap.fill(" ".join(p.split()), 78) for p in text.split("\n\n"))
+
+
+def _param(func: Callable, name: str) -> str:
+    """A parameter's description in a numpy-style docstring, on one line."""
+    doc = inspect.getdoc(func) or ""
+    section = re.search(r"\nParameters\n-+\n(.*?)(?:\n\n[A-Z][a-z]+\n-+\n|\Z)", doc, re.DOTALL)
+    if section is None:
+        raise LookupError(f"{func.__name__} documents no parameters")
+    lines = section.group(1).splitlines()
+    for index, line in enumerate(lines):
+        names = [n.strip() for n in line.split(":")[0].split(",")]
+        if not line.startswith(" ") and name in names:
+            body = []
+            for more in lines[index + 1 :]:
+                if more and not more.startswith(" "):
+                    break
+                body.append(more.strip())
+            return " ".join(" ".join(body).split())
+    raise LookupError(f"{func.__name__} does not document {name}")
+
+
+def parser() -> argparse.ArgumentParser:
+    """The argument parser of the ``calckit`` command."""
+    top = argparse.ArgumentParser(
+        prog="calckit",
+        description="Build, compare and batch-run forced-vibration calculation sheets from template notebooks.",
+        epilog="Run 'calckit COMMAND --help' for a command's options. Start with: calckit demo --out demo",
+    )
+    top.add_argument("--version", action="version", version=f"calckit {__version__}")
+    commands = top.add_subparsers(dest="command", metavar="COMMAND", required=True)
+
+    def command(name: str, func: Callable) -> argparse.ArgumentParser:
+        return commands.add_parser(
+            name,
+            help=_summary(func),
+            description=_description(func),
+            formatter_class=argparse.RawDescriptionHelpFormatter,
+        )
+
+    demo = command("demo", workflow.run_demo)
+    demo.add_argument("--out", default="calckit-demo", metavar="DIR", help=_param(workflow.run_demo, "out"))
+    demo.add_argument("--pdf", action="store_true", help=_param(workflow.run_demo, "pdf"))
+    demo.add_argument("--overwrite", action="store_true", help=_param(workflow.run_demo, "overwrite"))
+
+    build = command("build", workflow.build_sheet)
+    build.add_argument("template", metavar="TEMPLATE", help=_param(workflow.build_sheet, "template"))
+    build.add_argument("--inputs", required=True, metavar="FILE", help=_param(workflow.build_sheet, "inputs"))
+    build.add_argument("--out", required=True, metavar="DIR", help=_param(workflow.build_sheet, "out"))
+    build.add_argument("--pdf", action="store_true", help=_param(workflow.build_sheet, "pdf"))
+    build.add_argument("--overwrite", action="store_true", help=_param(workflow.build_sheet, "overwrite"))
+
+    diff = command("diff", diffing.diff_sheets)
+    diff.add_argument("old", metavar="OLD", help=_param(diffing.diff_sheets, "old"))
+    diff.add_argument("new", metavar="NEW", help=_param(diffing.diff_sheets, "new"))
+    diff.add_argument("--html", metavar="FILE", help="Also write the report as a self-contained HTML page.")
+
+    batch = command("batch", workflow.run_batch)
+    batch.add_argument("template", metavar="TEMPLATE", help=_param(workflow.run_batch, "template"))
+    batch.add_argument("--cases", required=True, metavar="FILE", help=_param(workflow.run_batch, "cases"))
+    batch.add_argument("--out", required=True, metavar="DIR", help=_param(workflow.run_batch, "out"))
+    batch.add_argument("--inputs", metavar="FILE", help=_param(workflow.run_batch, "inputs"))
+    batch.add_argument(
+        "--workers", type=_positive_int, metavar="N", help=_param(workflow.run_batch, "workers")
+    )
+    batch.add_argument("--pdf", action="store_true", help=_param(workflow.run_batch, "pdf"))
+    batch.add_argument("--overwrite", action="store_true", help=_param(workflow.run_batch, "overwrite"))
+
+    new = command("new", workflow.new_calculation)
+    new.add_argument("template", metavar="TEMPLATE", help=_param(workflow.new_calculation, "template"))
+    new.add_argument("dest", metavar="DEST", help=_param(workflow.new_calculation, "dest"))
+    return top
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected 1 or more, got {value}")
+    return value
+
+
+def _print_build(result: workflow.BuildResult, heading: str) -> None:
+    summary = result.record.get("summary", {})
+    checks = summary.get("checks", 0)
+    met = summary.get("met", 0)
+    verdict = f"{met} of {checks} checks met" if checks else "no checks"
+    print(f"{heading} in {result.seconds:.1f} s: {verdict}")
+    labels = {".html": "sheet", ".pdf": "PDF", ".json": "record", ".ipynb": "notebook"}
+    for path in result.files:
+        print(f"  {labels[path.suffix] + ':':<13}{path}")
+    print(f"  {'fingerprint:':<13}{result.fingerprint[:16]}")
+
+
+def _run_demo(args: argparse.Namespace) -> int:
+    built = workflow.run_demo(args.out, pdf=args.pdf, overwrite=args.overwrite)
+    for demo, result in built:
+        _print_build(result, f"Built demo {demo.name} ({demo.template} with {demo.inputs.name})")
+    if built:
+        print(f"Open {built[0][1].html} in a browser to read the sheet.")
+    return 0
+
+
+def _run_build(args: argparse.Namespace) -> int:
+    result = workflow.build_sheet(
+        args.template, args.inputs, args.out, pdf=args.pdf, overwrite=args.overwrite
+    )
+    _print_build(result, f"Built {Path(args.template).stem} from {Path(args.inputs).name}")
+    return 0
+
+
+def _run_diff(args: argparse.Namespace) -> int:
+    report = diffing.diff_sheets(args.old, args.new)
+    print(f"Comparing {report.old}")
+    print(f"     with {report.new}")
+    print(report.text())
+    if args.html:
+        path = Path(args.html)
+        path.parent.mkdir(parents=True, exist_ok=True)
+        workflow._atomic_text(path, report.html())
+        print(f"Report written to {path}")
+    return 0
+
+
+def _run_batch(args: argparse.Namespace) -> int:
+    def progress(done: int, total: int, case: workflow.CaseResult) -> None:
+        if case.ok:
+            summary = (case.record or {}).get("summary", {})
+            what = f"built, {summary.get('met', 0)} of {summary.get('checks', 0)} checks met"
+        else:
+            what = f"FAILED: {case.message}"
+        print(f"[{done}/{total}] {case.name}: {what} ({case.seconds:.1f} s)", file=sys.stderr, flush=True)
+
+    result = workflow.run_batch(
+        args.template,
+        args.cases,
+        args.out,
+        inputs=args.inputs,
+        workers=args.workers,
+        pdf=args.pdf,
+        overwrite=args.overwrite,
+        progress=progress,
+    )
+    failed = len(result.failed)
+    print(f"{len(result.cases)} cases: {len(result.cases) - failed} built, {failed} failed")
+    print(f"  summary: {result.summary_html}")
+    print(f"           {result.summary_csv}")
+    return 1 if failed else 0
+
+
+def _run_new(args: argparse.Namespace) -> int:
+    notebook, inputs = workflow.new_calculation(args.template, args.dest)
+    print(f"Wrote {notebook} and {inputs}.")
+    print(f"Edit the inputs, then: calckit build {notebook} --inputs {inputs} --out built/{notebook.stem}")
+    return 0
+
+
+_COMMANDS = {"demo": _run_demo, "build": _run_build, "diff": _run_diff, "batch": _run_batch, "new": _run_new}
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the ``calckit`` command line; return the exit code."""
+    args = parser().parse_args(argv)
+    try:
+        return _COMMANDS[args.command](args)
+    except workflow.CellError as exc:
+        print(f"calckit {args.command}: error: {exc}", file=sys.stderr)
+        return 2 if exc.user_error else 1
+    except CalcError as exc:
+        print(f"calckit {args.command}: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print(f"calckit {args.command}: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # never a traceback at the command line
+        text = " ".join(str(exc).split()) or "no message"
+        print(
+            f"calckit {args.command}: internal error: {type(exc).__name__}: {text} "
+            "(please report it with the command you ran)",
+            file=sys.stderr,
+        )
+        return 1

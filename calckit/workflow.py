@@ -1,0 +1,1366 @@
+"""The re-run workflow: build a sheet from a template and an inputs file, run a table of cases.
+
+How a template works
+--------------------
+A template is a Jupyter notebook that builds one calculation sheet.
+
+1. **Parameters.** One code cell carries the tag ``parameters``. It holds only
+   plain assignments of literals, one per line: text with units
+   (``mass = "250 kg"``), numbers (``damping_ratio = 0.05``), true/false, and
+   expressions as text (``forcing = "F0*cos(w*t)"``, read later with
+   :func:`calckit.inputs.parse_expression`, never run). The title-block fields
+   ``project``, ``calculation``, ``revision``, ``author``, ``checker`` and
+   ``date`` may be declared there too; an inputs file sets them from its
+   ``[sheet]`` table. Run as it is, the template uses these values.
+2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
+   named ``sheet``, with ``template=template_text`` so that the sheet's
+   fingerprint covers the template. A cell *before* the parameters cell sets
+   the defaults ``template_text = ""`` and ``inputs_file = "..."`` (used as the
+   inputs' source), so that the template also runs by hand. Inputs go on the
+   sheet under their parameter names (``sheet.input("mass", mass, ...)``), so
+   that an error about an input is reported at its line in the inputs file.
+3. **The build** (:func:`build_sheet`, ``calckit build``) reads and checks the
+   inputs file against the parameters (unknown names with the closest known
+   one, missing names), then puts a new code cell tagged ``inputs-from-file``
+   right after the parameters cell. That cell assigns every input, the
+   title-block fields the template declares, ``inputs_file`` (the inputs file's
+   name) and ``template_text`` (a SHA-256 of the template's cell sources, so
+   that metadata Jupyter rewrites on save does not count). The notebook runs in
+   a fresh ``python3`` kernel of the interpreter calckit runs in, with a
+   temporary folder as its working folder. The template itself saves nothing:
+   after its last cell the build runs one more cell, tagged ``save-sheet``,
+   that calls :func:`save_built_sheet` on ``sheet`` to write ``<stem>.json``,
+   ``<stem>.html`` and, with ``pdf=True``, ``<stem>.pdf`` into the temporary
+   folder. The executed notebook (without that last cell) is written beside them
+   as ``<stem>.ipynb``. Only when everything has been written are the files moved
+   into the output folder, the JSON record last; a failed build leaves no sheet
+   behind.
+
+A cell that fails stops the build with a :class:`CellError` naming the
+template's cell (counted from 1 over all cells of the template), the line and
+its source, the error's type and its message. A calckit error whose place is an
+input's name (``mass: must be greater than zero ...``) is reported at that
+input's file and line instead.
+
+Nothing built is silently replaced: an output folder that already holds a sheet
+built from other inputs (another fingerprint) is refused with
+:class:`~calckit.errors.OverwriteError` unless ``overwrite=True``; rebuilding the
+same inputs through the same template replaces files with equal ones.
+
+Batches and executors
+---------------------
+:func:`run_batch` builds one sheet per case of a table into ``<out>/<case>/``
+and writes ``summary.csv`` and ``summary.html``. Every case is dispatched
+through one :class:`concurrent.futures.Executor`: by default a
+:class:`~concurrent.futures.ProcessPoolExecutor` (processes started by
+*spawn*, one per available core, at most one per case). Any object with the
+same ``submit`` interface whose futures work with
+:func:`concurrent.futures.as_completed` can be passed instead, for example a
+Dask cluster's executor::
+
+    from dask.distributed import Client
+    client = Client("tcp://scheduler:8786")
+    run_batch("single_mass_harmonic", "cases.csv", "built/", executor=client.get_executor())
+
+The workers must see the template, the inputs and the output folder at the same
+paths (a shared file system) and have calckit and ipykernel installed. A case
+that fails is recorded in the summary with its message; the others go on.
+
+Kernels are not reused between cases: each case runs in a fresh kernel, so
+that a case's sheet is exactly the sheet ``calckit build`` gives for the same
+inputs and never depends on which case ran before in the same kernel (globals,
+module caches, matplotlib state). What is reused is the worker process: it
+imports calckit and the Jupyter client once and then runs case after case;
+the kernel start-up (about a second) is the price of that isolation.
+
+Examples
+--------
+>>> result = build_sheet("single_mass_harmonic", "p101.toml", "built/p101")  # doctest: +SKIP
+>>> result.html.name  # doctest: +SKIP
+'single_mass_harmonic.html'
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as cf
+import csv
+import dataclasses
+import hashlib
+import io
+import json
+import math
+import multiprocessing
+import os
+import re
+import shutil
+import site
+import sys
+import tempfile
+import time
+import tomllib
+import warnings
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .errors import BuildError, CalcError, InputsError, OverwriteError
+from .inputs import (
+    TITLE_FIELDS,
+    InputsFile,
+    check_keys,
+    injected_source,
+    parameters_from_source,
+    read_inputs,
+)
+from .sheet import existing_fingerprint
+
+__all__ = [
+    "PARAMETERS_TAG",
+    "INPUTS_TAG",
+    "SAVE_TAG",
+    "Template",
+    "BuildResult",
+    "CellError",
+    "Case",
+    "CaseResult",
+    "BatchResult",
+    "bundled_templates",
+    "load_template",
+    "build_sheet",
+    "save_built_sheet",
+    "read_cases",
+    "run_batch",
+    "default_workers",
+    "new_calculation",
+    "run_demo",
+]
+
+#: Tag of the template's parameters cell.
+PARAMETERS_TAG = "parameters"
+#: Tag of the cell the build puts after the parameters cell.
+INPUTS_TAG = "inputs-from-file"
+#: Tag of the cell the build runs last to save the sheet.
+SAVE_TAG = "save-sheet"
+#: Seconds one cell may run before the build gives up.
+CELL_TIMEOUT_S = 600
+_SHEET_SUFFIXES = (".ipynb", ".html", ".json", ".pdf")
+_CALCKIT_ERRORS = frozenset(
+    {
+        "CalcError",
+        "ForcingError",
+        "ModelError",
+        "UnitsError",
+        "InputsError",
+        "SheetError",
+        "BuildError",
+        "OverwriteError",
+        "CellError",
+    }
+)
+
+
+# ---------------------------------------------------------------------------
+# Errors
+
+
+class CellError(BuildError):
+    """A cell of a template failed while building a sheet.
+
+    The message names the template, the cell (counted from 1 over all the
+    template's cells), the line and its source, the error's type and message.
+    ``user_error`` is true when the error is one of calckit's own (bad input, a
+    model calckit refuses): a command line exits with 2 then, and with 1 for any
+    other error, which points at the template.
+    """
+
+    def __init__(
+        self,
+        what: str,
+        *,
+        where: str | None = None,
+        do: str | None = None,
+        ename: str = "",
+        cell: int | None = None,
+        line: int | None = None,
+        user_error: bool = True,
+    ):
+        super().__init__(what, where=where, do=do)
+        self.ename = ename
+        self.cell = cell
+        self.line = line
+        self.user_error = user_error
+
+    def __str__(self) -> str:
+        return f"{self.where}: {self.what}" if self.where else self.what
+
+    def __reduce__(self):
+        fields = {"ename": self.ename, "cell": self.cell, "line": self.line, "user_error": self.user_error}
+        return (_rebuild_cell_error, (type(self), self.what, self.where, self.do, fields))
+
+
+def _rebuild_cell_error(cls, what, where, do, fields):
+    return cls(what, where=where, do=do, **fields)
+
+
+# ---------------------------------------------------------------------------
+# Templates
+
+
+@dataclass(frozen=True)
+class Template:
+    """A template notebook as read: where it is, its cells and its parameters.
+
+    Attributes
+    ----------
+    path : Path
+    name : str
+        The file's stem; the built files are called after it.
+    notebook : object
+        The notebook (``nbformat.NotebookNode``).
+    parameters : Mapping[str, object]
+        Parameter names and default values, in order.
+    parameters_cell : int
+        Index (from 0) of the parameters cell.
+    digest : str
+        SHA-256 over the cells' types and sources.
+    """
+
+    path: Path
+    name: str
+    notebook: Any
+    parameters: Mapping[str, Any]
+    parameters_cell: int
+    digest: str
+
+    @property
+    def inputs(self) -> list[str]:
+        """Parameter names an inputs file must give (all but the title-block fields)."""
+        return [name for name in self.parameters if name not in TITLE_FIELDS]
+
+
+def _resource_folder(package: str, fallback: str) -> Path:
+    """Folder of a bundled resource package, from an install or from the source tree."""
+    try:
+        from importlib.resources import files
+
+        return Path(str(files(package)))
+    except ModuleNotFoundError:
+        return Path(__file__).resolve().parent.parent / fallback
+
+
+def _templates_folder() -> Path:
+    return _resource_folder("calckit.templates", "templates")
+
+
+def _examples_folder() -> Path:
+    return _resource_folder("calckit.examples", "examples")
+
+
+def bundled_templates() -> dict[str, Path]:
+    """The templates that come with calckit, by name (the file's stem).
+
+    Examples
+    --------
+    >>> "single_mass_harmonic" in bundled_templates()
+    True
+    """
+    return {p.stem: p for p in sorted(_templates_folder().glob("*.ipynb"))}
+
+
+def _find_template(spec: str | os.PathLike) -> Path:
+    path = Path(spec)
+    if path.is_file():
+        return path
+    bundled = bundled_templates()
+    name = path.name[: -len(".ipynb")] if path.name.endswith(".ipynb") else path.name
+    if str(spec) in (name, f"{name}.ipynb") and name in bundled:
+        return bundled[name]
+    known = ", ".join(bundled) or "none"
+    raise BuildError(
+        "no such template: it is neither a notebook file nor a bundled template",
+        where=str(spec),
+        do=f"Give the path of a .ipynb file or a bundled template's name ({known})",
+    )
+
+
+def _digest(notebook: Any) -> str:
+    cells = [[cell.get("cell_type", ""), _source(cell)] for cell in notebook.cells]
+    return hashlib.sha256(json.dumps(cells, ensure_ascii=True).encode()).hexdigest()
+
+
+def _source(cell: Any) -> str:
+    source = cell.get("source", "")
+    return "".join(source) if isinstance(source, list) else source
+
+
+def _tags(cell: Any) -> list[str]:
+    return list(cell.get("metadata", {}).get("tags", []))
+
+
+def load_template(template: str | os.PathLike) -> Template:
+    """Read a template notebook and its parameters cell.
+
+    Parameters
+    ----------
+    template : str or path
+        A notebook file, or the name of a bundled template (see
+        :func:`bundled_templates`).
+
+    Raises
+    ------
+    BuildError
+        No such template, not a notebook, no cell or several cells tagged
+        ``parameters``.
+    InputsError
+        The parameters cell holds something other than plain assignments of
+        literals.
+    """
+    import nbformat
+
+    path = _find_template(template)
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # nbformat's notes on missing cell ids
+            notebook = nbformat.read(path, as_version=4)
+    except (OSError, UnicodeDecodeError, ValueError, KeyError, TypeError, AttributeError) as exc:
+        raise BuildError(
+            "cannot read the template as a notebook",
+            where=str(path),
+            do="Give a Jupyter notebook (.ipynb) saved by Jupyter or nbformat",
+        ) from exc
+    tagged = [i for i, cell in enumerate(notebook.cells) if PARAMETERS_TAG in _tags(cell)]
+    if len(tagged) != 1:
+        what = "no cell is tagged" if not tagged else f"{len(tagged)} cells are tagged"
+        raise BuildError(
+            f'{what} "{PARAMETERS_TAG}"',
+            where=str(path),
+            do=f'Tag exactly one code cell "{PARAMETERS_TAG}" and put the inputs there as plain assignments',
+        )
+    cell = notebook.cells[tagged[0]]
+    if cell.get("cell_type") != "code":
+        raise BuildError(
+            f'the cell tagged "{PARAMETERS_TAG}" is not a code cell',
+            where=f"{path}, cell {tagged[0] + 1}",
+            do="Tag the code cell that holds the assignments",
+        )
+    try:
+        parameters = parameters_from_source(_source(cell))
+    except InputsError as exc:
+        raise InputsError(exc.what, where=f"{path}, cell {tagged[0] + 1}, {exc.where}", do=exc.do) from None
+    return Template(path, path.stem, notebook, parameters, tagged[0], _digest(notebook))
+
+
+# ---------------------------------------------------------------------------
+# Building one sheet
+
+
+@dataclass(frozen=True)
+class BuildResult:
+    """What :func:`build_sheet` wrote.
+
+    Attributes
+    ----------
+    out : Path
+        The output folder.
+    notebook, html, json : Path
+        The executed notebook, the sheet and its JSON record.
+    pdf : Path or None
+        The PDF, when asked for.
+    fingerprint : str
+        The sheet's fingerprint.
+    record : dict
+        The JSON record (see :meth:`calckit.Sheet.record`).
+    seconds : float
+        Time the build took.
+    """
+
+    out: Path
+    notebook: Path
+    html: Path
+    json: Path
+    pdf: Path | None
+    fingerprint: str
+    record: dict = field(repr=False)
+    seconds: float = 0.0
+
+    @property
+    def files(self) -> list[Path]:
+        """The files written, in the order the command line lists them."""
+        return [p for p in (self.html, self.pdf, self.json, self.notebook) if p is not None]
+
+
+def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -> None:
+    """Save *sheet* as ``<stem>.json``, ``<stem>.html`` (and ``.pdf``) in *folder*.
+
+    The build runs this in the kernel, in the cell tagged ``save-sheet``, after
+    the template's last cell.
+
+    Raises
+    ------
+    BuildError
+        The template made no :class:`calckit.Sheet` named ``sheet``.
+    """
+    from .sheet import Sheet
+
+    if not isinstance(sheet, Sheet):
+        got = "nothing" if sheet is None else f"a {type(sheet).__name__}"
+        raise BuildError(
+            f"the template left {got} in the name sheet, not a calculation sheet",
+            where="template",
+            do="Build a calckit.Sheet named sheet in the template",
+        )
+    base = Path(folder) / stem
+    sheet.save(base.with_suffix(".json"), overwrite=True)
+    sheet.save(base.with_suffix(".html"), overwrite=True)
+    if pdf:
+        sheet.save(base.with_suffix(".pdf"), overwrite=True)
+
+
+def _inputs_cell_source(assignments: Mapping[str, Any], inputs_label: str, digest: str) -> str:
+    text = injected_source(assignments)
+    label = f"# Inputs set by calckit build from {inputs_label}\n"
+    text = label + text.split("\n", 1)[1] if text.startswith("# Inputs set by calckit build") else text
+    return text + f"inputs_file = {inputs_label!r}\ntemplate_text = {f'calckit template sha256 {digest}'!r}\n"
+
+
+def _kernel_env() -> dict[str, str]:
+    """Environment of the kernel: this one, with calckit importable and quiet debugger checks."""
+    env = dict(os.environ)
+    root = str(Path(__file__).resolve().parent.parent)
+    installed = {str(Path(p).resolve()) for p in [*site.getsitepackages(), site.getusersitepackages()]}
+    if root not in installed:
+        env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
+    env["PYDEVD_DISABLE_FILE_VALIDATION"] = "1"
+    env["MPLBACKEND"] = "Agg"
+    return env
+
+
+def _kernel_manager() -> Any:
+    """A kernel manager that starts ipykernel in the interpreter calckit runs in.
+
+    A ``python3`` kernel spec found on the machine may point at another Python
+    without calckit; this one cannot.
+    """
+    try:
+        import ipykernel  # noqa: F401
+    except ImportError as exc:
+        raise BuildError(
+            "running a template needs ipykernel, which is not installed",
+            where="kernel python3",
+            do="Install it in this environment: pip install ipykernel",
+        ) from exc
+    from jupyter_client.kernelspec import KernelSpec, KernelSpecManager
+    from jupyter_client.manager import AsyncKernelManager
+
+    class ThisPython(KernelSpecManager):
+        def get_kernel_spec(self, kernel_name: str) -> KernelSpec:
+            return KernelSpec(
+                argv=[
+                    sys.executable,
+                    "-Xfrozen_modules=off",
+                    "-m",
+                    "ipykernel_launcher",
+                    "-f",
+                    "{connection_file}",
+                ],
+                display_name="Python 3 (calckit)",
+                language="python",
+            )
+
+    return AsyncKernelManager(kernel_name="python3", kernel_spec_manager=ThisPython())
+
+
+_ANSI = re.compile(r"\x1b\[[0-9;]*[A-Za-z]")
+_CELL_LINE = re.compile(r"Cell In\[\d*\],? line (\d+)")
+_PLACE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*): (.*)$", re.DOTALL)
+
+
+def _cell_error(
+    template: Template, executed: Any, wheres: Mapping[str, str], failure: Exception
+) -> CellError:
+    """One readable error from a failed execution: cell, line, source, type and message."""
+    ename = getattr(failure, "ename", type(failure).__name__)
+    evalue = str(getattr(failure, "evalue", failure)).strip()
+    index, output = None, None
+    for i, cell in enumerate(executed.cells):
+        for out in cell.get("outputs", []):
+            if out.get("output_type") == "error":
+                index, output = i, out
+    user_error = ename in _CALCKIT_ERRORS
+    if index is None:
+        return CellError(f"{ename}: {evalue}", where=template.name, ename=ename, user_error=user_error)
+    cell = executed.cells[index]
+    if SAVE_TAG in _tags(cell):
+        return CellError(
+            f"saving the sheet failed: {ename}: {evalue}",
+            where=str(template.path),
+            ename=ename,
+            user_error=user_error,
+        )
+    # count the template's cells only: the injected inputs cell sits after the parameters cell
+    number = index + 1 - (1 if index > template.parameters_cell else 0)
+    traceback = _ANSI.sub("", "\n".join(output.get("traceback", [])))
+    found = _CELL_LINE.search(traceback)
+    line = int(found.group(1)) if found else None
+    lines = _source(cell).splitlines()
+    snippet = lines[line - 1].strip() if line and 0 < line <= len(lines) else ""
+    place = f"{template.path.name}, cell {number}" + (f", line {line}" if line else "")
+    placed = _PLACE.match(evalue)
+    if user_error and placed and placed.group(1) in wheres:
+        text = placed.group(2)
+        return CellError(
+            f"{text} (found by {place})",
+            where=wheres[placed.group(1)],
+            ename=ename,
+            cell=number,
+            line=line,
+            user_error=True,
+        )
+    shown = f" {snippet!r}" if snippet else ""
+    return CellError(
+        f"{ename}: {evalue}" if evalue else ename,
+        where=place + shown,
+        ename=ename,
+        cell=number,
+        line=line,
+        user_error=user_error,
+    )
+
+
+def _execute(notebook: Any, workdir: Path, timeout: int) -> None:
+    from nbclient import NotebookClient
+
+    client = NotebookClient(
+        notebook,
+        timeout=timeout,
+        kernel_name="python3",
+        km=_kernel_manager(),
+        resources={"metadata": {"path": str(workdir)}},
+        allow_errors=False,
+        record_timing=False,
+    )
+    with warnings.catch_warnings():
+        # the Jupyter client libraries warn about their own internals (event loops,
+        # sockets closed at exit, dates without time zones); none of it concerns the sheet
+        for category in (DeprecationWarning, ResourceWarning, RuntimeWarning, UserWarning):
+            warnings.filterwarnings(
+                "ignore", category=category, module=r"(jupyter_client|jupyter_core|nbclient|zmq|traitlets)"
+            )
+        warnings.filterwarnings("ignore", category=ResourceWarning)
+        # the kernel's own log (start-up notes, a crash report) goes to a file, not the terminal
+        with open(workdir / ".kernel.log", "wb") as log:
+            # cleanup_kc: shut the kernel down and close its sockets even though we made its manager
+            client.execute(cleanup_kc=True, env=_kernel_env(), stdout=log, stderr=log)
+
+
+def _file_mode() -> int:
+    """Permissions of a new file under the process's umask."""
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
+
+
+def _check_out_folder(out: Path) -> None:
+    if out.exists() and not out.is_dir():
+        raise BuildError(
+            "the output path is a file, not a folder",
+            where=str(out),
+            do="Give a folder for --out (it is created if missing)",
+        )
+
+
+def _held_fingerprint(out: Path, stem: str) -> tuple[bool, str | None]:
+    """Whether the folder holds files of a sheet called *stem*, and their fingerprint."""
+    present = [out / f"{stem}{suffix}" for suffix in _SHEET_SUFFIXES if (out / f"{stem}{suffix}").exists()]
+    if not present:
+        return False, None
+    for suffix in (".json", ".html"):
+        found = existing_fingerprint(out / f"{stem}{suffix}")
+        if found:
+            return True, found
+    return True, None
+
+
+def _refuse(out: Path, stem: str, held: str | None) -> OverwriteError:
+    what = (
+        f"a sheet with fingerprint {held[:12]}"
+        if held
+        else "files of a sheet whose fingerprint cannot be read"
+    )
+    return OverwriteError(
+        f"the output folder already holds {what}, built from other inputs",
+        where=str(out / f"{stem}.json"),
+        do="Build into another folder, or pass overwrite=True (--overwrite) to replace it",
+    )
+
+
+def _build(
+    template: Template,
+    assignments: Mapping[str, Any],
+    wheres: Mapping[str, str],
+    inputs_label: str,
+    out: Path,
+    *,
+    pdf: bool,
+    overwrite: bool,
+    timeout: int = CELL_TIMEOUT_S,
+) -> BuildResult:
+    import copy
+
+    import nbformat
+
+    started = time.monotonic()
+    out = Path(out)
+    _check_out_folder(out)
+    stem = template.name
+    held_any, held = _held_fingerprint(out, stem)
+    if held_any and held is None and not overwrite:
+        raise _refuse(out, stem, held)
+
+    notebook = copy.deepcopy(template.notebook)
+    injected = nbformat.v4.new_code_cell(_inputs_cell_source(assignments, inputs_label, template.digest))
+    injected.metadata["tags"] = [INPUTS_TAG]
+    notebook.cells.insert(template.parameters_cell + 1, injected)
+
+    out.parent.mkdir(parents=True, exist_ok=True)
+    work = Path(tempfile.mkdtemp(prefix=f".calckit-build-{stem}-", dir=out.parent)).resolve()
+    try:
+        saver = nbformat.v4.new_code_cell(
+            "# calckit build: save the sheet\n"
+            "from calckit.workflow import save_built_sheet\n\n"
+            f"save_built_sheet(globals().get('sheet'), {str(work)!r}, {stem!r}, pdf={pdf!r})\n"
+        )
+        saver.metadata["tags"] = [SAVE_TAG]
+        notebook.cells.append(saver)
+        try:
+            _execute(notebook, work, timeout)
+        except CalcError:
+            raise
+        except Exception as exc:
+            from nbclient.exceptions import CellExecutionError, CellTimeoutError, DeadKernelError
+
+            if isinstance(exc, CellExecutionError):
+                raise _cell_error(template, notebook, wheres, exc) from None
+            if isinstance(exc, CellTimeoutError):
+                raise BuildError(
+                    f"a cell ran longer than {timeout} s",
+                    where=str(template.path),
+                    do="Check the template for a loop that does not end",
+                ) from None
+            if isinstance(exc, DeadKernelError):
+                log = (work / ".kernel.log").read_text(encoding="utf-8", errors="replace").strip()
+                last = log.splitlines()[-1].strip() if log else "no message"
+                raise BuildError(
+                    f"the kernel died while running the template (its last words: {last})",
+                    where=str(template.path),
+                    do="Check the template for a crash or a memory blow-up",
+                ) from None
+            raise
+        notebook.cells.pop()  # the save cell is the build's, not the template's
+        nbformat.write(notebook, work / f"{stem}.ipynb")
+        record_path = work / f"{stem}.json"
+        record = json.loads(record_path.read_text(encoding="utf-8"))
+        fingerprint = record["fingerprint"]
+        if held_any and not overwrite and held != fingerprint:
+            raise _refuse(out, stem, held)
+        produced = [s for s in (".ipynb", ".pdf", ".html", ".json") if (work / f"{stem}{s}").exists()]
+        out.mkdir(parents=True, exist_ok=True)
+        for suffix in _SHEET_SUFFIXES:  # stale files of the replaced sheet (a PDF not asked for now)
+            if suffix not in produced:
+                (out / f"{stem}{suffix}").unlink(missing_ok=True)
+        mode = _file_mode()
+        for suffix in produced:  # the JSON record last: it marks the sheet complete
+            os.chmod(work / f"{stem}{suffix}", mode)  # temporary files are private; sheets are not
+            os.replace(work / f"{stem}{suffix}", out / f"{stem}{suffix}")
+    finally:
+        shutil.rmtree(work, ignore_errors=True)
+    return BuildResult(
+        out=out,
+        notebook=out / f"{stem}.ipynb",
+        html=out / f"{stem}.html",
+        json=out / f"{stem}.json",
+        pdf=out / f"{stem}.pdf" if pdf else None,
+        fingerprint=fingerprint,
+        record=record,
+        seconds=time.monotonic() - started,
+    )
+
+
+def _prepared(
+    template: Template, inputs: InputsFile | None, overrides: Mapping[str, Any] | None = None
+) -> dict[str, Any]:
+    values: dict[str, Any] = {}
+    if inputs is not None:
+        values.update(inputs.assignments(template.parameters))
+    if overrides:
+        values.update(overrides)
+    return values
+
+
+def build_sheet(
+    template: str | os.PathLike,
+    inputs: str | os.PathLike,
+    out: str | os.PathLike,
+    *,
+    pdf: bool = False,
+    overwrite: bool = False,
+    timeout: int = CELL_TIMEOUT_S,
+) -> BuildResult:
+    """Build one calculation sheet from a template notebook and an inputs file.
+
+    Reads and checks the inputs, puts them into the template after its
+    parameters cell, runs the notebook in a fresh kernel and writes the
+    executed notebook, the sheet as HTML and its JSON record (and a PDF on
+    request) into the output folder, all or nothing.
+
+    Parameters
+    ----------
+    template : str or path
+        A template notebook, or the name of a bundled template.
+    inputs : str or path
+        The inputs file (TOML): one value for each of the template's parameters.
+    out : str or path
+        The output folder; created if missing.
+    pdf : bool
+        Also print the sheet to PDF (needs Chromium).
+    overwrite : bool
+        Replace a sheet in the output folder that was built from other inputs.
+    timeout : int
+        Seconds one cell may run.
+
+    Returns
+    -------
+    BuildResult
+
+    Raises
+    ------
+    InputsError, UnitsError
+        The inputs file cannot be read, or gives unknown names or misses some.
+    CellError
+        A cell of the template failed (bad input values among them).
+    OverwriteError
+        The output folder holds a sheet built from other inputs.
+    BuildError
+        No such template, or the kernel could not run it.
+    """
+    tmpl = load_template(template)
+    file = read_inputs(inputs)
+    check_keys(file, tmpl.parameters, path=file.path)
+    wheres = {name: file.where(name) for name in tmpl.parameters}
+    return _build(
+        tmpl,
+        _prepared(tmpl, file),
+        wheres,
+        file.path.name,
+        Path(out),
+        pdf=pdf,
+        overwrite=overwrite,
+        timeout=timeout,
+    )
+
+
+# ---------------------------------------------------------------------------
+# Batches
+
+
+@dataclass(frozen=True)
+class Case:
+    """One case of a batch: its name, the inputs it overrides, and where they are written.
+
+    Attributes
+    ----------
+    name : str
+        Also the name of the case's sub-folder.
+    values : Mapping[str, object]
+        Inputs that replace the base inputs.
+    wheres : Mapping[str, str]
+        For each overridden input, where it is written (file, line, case).
+    """
+
+    name: str
+    values: Mapping[str, Any]
+    wheres: Mapping[str, str]
+
+
+@dataclass(frozen=True)
+class CaseResult:
+    """How one case went.
+
+    Attributes
+    ----------
+    name : str
+    ok : bool
+        The sheet was built.
+    folder : str
+        The case's output folder.
+    message : str
+        The error, for a failed case.
+    record : dict or None
+        The sheet's JSON record, for a built case.
+    seconds : float
+    """
+
+    name: str
+    ok: bool
+    folder: str
+    message: str = ""
+    record: dict | None = field(default=None, repr=False)
+    seconds: float = 0.0
+
+    @property
+    def status(self) -> str:
+        """``"built"`` or ``"failed"``."""
+        return "built" if self.ok else "failed"
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """What :func:`run_batch` did: one result per case, in the table's order, and the summaries."""
+
+    out: Path
+    cases: tuple[CaseResult, ...]
+    summary_csv: Path
+    summary_html: Path
+
+    @property
+    def failed(self) -> list[CaseResult]:
+        return [case for case in self.cases if not case.ok]
+
+
+_CASE_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,79}$")
+
+
+def _case_value(text: str, default: Any, where: str) -> Any:
+    """A CSV cell as the type of the template's default for that input."""
+    text = text.strip()
+    if isinstance(default, bool):
+        if text.lower() in ("true", "false"):
+            return text.lower() == "true"
+        raise InputsError(f"expected true or false, got {text!r}", where=where, do="Write true or false")
+    if isinstance(default, int | float):
+        try:
+            number = int(text) if re.fullmatch(r"[+-]?\d+", text) else float(text)
+        except ValueError:
+            raise InputsError(
+                f"expected a number, got {text!r}", where=where, do="Write a plain number, for example 0.05"
+            ) from None
+        if isinstance(number, float) and not math.isfinite(number):
+            raise InputsError(
+                f"the value {text} is not a finite number", where=where, do="Give a finite number"
+            )
+        return number
+    return text
+
+
+def _check_case_name(name: Any, where: str, seen: set[str]) -> str:
+    if not isinstance(name, str) or not _CASE_NAME.match(name) or name in (".", ".."):
+        raise InputsError(
+            f"the case name {name!r} cannot name a folder",
+            where=where,
+            do="Use letters, digits, '.', '-' and '_' (up to 80), starting with a letter or digit",
+        )
+    if name in seen:
+        raise InputsError(f'the case "{name}" is given twice', where=where, do="Give each case its own name")
+    seen.add(name)
+    return name
+
+
+def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
+    """Read a table of cases from CSV or TOML.
+
+    CSV: a header row with ``case`` and input names, then one row a case; an
+    empty cell keeps the base input. Values are read as the type of the
+    template's default (a number where the default is a number, else text).
+    TOML: one ``[[case]]`` table a case, with ``name`` and the inputs it
+    changes. Title-block fields (``revision`` ...) may be changed too.
+
+    Raises
+    ------
+    InputsError
+        Unreadable file, no cases, a bad or repeated case name, a name that is
+        not one of the template's parameters.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputsError("the cases file does not exist", where=str(path), do="Check the path") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputsError(
+            f"cannot read the cases file ({exc})", where=str(path), do="Check the path"
+        ) from None
+    known = {**{name: "" for name in TITLE_FIELDS}, **template.parameters}
+    cases: list[Case] = []
+    seen: set[str] = set()
+    if path.suffix.lower() == ".csv":
+        rows = list(csv.reader(io.StringIO(text)))
+        rows = [row for row in rows if any(cell.strip() for cell in row)]
+        if not rows or [c.strip() for c in rows[0]][:1] != ["case"]:
+            raise InputsError(
+                'the first row must be a header starting with "case"',
+                where=f"{path}, line 1",
+                do="Write case,<input>,<input>... then one row a case",
+            )
+        header = [c.strip() for c in rows[0]]
+        _check_names(header[1:], known, path, lambda name: 1)
+        for number, row in enumerate(csv.reader(io.StringIO(text)), start=1):
+            if number == 1 or not any(cell.strip() for cell in row):
+                continue
+            where = f"{path}, line {number}"
+            if len(row) != len(header):
+                raise InputsError(
+                    f"the row has {len(row)} cells but the header has {len(header)}",
+                    where=where,
+                    do="Give every row one cell per column (leave a cell empty to keep the base input)",
+                )
+            name = _check_case_name(row[0].strip(), where, seen)
+            values, wheres = {}, {}
+            for key, cell in zip(header[1:], row[1:], strict=True):
+                if cell.strip():
+                    place = f"{path}, line {number} (case {name}), {key}"
+                    values[key] = _case_value(cell, known[key], place)
+                    wheres[key] = place
+            cases.append(Case(name, values, wheres))
+    elif path.suffix.lower() == ".toml":
+        try:
+            data = tomllib.loads(text)
+        except tomllib.TOMLDecodeError as exc:
+            raise InputsError(
+                f"the cases file is not valid TOML: {exc}", where=str(path), do="Check the line named"
+            ) from None
+        tables = data.get("case")
+        if set(data) - {"case"} or not isinstance(tables, list):
+            raise InputsError(
+                "expected only [[case]] tables",
+                where=str(path),
+                do='Write one [[case]] table a case, with name = "..." and the inputs it changes',
+            )
+        lines = text.splitlines()
+        starts = [n for n, line in enumerate(lines, start=1) if line.strip().startswith("[[case]]")]
+        for index, table in enumerate(tables):
+            start = starts[index] if index < len(starts) else None
+            where = f"{path}, line {start}" if start else str(path)
+            name = _check_case_name(table.get("name"), where, seen)
+            keys = [key for key in table if key != "name"]
+            _check_names(keys, known, path, lambda key, s=start: _line_after(lines, s, key))
+            values, wheres = {}, {}
+            for key in keys:
+                value = table[key]
+                line = _line_after(lines, start, key)
+                place = (
+                    f"{path}, line {line} (case {name}), {key}" if line else f"{path} (case {name}), {key}"
+                )
+                if isinstance(value, float) and not math.isfinite(value):
+                    raise InputsError(
+                        f"the value {value} is not a finite number", where=place, do="Give a finite number"
+                    )
+                if not isinstance(value, str | int | float | bool):
+                    raise InputsError(
+                        f"a {type(value).__name__} value cannot be an input",
+                        where=place,
+                        do='Give text with a unit ("250 kg"), a number or true/false',
+                    )
+                values[key], wheres[key] = value, place
+            cases.append(Case(name, values, wheres))
+    else:
+        raise InputsError(
+            f"cannot read cases from a {path.suffix or 'file without extension'}",
+            where=str(path),
+            do="Give a .csv or a .toml table of cases",
+        )
+    if not cases:
+        raise InputsError(
+            "the cases file holds no cases", where=str(path), do="Add one row or [[case]] a case"
+        )
+    return tuple(cases)
+
+
+def _line_after(lines: Sequence[str], start: int | None, key: str) -> int | None:
+    if not start:
+        return None
+    pattern = re.compile(r"\s*" + re.escape(key) + r"\s*=")
+    for number in range(start, len(lines) + 1):
+        line = lines[number - 1]
+        if number > start and line.strip().startswith("["):
+            return None
+        if pattern.match(line):
+            return number
+    return None
+
+
+def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, line_of: Callable) -> None:
+    import difflib
+
+    for name in names:
+        if name not in known:
+            close = difflib.get_close_matches(name, list(known), n=1)
+            hint = f'Did you mean "{close[0]}"? ' if close else ""
+            line = line_of(name)
+            raise InputsError(
+                f'unknown input "{name}"',
+                where=f"{path}, line {line}" if line else str(path),
+                do=f"{hint}The template's inputs are {', '.join(n for n in known if n not in TITLE_FIELDS)}",
+            )
+
+
+def default_workers() -> int:
+    """The number of cores this process may use."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def _run_case(
+    template_path: str,
+    assignments: dict[str, Any],
+    wheres: dict[str, str],
+    inputs_label: str,
+    folder: str,
+    name: str,
+    pdf: bool,
+    overwrite: bool,
+) -> CaseResult:
+    """Build one case; never raises for a case that fails (runs in a worker)."""
+    started = time.monotonic()
+    try:
+        template = load_template(template_path)
+        result = _build(
+            template, assignments, wheres, inputs_label, Path(folder), pdf=pdf, overwrite=overwrite
+        )
+    except CalcError as exc:
+        return CaseResult(name, False, folder, str(exc), None, time.monotonic() - started)
+    except Exception as exc:  # a bug must not stop the other cases
+        return CaseResult(
+            name,
+            False,
+            folder,
+            f"internal error: {type(exc).__name__}: {exc}",
+            None,
+            time.monotonic() - started,
+        )
+    return CaseResult(name, True, folder, "", result.record, result.seconds)
+
+
+def run_batch(
+    template: str | os.PathLike,
+    cases: str | os.PathLike,
+    out: str | os.PathLike,
+    *,
+    inputs: str | os.PathLike | None = None,
+    executor: cf.Executor | None = None,
+    workers: int | None = None,
+    pdf: bool = False,
+    overwrite: bool = False,
+    progress: Callable[[int, int, CaseResult], None] | None = None,
+) -> BatchResult:
+    """Build one sheet per case of a table, in parallel, and a summary of them.
+
+    Each case's inputs are the base inputs file's with the case's values put
+    over them. Each sheet goes to ``<out>/<case>/``; ``<out>/summary.csv`` and
+    ``<out>/summary.html`` list every case with its key results and check
+    verdicts. A failing case is reported in the summary and does not stop the
+    others.
+
+    Parameters
+    ----------
+    template : str or path
+        A template notebook, or the name of a bundled template.
+    cases : str or path
+        The table of cases: CSV (a ``case`` column, then input columns) or TOML
+        (``[[case]]`` tables with ``name``).
+    out : str or path
+        The output folder; created if missing.
+    inputs : str or path, optional
+        The base inputs file the cases change; without it, the template's own values.
+    executor : concurrent.futures.Executor, optional
+        Where the cases run. By default a process pool of ``workers``
+        processes; a Dask client's ``get_executor()`` also works.
+    workers : int, optional
+        Processes of the default pool; by default one per available core.
+    pdf : bool
+        Also print each sheet to PDF.
+    overwrite : bool
+        Replace sheets built from other inputs in the cases' folders.
+    progress : callable, optional
+        Called as ``progress(done, total, case_result)`` after each case.
+
+    Returns
+    -------
+    BatchResult
+
+    Raises
+    ------
+    InputsError
+        The base inputs or the cases cannot be read, or name inputs the
+        template does not have (checked before any case runs).
+    """
+    tmpl = load_template(template)
+    base = read_inputs(inputs) if inputs is not None else None
+    table = read_cases(cases, tmpl)
+    out = Path(out)
+    _check_out_folder(out)
+    if workers is not None and workers < 1:
+        raise InputsError(f"{workers} workers cannot run anything", where="workers", do="Give 1 or more")
+    base_values = _prepared(tmpl, base) if base is not None else dict(tmpl.parameters)
+    base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
+    if base is not None:  # unknown names only: a case may give what the base leaves out
+        check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
+    cases_label = Path(cases).name
+    jobs = []
+    for case in table:
+        values = {**base_values, **case.values}
+        missing = [name for name in tmpl.inputs if name not in values]
+        if missing:
+            raise InputsError(
+                f"case {case.name} gives no value for {', '.join(missing)}",
+                where=str(cases),
+                do="Give it in the base inputs file (--inputs) or in the case",
+            )
+        wheres = {**base_wheres, **case.wheres}
+        label = (
+            f"{base.path.name} with case {case.name} of {cases_label}"
+            if base
+            else f"case {case.name} of {cases_label}"
+        )
+        jobs.append((str(tmpl.path), values, wheres, label, str(out / case.name), case.name, pdf, overwrite))
+
+    own = executor is None
+    if own:
+        count = min(workers or default_workers(), len(jobs))
+        executor = cf.ProcessPoolExecutor(max_workers=count, mp_context=multiprocessing.get_context("spawn"))
+    results: dict[str, CaseResult] = {}
+    try:
+        futures = {executor.submit(_run_case, *job): job for job in jobs}
+        for done, future in enumerate(cf.as_completed(futures), start=1):
+            job = futures[future]
+            try:
+                result = future.result()
+            except Exception as exc:  # the worker itself broke (killed, unpicklable ...)
+                result = CaseResult(job[5], False, job[4], f"the worker failed: {type(exc).__name__}: {exc}")
+            results[result.name] = result
+            if progress is not None:
+                progress(done, len(jobs), result)
+    finally:
+        if own:
+            executor.shutdown(wait=True, cancel_futures=True)
+    ordered = tuple(results[case.name] for case in table)
+    csv_path, html_path = _write_summary(out, tmpl, ordered)
+    return BatchResult(out, ordered, csv_path, html_path)
+
+
+# ---------------------------------------------------------------------------
+# The summary of a batch
+
+
+def _summary_columns(results: Sequence[CaseResult]) -> tuple[list[str], list[tuple[str, str]]]:
+    checks: list[str] = []
+    quantities: list[tuple[str, str]] = []
+    for result in results:
+        if not result.record:
+            continue
+        for check in result.record.get("checks", []):
+            if check["name"] not in checks:
+                checks.append(check["name"])
+        for item in result.record.get("results", []):
+            key = (item["name"], item.get("unit", ""))
+            if item.get("value") is not None and key not in quantities:
+                quantities.append(key)
+    return checks, quantities
+
+
+def _summary_rows(results: Sequence[CaseResult]) -> tuple[list[str], list[list[Any]]]:
+    checks, quantities = _summary_columns(results)
+    header = ["case", "status", "checks met"]
+    for name in checks:
+        header += [f"{name}: verdict", f"{name}: margin %"]
+    header += [f"{name} [{unit}]" if unit else name for name, unit in quantities]
+    header += ["message"]
+    rows = []
+    for result in results:
+        record = result.record or {}
+        by_check = {c["name"]: c for c in record.get("checks", [])}
+        by_result = {(r["name"], r.get("unit", "")): r for r in record.get("results", [])}
+        summary = record.get("summary")
+        row: list[Any] = [
+            result.name,
+            result.status,
+            f"{summary['met']} of {summary['checks']}" if summary else "",
+        ]
+        for name in checks:
+            check = by_check.get(name)
+            row += [check["verdict"], check["margin_percent"]] if check else ["", ""]
+        for key in quantities:
+            item = by_result.get(key)
+            row.append(item["value"] if item else "")
+        row.append(result.message)
+        rows.append(row)
+    return header, rows
+
+
+def _atomic_text(path: Path, text: str) -> None:
+    fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
+            handle.write(text)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def _write_summary(out: Path, template: Template, results: Sequence[CaseResult]) -> tuple[Path, Path]:
+    from .render.page import Html, escape, html_page, table
+    from .units import fmt_number
+
+    out.mkdir(parents=True, exist_ok=True)
+    header, rows = _summary_rows(results)
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(header)
+    writer.writerows([[repr(c) if isinstance(c, float) else c for c in row] for row in rows])
+    csv_path = out / "summary.csv"
+    _atomic_text(csv_path, buffer.getvalue())
+
+    def shown(column: str, cell: Any) -> Any:
+        if isinstance(cell, float):
+            return f"{cell:+.1f}" if column.endswith("margin %") else fmt_number(cell, 4)
+        if cell == "not met":
+            return Html('<strong class="verdict verdict-not-met">NOT MET</strong>')
+        if cell == "failed":
+            return Html("<strong>failed</strong>")
+        if column == "case" and isinstance(cell, str):
+            return Html(f'<a href="{escape(cell)}/{escape(template.name)}.html">{escape(cell)}</a>')
+        return cell
+
+    html_rows = [[shown(h, c) for h, c in zip(header, row, strict=True)] for row in rows]
+    built = sum(r.ok for r in results)
+    body = (
+        f"<h1>Batch of {len(results)} cases: {escape(template.name)}</h1>"
+        f"<p>{built} built, {len(results) - built} failed. Each case's sheet is in its own folder; "
+        "margins are in percent of the limit, positive when the check is met.</p>"
+        + table(header, html_rows, cls="checks")
+    )
+    html_path = out / "summary.html"
+    _atomic_text(html_path, html_page(f"Batch summary: {template.name}", body, footer_left=template.name))
+    return csv_path, html_path
+
+
+# ---------------------------------------------------------------------------
+# Starting a calculation, and the demonstration
+
+
+def _toml_value(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int | float):
+        return repr(value)
+    return json.dumps(value, ensure_ascii=False)
+
+
+def inputs_text(template: Template) -> str:
+    """An inputs file (TOML) holding the template's own values, to start from."""
+    lines = [f"# Inputs for {template.path.name}: change the values, keep the names.", ""]
+    lines += [
+        f"{name} = {_toml_value(value)}"
+        for name, value in template.parameters.items()
+        if name not in TITLE_FIELDS
+    ]
+    title = [(name, value) for name, value in template.parameters.items() if name in TITLE_FIELDS]
+    if title:
+        lines += ["", "[sheet]"] + [f"{name} = {_toml_value(value)}" for name, value in title]
+    return "\n".join(lines) + "\n"
+
+
+def new_calculation(template: str, dest: str | os.PathLike) -> tuple[Path, Path]:
+    """Copy a bundled template to start a new calculation, with an inputs file of its values.
+
+    Writes ``DEST`` (a notebook; a folder gets ``<template>.ipynb`` inside) and
+    an inputs file of the same name ending in ``.toml``. Refuses to replace
+    either.
+
+    Parameters
+    ----------
+    template : str
+        A bundled template's name, or a template notebook's path.
+    dest : str or path
+        The new notebook, or a folder to put it in.
+
+    Returns
+    -------
+    (Path, Path)
+        The notebook and the inputs file written.
+
+    Raises
+    ------
+    OverwriteError
+        Either file exists already.
+    """
+    tmpl = load_template(template)
+    dest = Path(dest)
+    if dest.is_dir() or str(dest).endswith(("/", os.sep)):
+        dest = dest / tmpl.path.name
+    elif dest.suffix != ".ipynb":
+        dest = dest.with_name(dest.name + ".ipynb")
+    inputs = dest.with_suffix(".toml")
+    for path in (dest, inputs):
+        if path.exists():
+            raise OverwriteError(
+                "the file exists already", where=str(path), do="Choose another name; nothing was written"
+            )
+    dest.parent.mkdir(parents=True, exist_ok=True)
+    _atomic_bytes(dest, tmpl.path.read_bytes())
+    _atomic_text(inputs, inputs_text(tmpl))
+    return dest, inputs
+
+
+def _atomic_bytes(path: Path, data: bytes) -> None:
+    fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+@dataclasses.dataclass(frozen=True)
+class Demo:
+    """One demonstration sheet: sub-folder name, bundled template, bundled inputs file."""
+
+    name: str
+    template: str
+    inputs: Path
+
+
+def demos() -> tuple[Demo, ...]:
+    """The demonstration sheets listed in the bundled ``examples/demos.toml``."""
+    folder = _examples_folder()
+    data = tomllib.loads((folder / "demos.toml").read_text(encoding="utf-8"))
+    return tuple(Demo(d["name"], d["template"], folder / d["inputs"]) for d in data.get("demo", []))
+
+
+def run_demo(
+    out: str | os.PathLike, *, pdf: bool = False, overwrite: bool = False
+) -> list[tuple[Demo, BuildResult]]:
+    """Build the bundled example sheets into sub-folders of an output folder.
+
+    The examples are an invented scenario, the Harrow Creek water-treatment
+    works; each is a bundled template built from a bundled inputs file.
+
+    Parameters
+    ----------
+    out : str or path
+        The output folder; each example goes to its own sub-folder.
+    pdf : bool
+        Also print each sheet to PDF (needs Chromium).
+    overwrite : bool
+        Replace sheets built from other inputs.
+    """
+    out = Path(out)
+    return [
+        (demo, build_sheet(demo.template, demo.inputs, out / demo.name, pdf=pdf, overwrite=overwrite))
+        for demo in demos()
+    ]

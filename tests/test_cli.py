@@ -1,0 +1,351 @@
+"""Tests of the ``calckit`` command line: demo, build, diff, batch, new; exit codes and messages.
+
+The commands run as ``python -m calckit`` in a subprocess, as a user would run
+them, so that exit codes and the absence of tracebacks are those of the real
+command. Commands that start a kernel run once per module, two at a time.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as cf
+import csv
+import os
+import re
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from calckit import cli, diffing, workflow
+
+ROOT = Path(__file__).parent.parent
+EXAMPLE = ROOT / "examples" / "harrow_creek_p101.toml"
+TEMPLATE = "single_mass_harmonic"
+INPUT_NAMES = ", ".join(workflow.load_template(TEMPLATE).inputs)
+
+
+def calckit(*args: str, cwd: Path) -> subprocess.CompletedProcess:
+    env = dict(os.environ)
+    env["PYTHONPATH"] = os.pathsep.join(p for p in (str(ROOT), env.get("PYTHONPATH", "")) if p)
+    return subprocess.run(
+        [sys.executable, "-m", "calckit", *args],
+        cwd=cwd,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+
+
+def _example_with(old: str, new: str) -> str:
+    text = EXAMPLE.read_text(encoding="utf-8")
+    assert text.count(old) == 1, old
+    return text.replace(old, new)
+
+
+# Bad inputs: the file's name, the line of the example to change, what to put instead, and the
+# exact message (after "calckit build: error: "). Every one exits with 2.
+BAD_INPUTS = {
+    "broken_toml": (
+        'mass = "1850 kg"',
+        'mass = "1850 kg',
+        "broken_toml.toml, line 16, column 71: the inputs file is not valid TOML: illegal character "
+        "'\\n'. Check that line: text needs quotes (mass = \"250 kg\") and each key is set once.",
+    ),
+    "missing_input": (
+        'mass = "1850 kg"',
+        "",
+        f'missing_input.toml: missing input "mass". The template\'s inputs are {INPUT_NAMES}.',
+    ),
+    "unknown_key": (
+        'stiffness = "720 kN/m"',
+        'stifness = "720 kN/m"',
+        'unknown_key.toml: unknown input "stifness" on line 22 (did you mean "stiffness"?); missing input '
+        f'"stiffness". The template\'s inputs are {INPUT_NAMES}.',
+    ),
+    "nan_mass": (
+        'mass = "1850 kg"',
+        "mass = nan",
+        "nan_mass.toml, line 16, mass: the value nan is not a finite number. Give a finite number.",
+    ),
+    "unknown_unit": (
+        'stiffness = "720 kN/m"',
+        'stiffness = "720 kN/mn"',
+        'unknown_unit.toml, line 22, stiffness: unknown unit "kN/mn" in "720 kN/mn". Did you mean "kN/m"? '
+        "Write a unit such as "
+        "N/m, N/mm, lbf/in (unit names are case-sensitive).",
+    ),
+    "wrong_dimension": (
+        'mass = "1850 kg"',
+        'mass = "1850 N/mm"',
+        "wrong_dimension.toml, line 16, mass: expected a mass (kg, lb, ...), got 1850 N/mm, which is a "
+        'stiffness. Give a mass, for example "250 kg".',
+    ),
+    "zero_mass": (
+        'mass = "1850 kg"',
+        'mass = "0 kg"',
+        "zero_mass.toml, line 16, mass: must be greater than zero, got 0 kg. Check the value and its sign "
+        "in the inputs.",
+    ),
+    "tangent_forcing": (
+        'forcing = "F0*cos(w*t)"',
+        'forcing = "F0*tan(w*t)"',
+        'tangent_forcing.toml, line 19, forcing: the function "tan" is not allowed in "F0*tan(w*t)". '
+        "Allowed: numbers, the inputs F0, w, the time t, pi, + - * / ** and parentheses, and the functions "
+        "sin, cos, exp, sinh, cosh, sqrt.",
+    ),
+    "attribute_trick": (
+        'forcing = "F0*cos(w*t)"',
+        'forcing = "().__class__"',
+        'attribute_trick.toml, line 19, forcing: attribute access "().__class__" is not allowed. Allowed: '
+        "numbers, the inputs F0, w, the time t, pi, + - * / ** and parentheses, and the functions sin, cos, "
+        "exp, sinh, cosh, sqrt.",
+    ),
+    "import_trick": (
+        'forcing = "F0*cos(w*t)"',
+        "forcing = \"__import__('os').system('touch created-by-forcing')\"",
+        "import_trick.toml, line 19, forcing: attribute access \"__import__('os').system\" is not allowed in "
+        "\"__import__('os').system('touch created-by-forcing')\". Allowed: numbers, the inputs F0, w, the time "
+        "t, pi, + - * / ** and parentheses, and the functions sin, cos, exp, sinh, cosh, sqrt.",
+    ),
+}
+
+
+@pytest.fixture(scope="module")
+def runs(tmp_path_factory):
+    """Every command that needs a kernel, run once, two at a time; results by name."""
+    root = tmp_path_factory.mktemp("cli")
+    jobs = {}
+    for name, (old, new, _) in BAD_INPUTS.items():
+        (root / f"{name}.toml").write_text(_example_with(old, new), encoding="utf-8")
+        jobs[name] = ("build", TEMPLATE, "--inputs", f"{name}.toml", "--out", f"bad/{name}")
+    marker = root / "created-by-forcing"
+    (root / "slow.toml").write_text(
+        _example_with('forcing_frequency = "1480 rpm"', 'forcing_frequency = "600 rpm"'), encoding="utf-8"
+    )
+    jobs["demo"] = ("demo", "--out", "demo")
+    jobs["slow"] = ("build", TEMPLATE, "--inputs", "slow.toml", "--out", "slow")
+    jobs["missing_template"] = ("build", "no_such_template", "--inputs", "slow.toml", "--out", "x")
+    with open(root / "cases.csv", "w", newline="", encoding="utf-8") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["case", "forcing_frequency", "mass"])
+        writer.writerow(["full-speed", "1480 rpm", ""])
+        writer.writerow(["turned-down", "600 rpm", ""])
+        writer.writerow(["no-unit", "", "1850"])
+    with cf.ThreadPoolExecutor(max_workers=2) as pool:
+        futures = {name: pool.submit(calckit, *args, cwd=root) for name, args in jobs.items()}
+        done = {name: future.result() for name, future in futures.items()}
+    # these need the demo's folder
+    done["refused"] = calckit("build", TEMPLATE, "--inputs", "slow.toml", "--out", "demo/p101", cwd=root)
+    done["batch"] = calckit(
+        "batch", TEMPLATE, "--cases", "cases.csv", "--inputs", str(EXAMPLE), "--out", "batch", "--workers", "2",
+        cwd=root,
+    )  # fmt: skip
+    return root, done, marker
+
+
+def _no_traceback(run: subprocess.CompletedProcess) -> None:
+    assert "Traceback" not in run.stderr and "Traceback" not in run.stdout
+
+
+class TestBadInputs:
+    @pytest.mark.parametrize("name", list(BAD_INPUTS))
+    def test_message_and_exit_code(self, runs, name):
+        """Each bad input gives exit code 2 and one line naming the file, the key and the line."""
+        root, done, _ = runs
+        run = done[name]
+        _no_traceback(run)
+        assert run.returncode == 2
+        assert run.stdout == ""
+        message = run.stderr.removeprefix("calckit build: error: ")
+        found = re.search(r" \(found by single_mass_harmonic\.ipynb, cell \d+, line \d+\)\n$", message)
+        if found:  # raised in the template: where it was raised may move as the template is edited
+            message = message[: found.start()] + "\n"
+        assert run.stderr.startswith("calckit build: error: ")
+        assert message == f"{BAD_INPUTS[name][2]}\n"
+        assert not (root / "bad" / name).exists()
+
+    def test_nothing_left_behind(self, runs):
+        """Failed builds leave no sheet and no temporary folder."""
+        root, _, _ = runs
+        assert not (root / "bad").exists() or not list((root / "bad").iterdir())
+        assert not list(root.rglob(".calckit-build-*"))
+
+    def test_injected_code_never_runs(self, runs):
+        """A forcing that would create a file if it were run is refused as text; no file appears."""
+        root, done, marker = runs
+        assert done["import_trick"].returncode == 2
+        assert not marker.exists()
+        assert not list(root.rglob("created-by-forcing"))
+
+    def test_missing_template(self, runs):
+        """A template that does not exist: exit 2 and the templates there are."""
+        _, done, _ = runs
+        run = done["missing_template"]
+        assert run.returncode == 2
+        assert run.stderr == (
+            "calckit build: error: no_such_template: no such template: it is neither a notebook file nor a "
+            f"bundled template. Give the path of a .ipynb file or a bundled template's name "
+            f"({', '.join(workflow.bundled_templates())}).\n"
+        )
+
+
+class TestDemo:
+    def test_prints_where_the_files_are(self, runs):
+        """The demo builds the bundled example and prints the paths of the sheet, record and notebook."""
+        root, done, _ = runs
+        run = done["demo"]
+        _no_traceback(run)
+        assert run.returncode == 0, run.stderr
+        lines = run.stdout.splitlines()
+        assert lines[0].startswith(f"Built demo p101 ({TEMPLATE} with harrow_creek_p101.toml) in ")
+        assert lines[0].endswith(": 2 of 2 checks met")
+        for label, suffix in (("sheet:", ".html"), ("record:", ".json"), ("notebook:", ".ipynb")):
+            path = f"demo/p101/{TEMPLATE}{suffix}"
+            assert f"  {label:<13}{path}" in lines
+            assert (root / path).is_file()
+        assert lines[-1] == f"Open demo/p101/{TEMPLATE}.html in a browser to read the sheet."
+
+    def test_overwrite_refused(self, runs):
+        """Building other inputs into the demo's folder is refused with exit 2; the sheet is kept."""
+        root, done, _ = runs
+        run = done["refused"]
+        record = diffing.read_record(root / "demo" / "p101")
+        assert run.returncode == 2
+        assert run.stderr == (
+            f"calckit build: error: demo/p101/{TEMPLATE}.json: the output folder already holds a sheet with "
+            f"fingerprint {record['fingerprint'][:12]}, built from other inputs. Build into another folder, "
+            "or pass overwrite=True (--overwrite) to replace it.\n"
+        )
+        assert [i["text"] for i in record["inputs"] if i["name"] == "forcing_frequency"] == ["1480 rpm"]
+
+
+class TestDiff:
+    def test_shows_the_change(self, runs):
+        """diff lists the one input changed, the results it moved and the check that flipped."""
+        root, done, _ = runs
+        assert done["slow"].returncode == 0, done["slow"].stderr
+        run = calckit("diff", "demo/p101", f"slow/{TEMPLATE}.html", "--html", "diff.html", cwd=root)
+        _no_traceback(run)
+        assert run.returncode == 0
+        report = diffing.diff_sheets(root / "demo" / "p101", root / "slow")
+        assert run.stdout == (
+            f"Comparing demo/p101/{TEMPLATE}.json\n     with slow/{TEMPLATE}.json\n"
+            + report.text()
+            + "\nReport written to diff.html\n"
+        )
+        assert "Inputs changed (1):\n  forcing_frequency: 1480 rpm -> 600 rpm\n" in run.stdout
+        assert "Checks flipped (1):\n  amplitude: met -> NOT MET\n" in run.stdout
+        assert (root / "diff.html").read_text().startswith("<!DOCTYPE html>")
+
+    def test_same_sheet(self, runs):
+        """A sheet compared with its own record: same inputs, same calculation."""
+        root, _, _ = runs
+        run = calckit("diff", f"demo/p101/{TEMPLATE}.html", "demo/p101", cwd=root)
+        assert run.returncode == 0
+        assert run.stdout.splitlines()[-1] == "Same inputs, same calculation (the fingerprints are equal)."
+
+    def test_missing_file(self, tmp_path):
+        """A sheet that does not exist: exit 2, one line."""
+        run = calckit("diff", "old.json", "new.json", cwd=tmp_path)
+        assert (run.returncode, run.stderr) == (
+            2,
+            "calckit diff: error: old.json: no such file or folder. Check the path.\n",
+        )
+
+
+class TestBatch:
+    def test_one_bad_case(self, runs):
+        """A batch of three with one bad case: two sheets, a summary, progress on stderr, exit 1."""
+        root, done, _ = runs
+        run = done["batch"]
+        _no_traceback(run)
+        assert run.returncode == 1
+        progress = run.stderr.splitlines()
+        assert sorted(line[:5] for line in progress) == ["[1/3]", "[2/3]", "[3/3]"]
+        failed = [line for line in progress if " no-unit: FAILED: " in line]
+        assert len(failed) == 1
+        assert (
+            "cases.csv, line 4 (case no-unit), mass: expected a mass (kg, lb, ...), got 1850, which has no unit."
+            in failed[0]
+        )
+        assert run.stdout.splitlines()[0] == "3 cases: 2 built, 1 failed"
+        with open(root / "batch" / "summary.csv", newline="", encoding="utf-8") as handle:
+            rows = {row["case"]: row for row in csv.DictReader(handle)}
+        assert {name: row["status"] for name, row in rows.items()} == {
+            "full-speed": "built",
+            "turned-down": "built",
+            "no-unit": "failed",
+        }
+        assert (rows["full-speed"]["amplitude: verdict"], rows["turned-down"]["amplitude: verdict"]) == (
+            "met",
+            "not met",
+        )
+        assert (root / "batch" / "summary.html").is_file()
+        assert (root / "batch" / "turned-down" / f"{TEMPLATE}.html").is_file()
+
+    def test_unknown_column_stops_before_running(self, tmp_path):
+        """An unknown column is refused before any case runs: exit 2, no output folder."""
+        (tmp_path / "cases.csv").write_text("case,stifness\na,1 N/m\n")
+        run = calckit("batch", TEMPLATE, "--cases", "cases.csv", "--out", "out", cwd=tmp_path)
+        assert run.returncode == 2
+        assert run.stderr.startswith(
+            'calckit batch: error: cases.csv, line 1: unknown input "stifness". Did you mean "stiffness"?'
+        )
+        assert not (tmp_path / "out").exists()
+
+
+class TestNew:
+    def test_copies_then_refuses(self, tmp_path):
+        """new writes the template and its inputs file, and refuses to replace them."""
+        first = calckit("new", TEMPLATE, "calcs/p102.ipynb", cwd=tmp_path)
+        assert first.returncode == 0
+        assert first.stdout.splitlines()[0] == "Wrote calcs/p102.ipynb and calcs/p102.toml."
+        assert (tmp_path / "calcs" / "p102.toml").is_file()
+        again = calckit("new", TEMPLATE, "calcs/p102.ipynb", cwd=tmp_path)
+        assert (again.returncode, again.stderr) == (
+            2,
+            "calckit new: error: calcs/p102.ipynb: the file exists already. Choose another name; nothing was written.\n",
+        )
+
+
+class TestHelp:
+    def test_commands_listed(self, capsys):
+        """calckit --help lists the five commands with their library summaries."""
+        with pytest.raises(SystemExit) as info:
+            cli.main(["--help"])
+        assert info.value.code == 0
+        out = " ".join(capsys.readouterr().out.split())
+        for name, func in (
+            ("demo", workflow.run_demo),
+            ("build", workflow.build_sheet),
+            ("diff", diffing.diff_sheets),
+            ("batch", workflow.run_batch),
+            ("new", workflow.new_calculation),
+        ):
+            assert f"{name} {cli._summary(func)}" in out
+
+    @pytest.mark.parametrize(
+        ("command", "func", "options"),
+        [
+            ("build", workflow.build_sheet, ["inputs", "out", "pdf", "overwrite"]),
+            ("batch", workflow.run_batch, ["cases", "inputs", "workers", "overwrite"]),
+            ("demo", workflow.run_demo, ["out", "pdf", "overwrite"]),
+        ],
+    )
+    def test_options_reuse_docstrings(self, capsys, command, func, options):
+        """Each option's help is the library parameter's description."""
+        with pytest.raises(SystemExit):
+            cli.main([command, "--help"])
+        out = " ".join(capsys.readouterr().out.split())
+        assert " ".join(cli._summary(func).split()) in out
+        for option in options:
+            assert " ".join(cli._param(func, option).split()) in out
+
+    def test_usage_error(self, capsys):
+        """A missing option is a usage error with exit code 2."""
+        with pytest.raises(SystemExit) as info:
+            cli.main(["build", TEMPLATE])
+        assert info.value.code == 2
+        assert "the following arguments are required: --inputs, --out" in capsys.readouterr().err

@@ -1,0 +1,497 @@
+"""Tests of calckit.workflow and calckit.diffing: build, diff, batch, new.
+
+Kernels take a second or two to start, so the sheets are built once per module
+(fixtures ``built`` and ``batch``) and shared by the tests that read them.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as cf
+import csv
+import json
+import math
+import multiprocessing
+from pathlib import Path
+
+import nbformat
+import pytest
+
+from calckit.diffing import Change, diff_records, diff_sheets, read_record
+from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
+from calckit.inputs import TITLE_FIELDS, check_keys, read_inputs
+from calckit.sheet import existing_fingerprint
+from calckit.workflow import (
+    INPUTS_TAG,
+    PARAMETERS_TAG,
+    SAVE_TAG,
+    CellError,
+    build_sheet,
+    bundled_templates,
+    demos,
+    load_template,
+    new_calculation,
+    read_cases,
+    run_batch,
+)
+
+DATA = Path(__file__).parent / "data"
+EXAMPLE = Path(__file__).parent.parent / "examples" / "harrow_creek_p101.toml"
+TEMPLATE = "single_mass_harmonic"
+
+
+def _changed(text: str, old: str, new: str) -> str:
+    assert text.count(old) == 1, old
+    return text.replace(old, new)
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    """The bundled example built as it is, and again with the pump slowed to 600 rpm (revision B)."""
+    root = tmp_path_factory.mktemp("built")
+    slow = root / "p101_600rpm.toml"
+    text = EXAMPLE.read_text(encoding="utf-8")
+    text = _changed(text, 'forcing_frequency = "1480 rpm"', 'forcing_frequency = "600 rpm"')
+    slow.write_text(_changed(text, 'revision = "A"', 'revision = "B"'), encoding="utf-8")
+    base = build_sheet(TEMPLATE, EXAMPLE, root / "base")
+    moved = build_sheet(TEMPLATE, slow, root / "slow")
+    return root, base, moved
+
+
+def _inputs_si(record: dict) -> dict[str, float]:
+    return {item["name"]: item["value"] for item in record["inputs"]}
+
+
+def _results(record: dict) -> dict[str, float]:
+    return {item["name"]: item["value"] for item in record["results"]}
+
+
+class TestBundled:
+    def test_template_is_listed(self):
+        """The first bundled template is found by name."""
+        assert TEMPLATE in bundled_templates()
+
+    def test_parameters_match_example(self):
+        """The example inputs file gives exactly the bundled template's inputs."""
+        template = load_template(TEMPLATE)
+        check_keys(read_inputs(EXAMPLE), template.parameters, path=EXAMPLE)
+        assert template.notebook.cells[template.parameters_cell].metadata["tags"] == [PARAMETERS_TAG]
+
+    def test_demos_name_bundled_files(self):
+        """Every demo names a bundled template and an inputs file that exists."""
+        listed = demos()
+        assert listed
+        for demo in listed:
+            assert demo.template in bundled_templates()
+            assert demo.inputs.is_file()
+
+
+class TestLoadTemplate:
+    @pytest.mark.parametrize(
+        ("name", "message"),
+        [
+            (
+                "no_parameters.ipynb",
+                'no cell is tagged "parameters". Tag exactly one code cell "parameters" and put the '
+                "inputs there as plain assignments.",
+            ),
+            (
+                "two_parameters.ipynb",
+                '2 cells are tagged "parameters". Tag exactly one code cell "parameters" and put the '
+                "inputs there as plain assignments.",
+            ),
+            (
+                "not_a_notebook.ipynb",
+                "cannot read the template as a notebook. Give a Jupyter notebook "
+                "(.ipynb) saved by Jupyter or nbformat.",
+            ),
+        ],
+    )
+    def test_refused(self, name, message):
+        """A template without exactly one parameters cell, or not a notebook, is refused."""
+        with pytest.raises(BuildError) as info:
+            load_template(DATA / name)
+        assert str(info.value) == f"{DATA / name}: {message}"
+
+    def test_computed_parameter(self):
+        """A parameters cell that computes a value is refused at its cell and line."""
+        with pytest.raises(InputsError) as info:
+            load_template(DATA / "computed_parameter.ipynb")
+        assert str(info.value) == (
+            f"{DATA / 'computed_parameter.ipynb'}, cell 1, parameters cell, line 1: the value of "
+            '"mass" is not a literal: 2 * 125. Give text, a number or True/False; compute derived '
+            "values in later cells."
+        )
+
+    def test_no_such_template(self):
+        """A name that is neither a file nor a bundled template says which templates exist."""
+        with pytest.raises(BuildError) as info:
+            load_template("single_mass_harmonix")
+        assert str(info.value) == (
+            "single_mass_harmonix: no such template: it is neither a notebook file nor a bundled "
+            "template. Give the path of a .ipynb file or a bundled template's name "
+            f"({', '.join(bundled_templates())})."
+        )
+        assert "single_mass_harmonic" in str(info.value)
+
+
+class TestBuildSheet:
+    def test_files_written(self, built):
+        """The executed notebook, the sheet and its record are written, and nothing else."""
+        root, base, _ = built
+        names = sorted(p.name for p in (root / "base").iterdir())
+        assert names == [f"{TEMPLATE}.html", f"{TEMPLATE}.ipynb", f"{TEMPLATE}.json"]
+        assert not list(root.glob(".calckit-build-*"))
+
+    def test_fingerprints_agree(self, built):
+        """The HTML sheet and the JSON record carry the fingerprint the build reports."""
+        _, base, _ = built
+        assert existing_fingerprint(base.html) == base.fingerprint
+        assert json.loads(base.json.read_text())["fingerprint"] == base.fingerprint
+
+    def test_executed_notebook(self, built):
+        """The inputs cell sits right after the parameters cell; the build's save cell is not kept."""
+        _, base, _ = built
+        notebook = nbformat.read(base.notebook, as_version=4)
+        template = load_template(TEMPLATE)
+        injected = notebook.cells[template.parameters_cell + 1]
+        assert injected.metadata["tags"] == [INPUTS_TAG]
+        assert "stiffness = '720 kN/m'" in injected.source
+        assert not any(SAVE_TAG in c.metadata.get("tags", []) for c in notebook.cells)
+        assert len(notebook.cells) == len(template.notebook.cells) + 1
+        assert all(c.get("execution_count") for c in notebook.cells if c.cell_type == "code")
+
+    def test_title_block_from_inputs(self, built):
+        """The [sheet] table of the inputs file fills the title block."""
+        _, base, _ = built
+        title = base.record["title_block"]
+        assert (title["project"], title["number"], title["revision"]) == (
+            "Harrow Creek water-treatment works",
+            "HCW-VIB-001",
+            "A",
+        )
+
+    @pytest.mark.parametrize("which", [1, 2])
+    def test_amplitude_against_closed_form(self, built, which):
+        """Amplitude, ratio and phase equal the SDOF closed form computed here from the record's inputs.
+
+        Reference: X = F0 / sqrt((k - m w^2)^2 + (c w)^2), tan(phi) = c w / (k - m w^2),
+        c = 2 zeta sqrt(k m): S. S. Rao, Mechanical Vibrations, 5th ed., sec. 3.4, from memory.
+        """
+        record = built[which].record
+        given = _inputs_si(record)
+        m, k, zeta = given["mass"], given["stiffness"], given["damping_ratio"]
+        f0, w = given["force_amplitude"], given["forcing_frequency"]
+        c = 2 * zeta * math.sqrt(k * m)
+        amplitude = f0 / math.hypot(k - m * w**2, c * w)
+        got = _results(record)
+        assert got["amplitude"] == pytest.approx(amplitude, rel=1e-12)
+        assert got["natural_frequency"] == pytest.approx(math.sqrt(k / m), rel=1e-12)
+        assert got["frequency_ratio"] == pytest.approx(w / math.sqrt(k / m), rel=1e-12)
+        assert got["phase_lag"] == pytest.approx(math.atan2(c * w, k - m * w**2), rel=1e-12)
+        check = {c["name"]: c for c in record["checks"]}["amplitude"]
+        assert check["verdict"] == ("met" if amplitude <= given["amplitude_limit"] else "not met")
+
+    def test_same_inputs_rebuild(self, built, tmp_path):
+        """Rebuilding the same inputs over the same sheet is allowed and gives the same fingerprint;
+        other inputs are refused without overwrite, and replace it with overwrite."""
+        root, base, moved = built
+        again = build_sheet(TEMPLATE, EXAMPLE, root / "base")
+        assert again.fingerprint == base.fingerprint
+        slow_inputs = root / "p101_600rpm.toml"
+        with pytest.raises(OverwriteError) as info:
+            build_sheet(TEMPLATE, slow_inputs, root / "base")
+        assert str(info.value) == (
+            f"{root / 'base' / TEMPLATE}.json: the output folder already holds a sheet with "
+            f"fingerprint {base.fingerprint[:12]}, built from other inputs. Build into another folder, "
+            "or pass overwrite=True (--overwrite) to replace it."
+        )
+        assert existing_fingerprint(base.json) == base.fingerprint
+
+    def test_failed_cell(self, tmp_path):
+        """An error that is not calckit's names the cell, line and source, and is not a user error."""
+        inputs = tmp_path / "zero.toml"
+        inputs.write_text("divisor = 0\n")
+        with pytest.raises(CellError) as info:
+            build_sheet(DATA / "divides.ipynb", inputs, tmp_path / "out")
+        assert str(info.value) == (
+            "divides.ipynb, cell 3, line 2 'ratio = ratio / divisor': ZeroDivisionError: division by zero"
+        )
+        assert (info.value.cell, info.value.line, info.value.user_error) == (3, 2, False)
+        assert not (tmp_path / "out").exists()
+        assert not list(tmp_path.glob(".calckit-build-*"))
+
+    def test_no_sheet(self, tmp_path):
+        """A template that makes no sheet fails at the save step with calckit's message."""
+        inputs = tmp_path / "in.toml"
+        inputs.write_text('subject = "x"\n')
+        with pytest.raises(CellError) as info:
+            build_sheet(DATA / "no_sheet.ipynb", inputs, tmp_path / "out")
+        assert str(info.value) == (
+            f"{DATA / 'no_sheet.ipynb'}: saving the sheet failed: BuildError: template: the template "
+            "left nothing in the name sheet, not a calculation sheet. Build a calckit.Sheet named sheet "
+            "in the template."
+        )
+        assert info.value.user_error
+        assert not (tmp_path / "out").exists()
+
+
+class TestDiff:
+    def test_one_input_moved(self, built):
+        """Changing the speed shows exactly that input, the results it moved and the flipped check."""
+        _, base, moved = built
+        report = diff_sheets(base.out, moved.html)
+        assert not report.same_fingerprint
+        assert report.title == (Change("revision", "A", "B"),)
+        assert report.inputs == (Change("forcing_frequency", "1480 rpm", "600 rpm"),)
+        old, new = _results(base.record), _results(moved.record)
+        expected = [name for name in old if not math.isclose(old[name], new[name], rel_tol=1e-9)]
+        assert [m.name for m in report.results] == expected
+        assert set(expected) == {"frequency_ratio", "magnification", "amplitude", "phase_lag"}
+        for move in report.results:
+            assert move.percent == pytest.approx(
+                (new[move.name] - old[move.name]) / abs(old[move.name]) * 100
+            )
+        assert [c.verdicts() for c in report.flipped] == ["amplitude: met -> NOT MET"]
+        assert [c.name for c in report.margins_moved] == ["speed separation"]
+
+    def test_same_sheet(self, built):
+        """A sheet compared with itself: same inputs, same calculation, nothing listed."""
+        _, base, _ = built
+        report = diff_sheets(base.json, base.out)
+        assert report.same_fingerprint
+        assert report.text() == "Same inputs, same calculation (the fingerprints are equal)."
+
+    def test_html_report(self, built):
+        """The HTML report is one self-contained page that highlights the flipped check."""
+        _, base, moved = built
+        page = diff_sheets(base.json, moved.json).html()
+        assert page.startswith("<!DOCTYPE html>")
+        assert "<script" not in page and "http" not in page.replace("http-equiv", "")
+        assert 'verdict-not-met">NOT MET' in page
+
+    def test_zero_old_value(self):
+        """A result that was zero moves without a percentage; an added input is listed as added."""
+        old = {"fingerprint": "a", "inputs": [], "results": [{"name": "x", "value": 0.0, "unit": "m"}]}
+        new = {
+            "fingerprint": "b",
+            "inputs": [{"name": "k", "text": "1 N/m"}],
+            "results": [{"name": "x", "value": 1.0, "unit": "m"}],
+        }
+        report = diff_records(old, new)
+        assert report.results[0].percent is None
+        assert report.text() == "Inputs changed (1):\n  k: added, 1 N/m\nResults moved (1):\n  x: 0 m -> 1 m"
+
+    def test_noise_is_not_a_move(self):
+        """Results equal to one part in 10^9 do not count as moved."""
+        old = {"fingerprint": "a", "results": [{"name": "x", "value": 1.0, "unit": ""}]}
+        new = {"fingerprint": "b", "results": [{"name": "x", "value": 1.0 + 1e-12, "unit": ""}]}
+        assert diff_records(old, new).results == ()
+
+    def test_folder_with_two_sheets(self, tmp_path):
+        """A folder holding two records asks which one."""
+        for name in ("a", "b"):
+            (tmp_path / f"{name}.json").write_text(json.dumps({"fingerprint": name}))
+        with pytest.raises(InputsError) as info:
+            read_record(tmp_path)
+        assert str(info.value) == (
+            f"{tmp_path}: the folder holds 2 sheets (a.json, b.json). Name the sheet's .json or .html file."
+        )
+
+    def test_html_without_record(self, tmp_path):
+        """An HTML sheet without its JSON record beside it is refused."""
+        page = tmp_path / "sheet.html"
+        page.write_text("<html></html>")
+        with pytest.raises(InputsError) as info:
+            read_record(page)
+        assert str(info.value) == (
+            f"{page}: the sheet's record sheet.json is not beside it. Keep the .json record that "
+            "calckit build writes next to the sheet."
+        )
+
+
+def _write_cases(folder: Path, marker: Path) -> Path:
+    cases = folder / "cases.csv"
+    with cases.open("w", newline="", encoding="utf-8") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["case", "stiffness", "damping_ratio", "mass", "subject"])
+        # a title that would create a file if it were run as code rather than assigned as text
+        title = f"x'); open({str(marker)!r}, 'w').close(); ('"
+        writer.writerow(["stiff-isolators", "2400 kN/m", "0.08", "", title])
+        writer.writerow(["negative-mass", "", "", "-1850 kg", ""])
+    return cases
+
+
+class CountingExecutor(cf.Executor):
+    """A process pool that counts what is submitted through it."""
+
+    def __init__(self):
+        self.pool = cf.ProcessPoolExecutor(max_workers=2, mp_context=multiprocessing.get_context("spawn"))
+        self.submitted = 0
+
+    def submit(self, fn, /, *args, **kwargs):
+        self.submitted += 1
+        return self.pool.submit(fn, *args, **kwargs)
+
+    def shutdown(self, wait=True, *, cancel_futures=False):
+        self.pool.shutdown(wait=wait, cancel_futures=cancel_futures)
+
+
+@pytest.fixture(scope="module")
+def batch(tmp_path_factory):
+    root = tmp_path_factory.mktemp("batch")
+    marker = root / "MARKER-created-by-injected-code"
+    cases = _write_cases(root, marker)
+    seen = []
+    executor = CountingExecutor()
+    try:
+        result = run_batch(
+            TEMPLATE,
+            cases,
+            root / "out",
+            inputs=EXAMPLE,
+            executor=executor,
+            progress=lambda done, total, case: seen.append((done, total, case.name)),
+        )
+    finally:
+        executor.shutdown()
+    return root, result, seen, executor, marker
+
+
+class TestBatch:
+    def test_cases_in_order(self, batch):
+        """Each case has a result, in the table's order; the bad one failed with its message."""
+        root, result, _, _, _ = batch
+        assert [(c.name, c.ok) for c in result.cases] == [
+            ("stiff-isolators", True),
+            ("negative-mass", False),
+        ]
+        assert result.cases[1].message.startswith(
+            f"{root / 'cases.csv'}, line 3 (case negative-mass), mass: must be greater than zero, got -1850 kg."
+        )
+
+    def test_through_the_executor(self, batch):
+        """Every case goes through the executor given, and progress is reported once a case."""
+        _, _, seen, executor, _ = batch
+        assert executor.submitted == 2
+        assert sorted(done for done, _, _ in seen) == [1, 2]
+        assert {total for _, total, _ in seen} == {2}
+
+    def test_folders(self, batch):
+        """Built cases have their sheet in their own folder; the failed case leaves none."""
+        root, _, _, _, _ = batch
+        assert (root / "out" / "stiff-isolators" / f"{TEMPLATE}.json").is_file()
+        assert not (root / "out" / "negative-mass").exists()
+
+    def test_overrides_apply(self, batch):
+        """A case's values replace the base inputs; the others keep the base values."""
+        _, result, _, _, _ = batch
+        stiff = {i["name"]: i["text"] for i in result.cases[0].record["inputs"]}
+        assert (stiff["stiffness"], stiff["damping_ratio"], stiff["mass"]) == ("2400 kN/m", "0.08", "1850 kg")
+
+    def test_injected_text_never_runs(self, batch):
+        """A title that is Python code is assigned as text: the case builds and no file appears."""
+        _, result, _, _, marker = batch
+        assert result.cases[0].record["title_block"]["subject"].startswith("x'); open(")
+        assert not marker.exists()
+
+    def test_summary(self, batch):
+        """summary.csv has one row a case with status, verdicts and results; the HTML flags failures."""
+        root, result, _, _, _ = batch
+        with result.summary_csv.open(newline="", encoding="utf-8") as handle:
+            rows = list(csv.DictReader(handle))
+        assert [(r["case"], r["status"]) for r in rows] == [
+            ("stiff-isolators", "built"),
+            ("negative-mass", "failed"),
+        ]
+        record = result.cases[0].record
+        amplitude = _results(record)["amplitude"]
+        assert float(rows[0]["amplitude [m]"]) == amplitude
+        verdict = {c["name"]: c["verdict"] for c in record["checks"]}["amplitude"]
+        assert rows[0]["amplitude: verdict"] == verdict
+        assert rows[1]["message"] == result.cases[1].message
+        page = result.summary_html.read_text(encoding="utf-8")
+        assert "<strong>failed</strong>" in page and "<script" not in page
+
+
+class TestReadCases:
+    @pytest.fixture(scope="class")
+    def template(self):
+        return load_template(TEMPLATE)
+
+    def test_csv_types(self, template, tmp_path):
+        """CSV cells take the type of the template's default; empty cells keep the base input."""
+        path = tmp_path / "c.csv"
+        path.write_text("case,damping_ratio,mass,revision\nlow,0.02,,C\n")
+        (case,) = read_cases(path, template)
+        assert case.values == {"damping_ratio": 0.02, "revision": "C"}
+        assert case.wheres["damping_ratio"] == f"{path}, line 2 (case low), damping_ratio"
+
+    def test_unknown_column(self, template, tmp_path):
+        """An unknown column is refused before anything runs, with the closest name."""
+        path = tmp_path / "c.csv"
+        path.write_text("case,stifness\na,1 N/m\n")
+        with pytest.raises(InputsError) as info:
+            read_cases(path, template)
+        assert str(info.value).startswith(
+            f'{path}, line 1: unknown input "stifness". Did you mean "stiffness"?'
+        )
+
+    def test_toml_lines(self, template, tmp_path):
+        """TOML cases give the line of each value."""
+        path = tmp_path / "c.toml"
+        path.write_text('[[case]]\nname = "a"\nmass = "2 kg"\n\n[[case]]\nname = "b"\nstiffness = "3 N/m"\n')
+        a, b = read_cases(path, template)
+        assert (a.wheres["mass"], b.wheres["stiffness"]) == (
+            f"{path}, line 3 (case a), mass",
+            f"{path}, line 7 (case b), stiffness",
+        )
+
+    @pytest.mark.parametrize(
+        ("text", "message"),
+        [
+            ("case,mass\n../up,1 kg\n", "line 2: the case name '../up' cannot name a folder."),
+            (
+                "case,mass\na,1 kg\na,2 kg\n",
+                'line 3: the case "a" is given twice. Give each case its own name.',
+            ),
+            ("case,damping_ratio\na,low\n", "line 2 (case a), damping_ratio: expected a number, got 'low'."),
+            ("mass\n1 kg\n", 'line 1: the first row must be a header starting with "case".'),
+        ],
+    )
+    def test_refused(self, template, tmp_path, text, message):
+        """Bad case names, repeated names, non-numbers and a missing header are refused."""
+        path = tmp_path / "c.csv"
+        path.write_text(text)
+        with pytest.raises(InputsError) as info:
+            read_cases(path, template)
+        assert str(info.value).startswith(f"{path}, {message}")
+
+
+class TestNewCalculation:
+    def test_copies_and_refuses(self, tmp_path):
+        """The template and an inputs file of its values are written; a second time nothing is replaced."""
+        notebook, inputs = new_calculation(TEMPLATE, tmp_path / "p102")
+        assert notebook == tmp_path / "p102.ipynb" and inputs == tmp_path / "p102.toml"
+        assert notebook.read_bytes() == bundled_templates()[TEMPLATE].read_bytes()
+        template = load_template(notebook)
+        file = read_inputs(inputs)
+        check_keys(file, template.parameters, path=inputs)
+        for name, value in template.parameters.items():
+            given = file.sheet.present().get(name) if name in TITLE_FIELDS else file.values[name]
+            assert given == value or (given is None and value == "")
+        with pytest.raises(OverwriteError) as info:
+            new_calculation(TEMPLATE, tmp_path / "p102.ipynb")
+        assert (
+            str(info.value)
+            == f"{notebook}: the file exists already. Choose another name; nothing was written."
+        )
+
+
+def test_errors_are_calc_errors():
+    """The workflow's own error is a CalcError (and a BuildError) and survives pickling."""
+    import pickle
+
+    error = CellError("boom", where="t.ipynb, cell 2", ename="ValueError", cell=2, line=1, user_error=False)
+    copy = pickle.loads(pickle.dumps(error))
+    assert isinstance(copy, CalcError) and isinstance(copy, BuildError)
+    assert (str(copy), copy.cell, copy.line, copy.user_error) == (str(error), 2, 1, False)
