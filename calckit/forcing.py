@@ -206,6 +206,17 @@ _NUMERIC = (
 
 def _linear_in_t(arg: sp.Expr, t: sp.Symbol, whole: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
     """Return (rate, offset) with arg == rate*t + offset, or refuse."""
+    rate, offset = sp.S.Zero, sp.S.Zero
+    for term in sp.Add.make_args(arg):  # fast path: a sum of c*t and t-free terms
+        coef, dep = term.as_independent(t, as_Add=False)
+        if dep == 1:
+            offset += term
+        elif dep == t:
+            rate += coef
+        else:
+            break
+    else:
+        return rate, offset
     try:
         poly = sp.Poly(sp.expand(arg), t)
     except sp.PolynomialError:

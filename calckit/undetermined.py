@@ -40,7 +40,7 @@ import sympy as sp
 from .displayable import Displayable
 from .errors import ForcingError, ModelError
 from .exact import exact
-from .forcing import COS, SIN, ExponentGroup, ForcingSplit, quasi_polynomial, split_forcing
+from .forcing import COS, SIN, ExponentGroup, ForcingSplit, _add_into, quasi_polynomial, split_forcing
 from .steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
@@ -283,6 +283,53 @@ def vanishes(expr: sp.Expr, t: sp.Symbol) -> bool:
     return all(_is_zero(coef) for coef in parts.values())
 
 
+#: the generic exponent alpha + i beta of a basis function, for :func:`_satisfies`
+_ALPHA, _BETA = sp.Dummy("alpha", real=True), sp.Dummy("beta", positive=True)
+#: from this many solution terms of one shape (kind, n) on, L is applied to the generic term
+_GENERIC_FROM = 4
+
+
+def _satisfies(ode: LinearODE, x: sp.Expr, f: sp.Expr, t: sp.Symbol) -> bool:
+    """True when ``L[x] - f`` vanishes identically (*x*, *f* quasi-polynomials in *t*).
+
+    The same decision as ``vanishes(ode.apply(x, t) - f, t)``, made by linearity:
+    *x* is split into terms ``c_k b_k`` with ``b_k = t^n e^{at} cos|sin(bt)`` and
+    ``L[x] = sum_k c_k L[b_k]``, each ``L[b_k]`` by ``sympy.diff`` on the small
+    ``b_k`` alone. When many terms share a shape (kind, n), as a long harmonic
+    series does, ``L`` is applied once to the generic
+    ``t^n e^{alpha t} cos|sin(beta t)`` and each term takes its own ``alpha = a``,
+    ``beta = b``. The whole solution tree is never differentiated.
+    """
+    try:
+        x_parts = quasi_polynomial(x, t)
+        f_parts = quasi_polynomial(f, t)
+    except ForcingError:
+        return False
+    shapes: dict = defaultdict(int)
+    for _a, _b, kind, n in x_parts:
+        shapes[(kind, n)] += 1
+
+    def image(a, b, kind, n):
+        trig = sp.S.One if b == 0 else (sp.cos if kind == COS else sp.sin)(b * t)
+        return quasi_polynomial(ode.apply(t**n * sp.exp(a * t) * trig, t), t)
+
+    generic: dict = {}
+    acc: dict = {}
+    for (a, b, kind, n), coef in x_parts.items():
+        if shapes[(kind, n)] < _GENERIC_FROM:
+            for key, c in image(a, b, kind, n).items():
+                _add_into(acc, key, coef * c)
+            continue
+        if (kind, n) not in generic:
+            generic[(kind, n)] = image(_ALPHA, _BETA, kind, n)
+        values = {_ALPHA: a, _BETA: b}
+        for (a2, b2, kind2, n2), c in generic[(kind, n)].items():
+            _add_into(acc, (a2.xreplace(values), b2.xreplace(values), kind2, n2), coef * c.xreplace(values))
+    for key, coef in f_parts.items():
+        _add_into(acc, key, -coef)
+    return all(_is_zero(c) for c in acc.values())
+
+
 def _pick_simplest(*candidates: sp.Expr) -> sp.Expr:
     return min(candidates, key=sp.count_ops)
 
@@ -359,8 +406,8 @@ class _Form:
     def expr(self, t: sp.Symbol) -> sp.Expr:
         parts = []
         for (kind, j), lin in sorted(self.terms.items(), key=lambda kv: (kv[0][1], kv[0][0])):
-            coef = sp.Add(*(sp.expand(c) * u for u, c in lin.items()))
-            coef = sp.collect(coef, list(lin))
+            # one term per unknown: collected by construction
+            coef = sp.Add(*((c if c.is_number else sp.expand(c)) * u for u, c in lin.items()))
             if coef == 0:
                 continue
             trig = 1 if self.b == 0 else (sp.cos if kind == COS else sp.sin)(self.b * t)
@@ -435,9 +482,8 @@ def _derive(ode: LinearODE, f, t) -> Derivation:
             t,
         )
     )
-    residual_expr = ode.apply(solution, t) - split.forcing
-    verified = vanishes(residual_expr, t)
-    residual = sp.S.Zero if verified else sp.simplify(residual_expr)
+    verified = _satisfies(ode, solution, split.forcing, t)
+    residual = sp.S.Zero if verified else sp.simplify(ode.apply(solution, t) - split.forcing)
     steps.append(
         VerificationStep(
             "Check by substitution",
