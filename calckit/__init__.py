@@ -5,6 +5,7 @@ The public API is listed in ``__all__``; see ``shared/DESIGN.md`` for the contra
 
 from . import excitation, fourier, harmonic, units
 from ._version import __version__
+from .diffing import diff_sheets
 from .errors import (
     BuildError,
     CalcError,
@@ -21,6 +22,7 @@ from .excitation import (
     transmitted_force_amplitude,
     unbalance_force_amplitude,
 )
+from .explore import Explorer, explore
 from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
 from .fourier import FourierSeries, fourier_series, fourier_series_from_samples
 from .harmonic import (
@@ -41,6 +43,7 @@ from .response import Response
 from .sheet import DEFAULT_CAUTION, Check, Sheet
 from .undetermined import Derivation, LinearODE
 from .units import Q_, angular_frequency, cyclic_frequency, fmt, quantity, to_si, ureg
+from .workflow import build_sheet, run_batch
 
 __all__ = [
     "__version__",
@@ -63,6 +66,11 @@ __all__ = [
     "put_through",
     "Substitution",
     "Sheet",
+    "build_sheet",
+    "run_batch",
+    "diff_sheets",
+    "explore",
+    "Explorer",
     "Check",
     "DEFAULT_CAUTION",
     "ModelError",
