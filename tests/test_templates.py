@@ -1,0 +1,337 @@
+"""The calculation templates, built from their Harrow Creek example inputs, against outside references.
+
+Every template is built once through :func:`calckit.workflow.build_sheet` (a fresh kernel
+each, about ten seconds), and once more with one input changed so that one acceptance
+check flips from met to not met. The builds are shared by the tests of a module-scoped
+fixture. Each reference is named beside its use.
+
+The notebooks themselves also run under nbval, in lax mode because figures (SVG) and
+timings change from run to run::
+
+    python -m pytest --nbval-lax templates/
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from pathlib import Path
+
+import numpy as np
+import pytest
+import sympy as sp
+
+from calckit.errors import CalcError
+from calckit.units import angular_frequency, quantity, to_si
+from calckit.workflow import CellError, build_sheet, bundled_templates, demos
+
+pytestmark = pytest.mark.slow
+
+ROOT = Path(__file__).parent.parent
+EXAMPLES = ROOT / "examples"
+G_N = 9.80665  # standard gravity, m/s^2
+
+#: template -> (example inputs, input changed, new value, check that flips)
+CASES = {
+    "machine_on_isolators": (
+        "harrow_creek_p101_isolators.toml",
+        "isolator_stiffness",
+        '"20 MN/m"',
+        "isolation efficiency",
+    ),
+    "equipment_on_vibrating_floor": (
+        "harrow_creek_ic301_floor.toml",
+        "mount_stiffness",
+        '"3.2 MN/m"',
+        "equipment velocity",
+    ),
+    "arbitrary_forcing": ("harrow_creek_ps512_surge.toml", "F0", '"3 kN"', "displacement"),
+    "periodic_load": ("harrow_creek_sp601_stroke.toml", "frame_stiffness", '"505 kN/m"', "separation"),
+}
+
+
+def _changed(text: str, name: str, value: str) -> str:
+    lines = [line for line in text.splitlines() if line.split("=")[0].strip() == name]
+    assert len(lines) == 1, name
+    old = lines[0]
+    return text.replace(old, f"{name} = {value}")
+
+
+@pytest.fixture(scope="module")
+def built(tmp_path_factory):
+    """Each template built from its example, and again with one input changed: {template: (base, moved)}."""
+    root = tmp_path_factory.mktemp("templates")
+    out = {}
+    for template, (example, name, value, _) in CASES.items():
+        source = EXAMPLES / example
+        moved_inputs = root / f"{template}_moved.toml"
+        moved_inputs.write_text(_changed(source.read_text(encoding="utf-8"), name, value), encoding="utf-8")
+        base = build_sheet(template, source, root / template)
+        moved = build_sheet(template, moved_inputs, root / f"{template}_moved")
+        out[template] = (base.record, moved.record)
+    return out
+
+
+def _inputs(example: str) -> dict:
+    """The example's inputs, flattened out of their tables."""
+    data = tomllib.loads((EXAMPLES / example).read_text(encoding="utf-8"))
+    flat = {}
+    for key, value in data.items():
+        if key == "sheet":
+            continue
+        if isinstance(value, dict):
+            flat.update(value)
+        else:
+            flat[key] = value
+    return flat
+
+
+def _si(values: dict, name: str) -> float:
+    return float(to_si(quantity(values[name], name), name).magnitude)
+
+
+def _results(record: dict) -> dict:
+    """Results by name: the SI value, or the text of a formula."""
+    return {
+        item["name"]: item["text"] if item["value"] is None else item["value"] for item in record["results"]
+    }
+
+
+def _check(record: dict, prefix: str) -> dict:
+    found = [c for c in record["checks"] if c["name"].startswith(prefix)]
+    assert len(found) == 1, [c["name"] for c in record["checks"]]
+    return found[0]
+
+
+def _book_transmissibility(r: float, zeta: float) -> float:
+    """Rao, Mechanical Vibrations, 5th ed., eq. (3.68) / sec. 9.10, from memory."""
+    return math.sqrt((1 + (2 * zeta * r) ** 2) / ((1 - r**2) ** 2 + (2 * zeta * r) ** 2))
+
+
+class TestBundled:
+    def test_templates_listed(self):
+        """The four templates are bundled by name."""
+        assert set(CASES) <= set(bundled_templates())
+
+    def test_demos_build_them(self):
+        """examples/demos.toml lists each template with its example inputs."""
+        pairs = {(d.template, d.inputs.name) for d in demos()}
+        for template, (example, *_rest) in CASES.items():
+            assert (template, example) in pairs
+
+    @pytest.mark.parametrize("template", sorted(CASES))
+    def test_built_and_verified(self, built, template):
+        """The example builds, carries the caution, and every derivation is verified by substitution."""
+        record, _ = built[template]
+        assert record["caution"]
+        assert record["derivations"] and all(d["verified"] for d in record["derivations"])
+        assert record["references"] and record["assumptions"]
+
+    @pytest.mark.parametrize("template", sorted(CASES))
+    def test_check_flips(self, built, template):
+        """One input changed turns one acceptance check from met to not met, so the checks can fail."""
+        base, moved = built[template]
+        name = CASES[template][3]
+        assert _check(base, name)["verdict"] == "met"
+        assert _check(moved, name)["verdict"] == "not met"
+
+
+class TestMachineOnIsolators:
+    example = "harrow_creek_p101_isolators.toml"
+
+    def test_natural_frequency_and_deflection(self, built):
+        """omega_n = sqrt(k/m) and delta_st = m g / k, computed here from the inputs."""
+        v, res = _inputs(self.example), _results(built["machine_on_isolators"][0])
+        m, k = _si(v, "machine_mass"), _si(v, "isolator_stiffness")
+        assert res["omega_n"] == pytest.approx(math.sqrt(k / m), rel=1e-3)
+        assert res["delta_st"] == pytest.approx(m * G_N / k, rel=1e-3)
+
+    def test_unbalance_force_from_grade(self, built):
+        """F_0 = m_r e_per Omega^2 with e_per = G / Omega (ISO 21940-11, from memory)."""
+        v, res = _inputs(self.example), _results(built["machine_on_isolators"][0])
+        w = angular_frequency(quantity(v["running_speed"], "speed"), "speed")
+        F0 = _si(v, "rotor_mass") * _si(v, "balance_grade") / w * w**2
+        assert res["F_0"] == pytest.approx(F0, rel=1e-3)
+
+    def test_transmissibility_and_efficiency(self, built):
+        """T against the book form (Rao 5th ed., sec. 9.10, from memory); eta = 1 - T."""
+        v, res = _inputs(self.example), _results(built["machine_on_isolators"][0])
+        w = angular_frequency(quantity(v["running_speed"], "speed"), "speed")
+        r = w / math.sqrt(_si(v, "isolator_stiffness") / _si(v, "machine_mass"))
+        T = _book_transmissibility(r, v["damping_ratio"])
+        assert res["r"] == pytest.approx(r, rel=1e-3)
+        assert res["T"] == pytest.approx(T, rel=2e-3)
+        assert res["eta"] == pytest.approx(1 - T, rel=1e-3)  # recorded as a fraction (SI of percent)
+
+    def test_run_up_against_solve_ivp(self, built):
+        """The stepped run-up's largest motion against scipy.integrate.solve_ivp of the true linear ramp."""
+        from scipy.integrate import solve_ivp
+
+        v, res = _inputs(self.example), _results(built["machine_on_isolators"][0])
+        m, k, zeta = _si(v, "machine_mass"), _si(v, "isolator_stiffness"), v["damping_ratio"]
+        c = 2 * zeta * math.sqrt(k * m)
+        W = angular_frequency(quantity(v["running_speed"], "speed"), "speed")
+        t_ru = _si(v, "run_up_time")
+        U = _si(v, "rotor_mass") * _si(v, "balance_grade") / W
+        alpha = W / t_ru
+
+        def rhs(t, y):
+            f = U * (alpha * t) ** 2 * math.cos(alpha * t * t / 2)
+            return [y[1], (f - c * y[1] - k * y[0]) / m]
+
+        times = np.linspace(0, t_ru, 40001)
+        sol = solve_ivp(rhs, (0, t_ru), [0.0, 0.0], t_eval=times, rtol=1e-9, atol=1e-14, max_step=1e-3)
+        peak = np.max(np.abs(sol.y[0]))
+        assert res["peak_run_up"] == pytest.approx(peak, rel=0.02)
+
+
+class TestEquipmentOnVibratingFloor:
+    example = "harrow_creek_ic301_floor.toml"
+
+    def test_against_book_base_excitation(self, built):
+        """X/Y, V = omega X and A = omega^2 X against Rao 5th ed., sec. 3.6.1 (from memory)."""
+        v, res = _inputs(self.example), _results(built["equipment_on_vibrating_floor"][0])
+        m, k, zeta = _si(v, "equipment_mass"), _si(v, "mount_stiffness"), v["damping_ratio"]
+        w = angular_frequency(quantity(v["floor_frequency"], "f"), "f")
+        wn = math.sqrt(k / m)
+        Y = _si(v, "floor_velocity") / w
+        T = _book_transmissibility(w / wn, zeta)
+        assert res["omega_n"] == pytest.approx(wn, rel=1e-3)
+        assert res["T"] == pytest.approx(T, rel=2e-3)
+        assert res["V"] == pytest.approx(w * T * Y, rel=2e-3)
+        assert res["A"] == pytest.approx(w**2 * T * Y, rel=2e-3)
+        Z = (w / wn) ** 2 * Y / math.sqrt((1 - (w / wn) ** 2) ** 2 + (2 * zeta * w / wn) ** 2)
+        assert res["Z"] == pytest.approx(Z, rel=2e-3)  # Rao 5th ed., sec. 3.6.2, from memory
+
+
+class TestArbitraryForcing:
+    example = "harrow_creek_ps512_surge.toml"
+
+    def _reference(self):
+        from scipy.integrate import solve_ivp
+
+        v = _inputs(self.example)
+        m, k, zeta = _si(v, "mass"), _si(v, "stiffness"), v["damping_ratio"]
+        c = 2 * zeta * math.sqrt(k * m)
+        F0, F1, a = _si(v, "F0"), _si(v, "F1"), _si(v, "a")
+        w = angular_frequency(quantity(v["w"], "w"), "w")
+        assert v["forcing"] == "F0*exp(-a*t)*cos(w*t) + F1*(1 - exp(-a*t))"  # the forcing written out below
+
+        def rhs(t, y):
+            f = F0 * math.exp(-a * t) * math.cos(w * t) + F1 * (1 - math.exp(-a * t))
+            return [y[1], (f - c * y[1] - k * y[0]) / m]
+
+        t_end = _si(v, "duration")
+        times = np.linspace(0, t_end, 3001)
+        y0 = [_si(v, "initial_displacement"), _si(v, "initial_velocity")]
+        return times, solve_ivp(rhs, (0, t_end), y0, t_eval=times, rtol=1e-10, atol=1e-14).y[0]
+
+    def test_solution_against_solve_ivp(self, built):
+        """The derived x(t) on the sheet against scipy.integrate.solve_ivp of the same equation."""
+        record = built["arbitrary_forcing"][0]
+        (derivation,) = record["derivations"]
+        assert derivation["verified"]
+        t = sp.Symbol("t", real=True)
+        x = sp.lambdify(t, sp.sympify(derivation["solution"], locals={"t": t}), "numpy")
+        times, reference = self._reference()
+        assert np.max(np.abs(x(times) - reference)) <= 1e-6 * np.max(np.abs(reference))
+
+    def test_peak_and_residual(self, built):
+        """The largest displacement against solve_ivp; the numerical residual is round-off."""
+        res = _results(built["arbitrary_forcing"][0])
+        _, reference = self._reference()
+        assert res["peak_displacement"] == pytest.approx(np.max(np.abs(reference)), rel=1e-3)
+        assert res["residual"] < 1e-9
+
+    def test_forcing_that_is_not_a_force(self, tmp_path):
+        """A forcing with the wrong unit is refused with a calckit error naming the input and what to do."""
+        text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "forcing", '"F0*t"')
+        bad = tmp_path / "bad.toml"
+        bad.write_text(text, encoding="utf-8")
+        with pytest.raises(CellError) as caught:
+            build_sheet("arbitrary_forcing", bad, tmp_path / "out")
+        assert isinstance(caught.value, CalcError)
+        message = str(caught.value)
+        assert "forcing" in message and "does not give a force" in message and "cos(2*w*t)" in message
+
+
+class TestPeriodicLoad:
+    example = "harrow_creek_sp601_stroke.toml"
+
+    def _shape(self):
+        v = _inputs(self.example)
+        P, T = _si(v, "peak_force"), _si(v, "stroke_period")
+        t1, t2, t3 = _si(v, "rise_time"), _si(v, "dwell_time"), _si(v, "release_time")
+        return v, P, T, t1, t2, t3
+
+    def _coefficients(self, N):
+        """a_n, b_n of the trapezoid from the jumps of its slope: integrating the Euler formulas by parts
+        twice gives c_n = -(1/T) sum_j ds_j exp(-i n w t_j) / (n w)^2 for a continuous piecewise-linear
+        load (Kreyszig, Advanced Engineering Mathematics, 10th ed., sec. 11.1, from memory)."""
+        _, P, T, t1, t2, t3 = self._shape()
+        w = 2 * math.pi / T
+        jumps = [(0.0, P / t1), (t1, -P / t1), (t1 + t2, -P / t3), (t1 + t2 + t3, P / t3)]
+        out = []
+        for n in range(1, N + 1):
+            cn = -sum(ds * np.exp(-1j * n * w * tj) for tj, ds in jumps) / (T * (n * w) ** 2)
+            out.append((2 * cn.real, -2 * cn.imag))
+        return out
+
+    def test_fourier_coefficients_closed_form(self, built):
+        """The general-n coefficients on the sheet against the slope-jump closed form, n = 1..N."""
+        v, P, T, t1, t2, t3 = self._shape()
+        res = _results(built["periodic_load"][0])
+        n = sp.Symbol("n", integer=True, positive=True)
+        a_n = sp.lambdify(n, sp.sympify(res["a_n"], locals={"n": n}))
+        b_n = sp.lambdify(n, sp.sympify(res["b_n"], locals={"n": n}))
+        for number, (a, b) in enumerate(self._coefficients(v["harmonics"]), start=1):
+            assert a_n(number) == pytest.approx(a, abs=1e-9 * P)
+            assert b_n(number) == pytest.approx(b, abs=1e-9 * P)
+        assert res["a_0"] == pytest.approx(P * (t1 / 2 + t2 + t3 / 2) / T, rel=1e-12)
+
+    def test_captured_fraction_parseval(self, built):
+        """Parseval: a_0^2 + sum (a_n^2 + b_n^2)/2 over the exact mean square P^2 (t1/3 + t2 + t3/3)/T."""
+        v, P, T, t1, t2, t3 = self._shape()
+        res = _results(built["periodic_load"][0])
+        a0 = P * (t1 / 2 + t2 + t3 / 2) / T
+        ms = P**2 * (t1 / 3 + t2 + t3 / 3) / T
+        held = a0**2 + sum(a * a + b * b for a, b in self._coefficients(v["harmonics"])) / 2
+        assert res["captured_fraction"] == pytest.approx(held / ms, rel=1e-9)
+        assert res["alternating_captured_fraction"] == pytest.approx((held - a0**2) / (ms - a0**2), rel=1e-9)
+
+    def test_dominant_harmonic_and_peak(self, built):
+        """X_n = |F_n| / |k - m (n w)^2 + i c n w| for the dominant harmonic, and the steady peak
+        against scipy.integrate.solve_ivp run through 20 strokes of the exact load."""
+        from scipy.integrate import solve_ivp
+
+        v, P, T, t1, t2, t3 = self._shape()
+        res = _results(built["periodic_load"][0])
+        m, k, zeta = _si(v, "frame_mass"), _si(v, "frame_stiffness"), v["damping_ratio"]
+        c = 2 * zeta * math.sqrt(k * m)
+        w = 2 * math.pi / T
+        X = [
+            math.hypot(a, b) / abs(k - m * (n * w) ** 2 + 1j * c * n * w)
+            for n, (a, b) in enumerate(self._coefficients(v["harmonics"]), start=1)
+        ]
+        assert res["dominant_harmonic"] == 1 + int(np.argmax(X))
+        assert res["dominant_amplitude"] == pytest.approx(max(X), rel=1e-9)
+
+        def load(t):
+            s = t % T
+            if s < t1:
+                return P * s / t1
+            if s < t1 + t2:
+                return P
+            if s < t1 + t2 + t3:
+                return P * (t1 + t2 + t3 - s) / t3
+            return 0.0
+
+        def rhs(t, y):
+            return [y[1], (load(t) - c * y[1] - k * y[0]) / m]
+
+        strokes = 20
+        times = np.linspace((strokes - 2) * T, strokes * T, 8001)
+        sol = solve_ivp(
+            rhs, (0, strokes * T), [0.0, 0.0], t_eval=times, rtol=1e-9, atol=1e-12, max_step=T / 400
+        )
+        assert res["peak_displacement"] == pytest.approx(np.max(np.abs(sol.y[0])), rel=0.02)
