@@ -658,37 +658,79 @@ def _trial_sentence(group: ExponentGroup, s: int, d: int) -> str:
 
 
 def _back_substitute(system, cos_u, sin_u, d, s, group):
-    """Solve the block-triangular system from the top power down."""
+    """Solve the block-triangular system from the top power down.
+
+    Each block is 2x2 (cosine and sine unknowns of one power of t) or 1x1, solved
+    by Cramer's rule. With symbolic parameters the arithmetic runs in sympy's
+    sparse field of rational functions, and every result is written over a power
+    of the block determinant in its readable form, e.g.
+    ``A (k - m w^2) / ((k - m w^2)^2 + c^2 w^2)``.
+    """
+    entries = [c for lin, r in system.values() for c in (*lin.values(), r)]
+    gens = sorted(set().union(*(e.free_symbols for e in entries)), key=sp.default_sort_key)
+    field = None
+    if gens and all(_rational_in_symbols(e) for e in entries):
+        domain = sp.QQ_I if any(e.has(sp.I) for e in entries) else sp.QQ
+        field = sp.polys.fields.field(gens, domain)[0]
+    conv = field.from_expr if field is not None else (lambda e: e)
     values: dict = {}
     conditions: list[sp.Expr] = []
+    shown_det = None
     for j in range(d, -1, -1):
         eq_keys = [(COS, j)] + ([(SIN, j)] if group.harmonic else [])
         block = [cos_u[j]] + ([sin_u[j]] if group.harmonic else [])
         rows = []
         for key in eq_keys:
             lin, r = system.get(key, ({}, sp.S.Zero))
-            rhs = r - sp.Add(*(c * values[u] for u, c in lin.items() if u in values))
+            rhs = conv(r) - sum((conv(c) * values[u] for u, c in lin.items() if u in values), conv(sp.S.Zero))
             rows.append(([lin.get(u, sp.S.Zero) for u in block], rhs))
         if len(block) == 1:
             (alpha,), r1 = rows[0]
-            det = alpha
-            sol = [r1 / alpha]
+            det_expr = sp.factor(alpha)
+            det = conv(alpha)
+            sol = [r1 / det]
         else:
             (alpha, beta), r1 = rows[0]
             (gamma, delta), r2 = rows[1]
-            alpha, beta, gamma, delta = (sp.factor(v) for v in (alpha, beta, gamma, delta))
-            det = alpha * delta - beta * gamma
-            sol = [(r1 * delta - beta * r2) / det, (alpha * r2 - gamma * r1) / det]
-        if _is_zero(det):  # cannot happen when s is the true multiplicity
+            shown = [sp.factor(v) for v in (alpha, beta, gamma, delta)]
+            det_expr = shown[0] * shown[3] - shown[1] * shown[2]
+            a_, b_, g_, d_ = (conv(v) for v in (alpha, beta, gamma, delta))
+            det = a_ * d_ - b_ * g_
+            sol = [(r1 * d_ - b_ * r2) / det, (a_ * r2 - g_ * r1) / det]
+        if det == 0 or (field is None and _is_zero(det)):  # not when s is the true multiplicity
             raise ModelError(
                 "the coefficient equations are singular",
                 where=f"exponent {group.exponent}",
                 do="Please report this forcing and model to the calckit maintainers",
             )
-        if det.free_symbols and j == d:
-            condition = sp.Ne(_tidy(det), 0)
-            if condition is not sp.true:
-                conditions.append(condition)
+        if j == d:
+            # the determinant's numerator in readable form (a 1/tau**2 factor is not part of it)
+            shown_det = sp.fraction(sp.together(det_expr))[0]
+            if det_expr.free_symbols:
+                condition = sp.Ne(det_expr, 0)
+                if condition is not sp.true:
+                    conditions.append(condition)
         for u, v in zip(block, sol, strict=True):
-            values[u] = _tidy(v)
-    return values, conditions
+            values[u] = v
+    if field is None:
+        return {u: _tidy(v) for u, v in values.items()}, conditions
+    return {u: _over_power_of(v, shown_det, field) for u, v in values.items()}, conditions
+
+
+def _over_power_of(value, det_expr: sp.Expr, field) -> sp.Expr:
+    """Write a rational function as ``numerator / det**e`` when its denominator is a
+    constant times a power of the determinant; otherwise as cancelled."""
+    num, den = value.numer, value.denom
+    if num == 0:
+        return sp.S.Zero
+    det_poly = field.from_expr(det_expr).numer
+    power = 0
+    if det_poly.is_ground is False:
+        while not den.is_ground:
+            quotient, remainder = den.div(det_poly)
+            if remainder != 0:
+                return _tidy(value.as_expr())
+            den, power = quotient, power + 1
+    scale = den.as_expr()
+    numerator = sp.factor_terms(num.as_expr() / scale)
+    return numerator / det_expr**power if power else numerator
