@@ -48,6 +48,7 @@ __all__ = [
     "Check",
     "Figure",
     "TextBlock",
+    "TableBlock",
     "DEFAULT_CAUTION",
 ]
 
@@ -148,6 +149,15 @@ class Figure:
 
     caption: str
     svg: str
+
+
+@dataclass(frozen=True)
+class TableBlock:
+    """A table of values with a caption (e.g. a harmonic table)."""
+
+    caption: str
+    headers: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
 
 
 @dataclass(frozen=True)
@@ -463,6 +473,21 @@ class Sheet:
         svg = re.sub(r"\s*<metadata>.*?</metadata>", "", svg, flags=re.DOTALL)
         return self._add(Figure(caption, svg))
 
+    def table(self, headers, rows, caption: str = "") -> TableBlock:
+        """Add a table; cells are shown as text (quantities and numbers rounded to 4 figures)."""
+        headers = tuple(str(h) for h in headers)
+        shown_rows = []
+        for index, row in enumerate(rows, start=1):
+            cells = tuple(_shown(cell) for cell in row)
+            if len(cells) != len(headers):
+                raise SheetError(
+                    f"row {index} has {len(cells)} cells but there are {len(headers)} headings",
+                    where=f"table {caption or ''}".strip(),
+                    do="Give every row one cell per heading",
+                )
+            shown_rows.append(cells)
+        return self._add(TableBlock(caption, headers, tuple(shown_rows)))
+
     def assume(self, text: str) -> TextBlock:
         """Add an assumption."""
         return self._add(TextBlock("assumption", text))
@@ -539,6 +564,10 @@ class Sheet:
                     "verified": bool(block.derivation.verified),
                 }
                 for block in self.of_type(DerivationBlock)
+            ],
+            "tables": [
+                {"caption": b.caption, "headers": list(b.headers), "rows": [list(r) for r in b.rows]}
+                for b in self.of_type(TableBlock)
             ],
             "assumptions": [b.text for b in self.of_type(TextBlock) if b.kind == "assumption"],
             "references": [b.text for b in self.of_type(TextBlock) if b.kind == "reference"],

@@ -215,3 +215,23 @@ def test_sheet_in_browser(tmp_path):
     assert (ARTIFACTS / "sheet_small.png").stat().st_size > 10_000
     pdf = small_sheet().save(tmp_path / "sheet.pdf")
     assert pdf_page_count(pdf) >= 1
+
+
+def test_table_block():
+    """A table of values is kept in order, rounded for display, and in the record."""
+    sheet = small_sheet(figure=False)
+    sheet.table(["n", "amplitude"], [[1, ck.Q_(0.123456, "mm")], [3, ck.Q_(0.01, "mm")]], caption="Harmonics")
+    assert sheet.record()["tables"] == [
+        {
+            "caption": "Harmonics",
+            "headers": ["n", "amplitude"],
+            "rows": [["1", "0.1235 mm"], ["3", "0.01 mm"]],
+        }
+    ]
+    assert "Table 1. Harmonics" in sheet.to_html()
+    with pytest.raises(ck.SheetError) as info:
+        sheet.table(["a", "b"], [[1]], caption="Bad")
+    assert (
+        str(info.value)
+        == "table Bad: row 1 has 1 cells but there are 2 headings. Give every row one cell per heading."
+    )

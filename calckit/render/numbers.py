@@ -132,9 +132,21 @@ def _unit_text(units) -> str:
     return f"{units:~C}" if units != ureg.dimensionless else ""
 
 
-def _quantity_pieces(q: pint.Quantity) -> tuple[str, str]:
-    """(LaTeX, text) of an input as the user gave it: number and unit."""
+#: a value with more significant digits than this was computed, not typed
+_TYPED_DIGITS = 6
+
+
+def _quantity_pieces(q: pint.Quantity, sig: int = 4) -> tuple[str, str]:
+    """(LaTeX, text) of a value put into a formula: as typed, or at ``sig`` figures.
+
+    A value typed by the user (``1480 rpm``, ``0.05``) is shown as given; an earlier
+    result carried forward (``40.6490327626598 um``) is shown rounded to ``sig``
+    significant figures. The exact value is used for the result either way.
+    """
     number = fmt_number(q.magnitude, 15)
+    mantissa = number.split("e")[0].replace("-", "").replace(".", "").strip("0")
+    if len(mantissa) > _TYPED_DIGITS:
+        number = fmt_number(q.magnitude, sig)
     unit = _unit_text(q.units)
     if not unit:
         return number_latex(number), number
@@ -357,7 +369,7 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
         exact_si[s] = to_si(q, f"{where}: value of {s.name}").magnitude
         in_base = q.to_base_units()
         base[s] = Q_(np.float64(in_base.magnitude), in_base.units)
-        latex, text = _quantity_pieces(q)
+        latex, text = _quantity_pieces(q, sig)
         negative = q.magnitude < 0
         shown[s.name] = (latex, negative)
         shown_text[s.name] = (text, negative or bool(_unit_text(q.units)))
@@ -374,7 +386,7 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
     placeholders = {s: _Value(s.name) for s in symbols}
     shape = formula.xreplace(placeholders)
     if isinstance(formula, sp.Symbol):  # a value shown alone needs no brackets
-        substituted_latex, substituted_text = shown[formula.name][0], _quantity_pieces(inputs[0][1])[1]
+        substituted_latex, substituted_text = shown[formula.name][0], _quantity_pieces(inputs[0][1], sig)[1]
     else:
         substituted_latex = _ValueLatex(shown).doprint(shape)
         substituted_text = _ValueText(shown_text).doprint(shape)

@@ -22,6 +22,7 @@ from ..sheet import (
     ResultLine,
     Sheet,
     SheetInput,
+    TableBlock,
     TextBlock,
     _shown,
 )
@@ -101,19 +102,16 @@ def block_html(block: Any, number: str = "") -> Html:
         return _step_html(number, block.title or block.name, _latex_of(block.record), block.reference)
     if isinstance(block, ResultLine):
         value = block.value
-        shown = _shown(value)
-        latex = (
-            f"{block.symbol} = \\text{{{shown}}}"
-            if hasattr(value, "units") or isinstance(value, (int, float))
-            else f"{block.symbol} = {sp.latex(value)}"
-        )
+        latex = f"{block.symbol} = {_value_latex(value)}"
         return _step_html(number, block.title or block.name, latex, block.reference)
     if isinstance(block, DerivationBlock):
         from .display import derivation_html
 
         inner = derivation_html(block.derivation, level=block.level)
         # the derivation's steps are sub-steps of this sheet step: 3.2.1, 3.2.2, ...
-        inner = re.sub(r'<span class="number">(\d+)</span>', rf'<span class="number">{number}.\1</span>', inner)
+        inner = re.sub(
+            r'<span class="number">(\d+)</span>', rf'<span class="number">{number}.\1</span>', inner
+        )
         inner = inner.replace("<h3>", "<h4>").replace("</h3>", "</h4>")
         verdict = "verified by substitution" if block.derivation.verified else "NOT verified"
         return Html(
@@ -125,6 +123,9 @@ def block_html(block: Any, number: str = "") -> Html:
             f'<figure class="figure">{block.svg}<figcaption>Figure {escape(number)}. '
             f"{escape(block.caption)}</figcaption></figure>"
         )
+    if isinstance(block, TableBlock):
+        caption = f'<p class="table-caption">Table {escape(number)}. {escape(block.caption)}</p>'
+        return Html(f'<div class="table-block">{caption}{table(block.headers, block.rows)}</div>')
     if isinstance(block, Check):
         return table(
             ["Check", "Criterion", "Value", "Limit", "Margin", "Verdict", "Basis"],
@@ -136,6 +137,16 @@ def block_html(block: Any, number: str = "") -> Html:
             f'<p class="{escape(block.kind)}"><em>{escape(block.kind.capitalize())}:</em> {escape(block.text)}</p>'
         )
     raise TypeError(f"no HTML for {type(block).__name__}")
+
+
+def _value_latex(value: Any) -> str:
+    """LaTeX of a result: rounded number and upright unit (``5.191\\;\\mathrm{mm}``)."""
+    from .numbers import number_latex, unit_latex
+
+    if hasattr(value, "units") or isinstance(value, (int, float)):
+        number, _, unit = _shown(value).partition(" ")
+        return number_latex(number) + (r"\;" + unit_latex(unit) if unit else "")
+    return sp.latex(value)
 
 
 def _input_rows_single(rec: SheetInput) -> list[Any]:
@@ -210,14 +221,19 @@ def _body(sheet: Sheet) -> Html:
         next_section(
             "Assumptions", "<ol>" + "".join(f"<li>{escape(b.text)}</li>" for b in assumptions) + "</ol>"
         )
-    calc_blocks = [b for b in sheet.blocks if isinstance(b, (CalcStep, ResultLine, DerivationBlock, Figure))]
+    calc_blocks = [
+        b for b in sheet.blocks if isinstance(b, (CalcStep, ResultLine, DerivationBlock, Figure, TableBlock))
+    ]
     if calc_blocks:
         section_number = n + 1
-        inner, step_no, fig_no = [], 0, 0
+        inner, step_no, fig_no, table_no = [], 0, 0, 0
         for block in calc_blocks:
             if isinstance(block, Figure):
                 fig_no += 1
                 inner.append(block_html(block, str(fig_no)))
+            elif isinstance(block, TableBlock):
+                table_no += 1
+                inner.append(block_html(block, str(table_no)))
             else:
                 step_no += 1
                 inner.append(block_html(block, f"{section_number}.{step_no}"))
@@ -289,6 +305,8 @@ def show_block(sheet: Sheet, block: Any) -> None:
         number = str(sum(isinstance(b, (CalcStep, ResultLine, DerivationBlock)) for b in sheet.blocks))
     elif isinstance(block, Figure):
         number = str(len(sheet.of_type(Figure)))
+    elif isinstance(block, TableBlock):
+        number = str(len(sheet.of_type(TableBlock)))
     display(HTML(f'<div class="sheet">{block_html(block, number)}</div>'))
 
 
