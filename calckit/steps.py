@@ -9,6 +9,7 @@ how it will be shown.
 
 from __future__ import annotations
 
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import sympy as sp
@@ -17,6 +18,7 @@ from .displayable import Displayable
 from .forcing import ExponentGroup
 
 __all__ = [
+    "Deferred",
     "Step",
     "EquationStep",
     "ForcingSplitStep",
@@ -33,6 +35,45 @@ __all__ = [
     "InitialConditionsStep",
     "TotalResponseStep",
 ]
+
+
+class Deferred(Sequence):
+    """A tuple of expressions built on first use.
+
+    Parts of a step that only a reader needs (the derivatives of a trial form) are
+    built when the step is first shown or read, not while deriving; after that
+    they behave as the tuple they are.
+    """
+
+    __slots__ = ("_build", "_value")
+
+    def __init__(self, build: Callable[[], Sequence[sp.Expr]]):
+        self._build = build
+        self._value: tuple | None = None
+
+    def _get(self) -> tuple:
+        if self._value is None:
+            self._value = tuple(self._build())
+            self._build = None
+        return self._value
+
+    def __getitem__(self, index):
+        return self._get()[index]
+
+    def __len__(self) -> int:
+        return len(self._get())
+
+    def __iter__(self):
+        return iter(self._get())
+
+    def __eq__(self, other) -> bool:
+        return self._get() == (tuple(other) if isinstance(other, Sequence) else other)
+
+    def __hash__(self) -> int:
+        return hash(self._get())
+
+    def __repr__(self) -> str:
+        return repr(self._get())
 
 
 @dataclass(frozen=True)
@@ -100,7 +141,7 @@ class DerivativesStep(Step):
     """Derivatives of the trial form up to the order of the equation."""
 
     group: int
-    derivatives: tuple[sp.Expr, ...]  # x', x'', ...
+    derivatives: Sequence[sp.Expr]  # x', x'', ... (a tuple, or Deferred until first read)
 
 
 @dataclass(frozen=True)

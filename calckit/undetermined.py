@@ -44,6 +44,7 @@ from .forcing import COS, SIN, ExponentGroup, ForcingSplit, _add_into, quasi_pol
 from .steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
+    Deferred,
     DerivativesStep,
     EquationStep,
     ForcingSplitStep,
@@ -722,7 +723,7 @@ def _solve_group(ode, group, gi, many, pair, t, x):
             prefix + "derivatives of the trial form" if many else "Derivatives of the trial form",
             "The trial form is differentiated as many times as the equation needs.",
             gi,
-            tuple(d_.expr(t) for d_ in derivs[1:]),
+            Deferred(lambda: [d_.expr(t) for d_ in derivs[1:]]),
         )
     )
     n = ode.order
