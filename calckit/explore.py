@@ -1,44 +1,61 @@
 """The what-if explorer: sliders on a single-mass calculation's inputs, live results and checks.
 
-``explore(...)`` opens a calculation of one mass on a spring and a viscous damper
+``explore(...)`` opens a calculation of one mass on springs and viscous dampers
 under a harmonic force, ``m x'' + c x' + k x = F0 cos(w t)``, with a slider on each
-input (units in the labels; stiffness and frequency on log scales), live key results
-(natural frequency, frequency ratio, amplitude, phase lag, transmissibility, force
-into the support), the acceptance checks with their margins, a frequency-response
-plot with the operating point marked and a time history. "Keep these values"
-writes the current values to an inputs file that ``calckit build`` reads.
+input that matters (units in the labels; stiffness and frequency on log scales),
+the template's key results live, its acceptance checks with their limits, bases
+and margins, a frequency-response plot with the operating point marked and a time
+history. "Keep these values" writes the current values to an inputs file that
+``calckit build`` reads, in the same format as the file it started from.
+
+Supported templates: one entry each
+-----------------------------------
+What the explorer knows of a template is one :class:`Plan` in :data:`PLANS`, a
+small declarative entry: which parameter plays which role (mass, stiffness,
+damping, forcing frequency, how the force is formed, limits and their bases),
+which results the template records and how it rounds what it carries from step
+to step, which checks it makes, and which plots fit it. Adding a template is
+adding one entry:
+
+=======================  ====================================================
+template                 entry
+=======================  ====================================================
+``single_mass_harmonic`` force given (``force_amplitude``); results, checks:
+                         amplitude against ``amplitude_limit``, speed
+                         separation; amplitude curve, steady state and the
+                         response from rest
+``machine_on_isolators`` force from the rotor: ``F0 = m_r e w^2`` with
+                         ``e = G / w`` (ISO 21940-11, from memory); results
+                         carried at four significant figures as the template
+                         carries them; checks: isolation efficiency,
+                         frequency ratio >= 3, speed separation, motion during
+                         the run-up; transmissibility curve, run-up history
+=======================  ====================================================
+
+A template not in the table is read by parameter names as the single-mass entry
+(``mass``/``m``, ``stiffness``/``k``, ``damping_ratio``/``zeta`` or
+``damping``/``damping_coefficient``/``c``, ``force_amplitude``/``F0``,
+``forcing_frequency``/``running_speed``/``speed``, optional ``amplitude_limit``,
+``amplitude_limit_basis`` and ``forcing``, one harmonic in ``F0``, ``w``, ``t``);
+other names can be mapped with ``names={"mass": "machine_mass", ...}``.
 
 Symbolic once, numeric on every move
 ------------------------------------
-The steady-state response, its amplitude and phase lag, the force into the
-support and the response from rest are derived once by the engine with symbols
-``m, c, k, F0, w`` (per forcing expression, cached), compiled with
-:func:`calckit.numeric.compile_expr`, and every slider move only evaluates
-arrays. ``benchmarks/bench_explore.py`` measures a move against re-deriving.
+The steady-state response, its amplitude, phase lag, transmissibility and the
+force into the support, and (for a run-up) the total response over one step of
+constant speed from any state, are derived once by the engine with symbols
+(cached), compiled with :func:`calckit.numeric.compile_expr`, and every slider
+move only evaluates arrays: the run-up's steps are evaluated all at once, with
+only the two-number state carried from step to step. ``benchmarks/bench_explore.py``
+measures a move against re-deriving.
 
-Where the values come from
---------------------------
-Either an inputs file and a template (the template's parameters are read and
-the inputs file is checked against them, as ``calckit build`` does), or values
-given directly by keyword (then the template ``single_mass_harmonic`` gives the
-rest of the inputs file that "keep" writes). The template's parameters are mapped
-to the model by name:
-
-=================  =========================================================
-model              parameter names recognised
-=================  =========================================================
-mass               ``mass``, ``m``
-stiffness          ``stiffness``, ``k``
-damping            ``damping_ratio``, ``zeta`` (a ratio) or ``damping``,
-                   ``damping_coefficient``, ``c`` (a coefficient)
-force amplitude    ``force_amplitude``, ``F0``
-forcing frequency  ``forcing_frequency``, ``running_speed``, ``speed``
-amplitude limit    ``amplitude_limit`` (optional), with
-                   ``amplitude_limit_basis`` (optional)
-forcing            ``forcing`` (optional): one harmonic in ``F0``, ``w``, ``t``
-=================  =========================================================
-
-Other names can be mapped with ``names={"mass": "machine_mass", ...}``.
+Same numbers as the sheet
+-------------------------
+:meth:`WhatIf.si` gives the results under the template's own result names, in SI,
+as the sheet's JSON record gives them. Where the template carries a result into
+the next step rounded to four significant figures (``machine_on_isolators``),
+the explorer rounds the same results in the same units, so a sheet built from
+the kept file gives the same numbers to floating-point accuracy.
 
 Display
 -------
@@ -57,6 +74,9 @@ Examples
 >>> ex.results.checks[0].verdict  # doctest: +SKIP
 'not met'
 >>> ex.keep("p101_kept.toml")  # doctest: +SKIP
+>>> iso = explore("examples/harrow_creek_p101_isolators.toml", "machine_on_isolators")  # doctest: +SKIP
+>>> iso.set(isolator_stiffness="3000 kN/m").check("isolation efficiency").verdict  # doctest: +SKIP
+'not met'
 """
 
 from __future__ import annotations
@@ -70,7 +90,7 @@ import re
 import tempfile
 import tomllib
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from functools import lru_cache
 from pathlib import Path
 from types import MappingProxyType
@@ -80,6 +100,7 @@ import numpy as np
 import sympy as sp
 
 from .errors import CalcError, InputsError, OverwriteError
+from .excitation import BALANCE_QUALITY_GRADES
 from .forcing import split_forcing
 from .inputs import TITLE_FIELDS, check_keys, non_negative, parse_expression, positive, read_inputs
 from .numeric import Compiled, compile_expr
@@ -88,12 +109,22 @@ from .sheet import Check
 from .units import Q_, angular_frequency, fmt, fmt_number, quantity, to_si
 from .workflow import load_template
 
-__all__ = ["explore", "Explorer", "WhatIf", "Kept", "ROLES", "SEPARATION_BASIS"]
+__all__ = ["explore", "Explorer", "WhatIf", "Kept", "Plan", "PLANS", "ROLES", "SEPARATION_BASIS"]
 
-#: Basis of the speed-separation check.
+#: Basis of the speed-separation check of the single-mass template.
 SEPARATION_BASIS = (
     "common practice, no source: keep running speed outside about +/-20 % of a natural frequency"
 )
+#: Basis of the speed-separation check as :meth:`calckit.Sheet.separation_check` words it.
+SHEET_SEPARATION_BASIS = (
+    "common practice, no source: keep the operating frequency outside about +/-20 % of a natural frequency"
+)
+#: Basis of the frequency-ratio check of ``machine_on_isolators`` (the template's words).
+RATIO_BASIS = "common practice, no source: isolation needs r > sqrt(2), usually r >= 3"
+#: Least frequency ratio for isolation (common practice, no source).
+LEAST_RATIO = 3.0
+#: Standard gravity, m/s^2, as the template takes it for the static deflection.
+STANDARD_GRAVITY = 9.80665
 #: Template used when values are given directly.
 DEFAULT_TEMPLATE = "single_mass_harmonic"
 #: Points on the frequency-response curve and on the time history.
@@ -117,6 +148,8 @@ class _Role:
     label: str
     sign: str = "positive"  # "positive", "non-negative" or "" (text)
     scale: str = "linear"  # slider scale: "linear", "log" or "" (no slider)
+    choices: tuple[float, ...] = ()  # a slider over these values only (in choice_unit)
+    choice_unit: str = ""
 
 
 #: The model's inputs, by keyword: the names a template may declare them under.
@@ -147,11 +180,181 @@ ROLES: Mapping[str, _Role] = MappingProxyType(
             _Role("amplitude_limit", "length", ("amplitude_limit",), "amplitude limit", scale=""),
             _Role("amplitude_limit_basis", None, ("amplitude_limit_basis",), "basis of the limit", "", ""),
             _Role("forcing", None, ("forcing",), "forcing", "", ""),
+            _Role("rotor_mass", "mass", ("rotor_mass",), "rotor mass"),
+            _Role(
+                "balance_grade",
+                "velocity",
+                ("balance_grade",),
+                "balance quality grade",
+                choices=BALANCE_QUALITY_GRADES,
+                choice_unit="mm/s",
+            ),
+            _Role("run_up_time", "time", ("run_up_time",), "run-up time"),
+            _Role(
+                "required_isolation",
+                "dimensionless",
+                ("required_isolation",),
+                "least isolation efficiency",
+                scale="",
+            ),
+            _Role(
+                "required_isolation_basis",
+                None,
+                ("required_isolation_basis",),
+                "basis of the isolation",
+                "",
+                "",
+            ),
+            _Role("movement_limit", "length", ("movement_limit",), "movement limit", scale=""),
+            _Role(
+                "movement_limit_basis", None, ("movement_limit_basis",), "basis of the movement limit", "", ""
+            ),
         )
     }
 )
-_REQUIRED = ("mass", "stiffness", "force_amplitude", "forcing_frequency")
-_SLIDERS = ("mass", "stiffness", "damping_ratio", "damping", "force_amplitude", "forcing_frequency")
+
+
+@dataclass(frozen=True)
+class Plan:
+    """What the explorer knows of one template: a small declarative entry of :data:`PLANS`.
+
+    Attributes
+    ----------
+    template : str
+        The template's name.
+    names : mapping
+        Role (a key of :data:`ROLES`) -> the template's parameter name. Empty: the
+        parameters are recognised by the names :data:`ROLES` lists.
+    required, optional : tuple of str
+        Roles the template must declare, and roles it may declare. ``"damping"``
+        stands for either ``damping_ratio`` or ``damping`` (a coefficient).
+    sliders : tuple of str
+        Roles on sliders, in order; other roles with a unit are limits (moved by
+        :meth:`Explorer.set`, kept like the others), roles without one are text.
+    force : str
+        How the force amplitude is formed: ``"given"`` (``force_amplitude``) or
+        ``"unbalance"`` (``F0 = m_r e w^2`` with ``e = G / w`` from the rotor mass
+        and the balance quality grade, ISO 21940-11, from memory).
+    results : str
+        Which results the template records (a key of the explorer's result sets):
+        ``"single mass"`` or ``"isolators"``.
+    carry : int or None
+        Significant figures at which the template carries a result into a later
+        step (None: results are carried exactly).
+    checks : tuple of str
+        The template's checks, by the names its sheet gives them, in its order.
+    curve : str
+        Frequency-response plot: ``"amplitude"`` or ``"transmissibility"``.
+    history : str
+        Time history: ``"steady"`` (steady state and from rest) or ``"run-up"``
+        (linear run-up from rest through resonance, then running speed).
+    separation_basis : str
+        Basis of the speed-separation check as the template words it.
+    """
+
+    template: str
+    names: Mapping[str, str]
+    required: tuple[str, ...]
+    optional: tuple[str, ...]
+    sliders: tuple[str, ...]
+    force: str
+    results: str
+    carry: int | None
+    checks: tuple[str, ...]
+    curve: str
+    history: str
+    separation_basis: str
+
+    def roles(self) -> tuple[str, ...]:
+        """Every role the entry knows, required first."""
+        wanted = [r for r in (*self.required, *self.optional) if r != "damping"]
+        if "damping" in self.required or "damping" in self.optional:
+            wanted += ["damping_ratio", "damping"]
+        return tuple(dict.fromkeys(wanted))
+
+
+#: The templates the explorer supports, one entry each (see the module notes).
+PLANS: Mapping[str, Plan] = MappingProxyType(
+    {
+        p.template: p
+        for p in (
+            Plan(
+                template="single_mass_harmonic",
+                names=MappingProxyType({}),
+                required=("mass", "stiffness", "damping", "force_amplitude", "forcing_frequency"),
+                optional=("amplitude_limit", "amplitude_limit_basis", "forcing"),
+                sliders=(
+                    "mass",
+                    "stiffness",
+                    "damping_ratio",
+                    "damping",
+                    "force_amplitude",
+                    "forcing_frequency",
+                ),
+                force="given",
+                results="single mass",
+                carry=None,
+                checks=("amplitude", "speed separation"),
+                curve="amplitude",
+                history="steady",
+                separation_basis=SEPARATION_BASIS,
+            ),
+            Plan(
+                template="machine_on_isolators",
+                names=MappingProxyType(
+                    {
+                        "mass": "machine_mass",
+                        "stiffness": "isolator_stiffness",
+                        "damping_ratio": "damping_ratio",
+                        "forcing_frequency": "running_speed",
+                        "rotor_mass": "rotor_mass",
+                        "balance_grade": "balance_grade",
+                        "run_up_time": "run_up_time",
+                        "required_isolation": "required_isolation",
+                        "required_isolation_basis": "required_isolation_basis",
+                        "movement_limit": "movement_limit",
+                        "movement_limit_basis": "movement_limit_basis",
+                    }
+                ),
+                required=(
+                    "mass",
+                    "stiffness",
+                    "damping_ratio",
+                    "forcing_frequency",
+                    "rotor_mass",
+                    "balance_grade",
+                    "run_up_time",
+                    "required_isolation",
+                    "required_isolation_basis",
+                    "movement_limit",
+                    "movement_limit_basis",
+                ),
+                optional=(),
+                sliders=(
+                    "mass",
+                    "stiffness",
+                    "damping_ratio",
+                    "forcing_frequency",
+                    "rotor_mass",
+                    "balance_grade",
+                    "run_up_time",
+                ),
+                force="unbalance",
+                results="isolators",
+                carry=4,
+                checks=(
+                    "isolation efficiency",
+                    "frequency ratio for isolation",
+                    "speed separation",
+                    "motion during run-up",
+                ),
+                curve="transmissibility",
+                history="run-up",
+                separation_basis=SHEET_SEPARATION_BASIS,
+            ),
+        )
+    }
+)
 
 
 # ---------------------------------------------------------------------------
@@ -204,6 +407,303 @@ def _derive(forcing: sp.Expr) -> _Derived:
     )
 
 
+_Fc, _Fs, _x0, _v0 = sp.symbols("F_c F_s x_0 v_0", real=True)
+_STAGE_NAMES = ("m", "c", "k", "w", "F_c", "F_s", "x_0", "v_0")
+
+
+@dataclass(frozen=True)
+class _Stage:
+    """The total response over one step of constant speed, from any state, compiled."""
+
+    response: Any  # Response
+    x: Compiled  # x(t; m, c, k, w, F_c, F_s, x_0, v_0)
+    v: Compiled  # x'(t; ...)
+
+
+@lru_cache(maxsize=1)
+def _derive_stage() -> _Stage:
+    """Derive once the response to ``F_c cos(w t) + F_s sin(w t)`` from ``x(0) = x_0``, ``x'(0) = v_0``."""
+    osc = Oscillator(_m, _c, _k, regime="underdamped")
+    response = osc.response(_Fc * sp.cos(_w * _t) + _Fs * sp.sin(_w * _t), _x0, _v0, t=_t)
+    return _Stage(
+        response=response,
+        x=compile_expr(response.solution, _t, _STAGE_NAMES),
+        v=compile_expr(sp.diff(response.solution, _t), _t, _STAGE_NAMES),
+    )
+
+
+@dataclass(frozen=True)
+class _RunUp:
+    """A linear run-up from rest to running speed in steps of constant speed, then running speed."""
+
+    steps: int
+    times: np.ndarray  # s
+    x: np.ndarray  # m
+    v: np.ndarray  # m/s
+    speed: np.ndarray  # rad/s
+    end: float  # s, the end of the run-up
+
+
+def _run_up(stage: _Stage, *, m, c, k, w, unbalance, run_up_time, zeta, steps, points, hold_points=4000):
+    """The run-up as ``machine_on_isolators`` steps it, evaluated for all steps at once.
+
+    Step ``j`` runs at the speed of its middle, ``(j + 1/2) w / N``, for ``t_ru / N``
+    under the force ``U s^2 cos(theta + s t)`` with the phase ``theta`` carried
+    from step to step; the state at each step's end comes from the compiled total
+    response, split into its parts in ``x_0``, ``v_0`` and the force so that only
+    two numbers are carried in a loop. A hold at running speed for six time
+    constants (at most 60 s) follows.
+    """
+    h = run_up_time / steps
+    speeds = (np.arange(steps) + 0.5) * w / steps
+    phase = np.concatenate(([0.0], np.cumsum(speeds * h)))  # summed in order, as the template does
+    force = unbalance * speeds**2
+    fc, fs = force * np.cos(phase[:-1]), -force * np.sin(phase[:-1])
+    base = dict(m=m, c=c, k=k, w=speeds)
+    parts = {}
+    for name, unit in (("forced", (1.0, 0.0, 0.0)), ("x0", (0.0, 1.0, 0.0)), ("v0", (0.0, 0.0, 1.0))):
+        on, x0, v0 = unit
+        args = dict(base, F_c=fc * on, F_s=fs * on, x_0=x0, v_0=v0)
+        parts[name] = (stage.x(h, **args), stage.v(h, **args))
+    (px, pv), (ax, av), (bx, bv) = parts["forced"], parts["x0"], parts["v0"]
+    xs, vs = np.empty(steps + 1), np.empty(steps + 1)
+    x = v = 0.0
+    for j in range(steps):  # two numbers carried per step
+        xs[j], vs[j] = x, v
+        x, v = px[j] + ax[j] * x + bx[j] * v, pv[j] + av[j] * x + bv[j] * v
+    xs[steps], vs[steps] = x, v
+    tau = np.linspace(0.0, h, points + 1)[:-1]
+    local = dict(
+        m=m,
+        c=c,
+        k=k,
+        w=speeds[:, None],
+        F_c=fc[:, None],
+        F_s=fs[:, None],
+        x_0=xs[:-1, None],
+        v_0=vs[:-1, None],
+    )
+    starts = np.concatenate(([0.0], np.cumsum(np.full(steps, h))))  # summed in order, as the template does
+    wn = math.sqrt(k / m)
+    hold = min(6.0 / max(zeta * wn, 1e-9), 60.0)
+    held = np.linspace(0.0, hold, hold_points)
+    f_run = unbalance * w**2
+    at_speed = dict(
+        m=m, c=c, k=k, w=w, F_c=f_run * math.cos(phase[-1]), F_s=-f_run * math.sin(phase[-1]), x_0=x, v_0=v
+    )
+    return _RunUp(
+        steps=steps,
+        times=np.concatenate(((starts[:-1, None] + tau[None, :]).ravel(), starts[-1] + held)),
+        x=np.concatenate((stage.x(tau[None, :], **local).ravel(), stage.x(held, **at_speed))),
+        v=np.concatenate((stage.v(tau[None, :], **local).ravel(), stage.v(held, **at_speed))),
+        speed=np.concatenate((np.repeat(speeds, points), np.full(hold_points, w))),
+        end=float(run_up_time),
+    )
+
+
+def _run_up_steps(w: float, wn: float, zeta: float) -> int:
+    """Steps of the run-up as the template chooses them: the speed moves by at most a quarter of
+    the half-power bandwidth ``2 zeta omega_n`` in one step, 100 to 2000 steps."""
+    return int(min(2000, max(100, math.ceil(w / (0.5 * max(zeta, 0.005) * wn)))))
+
+
+def _carried(x: float, sig: int | None) -> float:
+    """*x* as a template carries it into a later step: rounded to *sig* significant figures."""
+    if sig is None or not math.isfinite(x):
+        return x
+    return float(f"{x:.{sig}g}")
+
+
+@dataclass(frozen=True)
+class _Move:
+    """One set of values, SI, with what the result sets and the checks need."""
+
+    plan: Plan
+    model: Any  # _Derived
+    stage: _Stage | None
+    values: Mapping[str, float]  # role -> SI value (rad/s for frequencies)
+    quantities: Mapping[str, Any]  # role -> the value as a quantity in its display unit
+    texts: Mapping[str, str]  # role -> text (bases of limits)
+    base: Mapping[str, float]  # the oscillator's numbers (WhatIf fields)
+    band: float
+
+
+def _single_mass_results(mv: _Move) -> tuple[dict[str, float], None]:
+    """``single_mass_harmonic`` records these results exactly (nothing carried rounded)."""
+    names = (
+        "damping_coefficient",
+        "natural_frequency",
+        "natural_frequency_hz",
+        "frequency_ratio",
+        "magnification",
+        "static_deflection",
+        "amplitude",
+        "phase_lag",
+        "transmissibility",
+        "transmitted_force",
+    )
+    return {name: mv.base[name] for name in names}, None
+
+
+def _isolator_results(mv: _Move) -> tuple[dict[str, float], _RunUp]:
+    """``machine_on_isolators``'s results, step by step as its sheet computes them.
+
+    Each step takes the earlier results as the sheet shows them (``carried``: four
+    significant figures in the unit the sheet gives them in: um, g mm, N, rad/s,
+    N s/m, a pure number); the run-up uses the unrounded chain, as the template does.
+    """
+    v, d, sig = mv.values, mv.model, mv.plan.carry
+    m, k, zeta, w = v["mass"], v["stiffness"], v["damping_ratio"], v["forcing_frequency"]
+    mr, grade, t_ru = v["rotor_mass"], v["balance_grade"], v["run_up_time"]
+    at = np.array([w])
+    e_um = grade / w * 1e6  # e_per = G / Omega, ISO 21940-11, from memory; in um
+    u_gmm = mr * _carried(e_um, sig)  # kg um = g mm
+    f0 = _carried(u_gmm, sig) * 1e-6 * w**2  # F_0 = U Omega^2
+    wn = math.sqrt(k / m)
+    c = 2 * zeta * math.sqrt(k * m)
+    f0_c, c_c = _carried(f0, sig), _carried(c, sig)
+    x = float(d.amplitude(at, m=m, c=c_c, k=k, F0=f0_c)[0])
+    f_t = float(d.transmitted(at, m=m, c=c_c, k=k, F0=f0_c)[0])
+    t_ratio = _carried(f_t, sig) / f0_c if f0_c else math.nan
+    results = {
+        "e_per": e_um * 1e-6,
+        "U": u_gmm * 1e-6,
+        "F_0": f0,
+        "omega_n": wn,
+        "f_n": _carried(wn, sig) / (2 * math.pi),
+        "delta_st": m * STANDARD_GRAVITY / k,
+        "c": c,
+        "r": w / _carried(wn, sig),
+        "X": x,
+        "F_T": f_t,
+        "T": t_ratio,
+        "eta": 1 - _carried(t_ratio, sig),
+    }
+    unbalance = mr * grade / w  # kg m, the unrounded chain
+    steps = _run_up_steps(w, wn, zeta)
+    common = dict(m=m, c=c, k=k, w=w, unbalance=unbalance, run_up_time=t_ru, zeta=zeta)
+    run = _run_up(mv.stage, steps=steps, points=12, **common)
+    half = _run_up(mv.stage, steps=2 * steps, points=6, **common)
+    during = run.times <= t_ru
+    results.update(
+        run_up_steps=float(steps),
+        peak_run_up=float(np.max(np.abs(run.x[during]))),
+        peak_run_up_half_step=float(np.max(np.abs(half.x[: np.count_nonzero(during) // 2]))),
+        peak_force_run_up=float(np.max(np.abs(k * run.x[during] + c * run.v[during]))),
+        resonance_amplitude=unbalance * wn**2 / (c * wn) if c > 0 else math.inf,
+    )
+    return results, run
+
+
+#: Result sets by the name a plan gives (``Plan.results``).
+_RESULT_SETS = {"single mass": _single_mass_results, "isolators": _isolator_results}
+
+
+def _judge(name: str, value: float, limit: float, relation: str, unit: str, basis: str) -> Check:
+    """A check made as :meth:`calckit.Sheet.check` makes it: margin in percent of the limit."""
+    if relation == "<=":
+        margin, met = (limit - value) / abs(limit) * 100, value <= limit
+    else:
+        margin, met = (value - limit) / abs(limit) * 100, value >= limit
+    shown = (lambda x: fmt(Q_(x, unit))) if unit else fmt_number
+    return Check(
+        name, float(value), float(limit), relation, unit, margin, bool(met), basis, shown(value), shown(limit)
+    )
+
+
+def _amplitude_check(mv: _Move, results: Mapping[str, float]) -> Check | None:
+    limit = mv.quantities.get("amplitude_limit")
+    if limit is None:
+        return None
+    amplitude = mv.base["amplitude"]
+    value = Q_(amplitude, "m").to(limit.units).magnitude if math.isfinite(amplitude) else math.inf
+    lim = float(limit.magnitude)
+    basis = mv.texts.get("amplitude_limit_basis", "")
+    check = _judge("amplitude", float(value), lim, "<=", _unit_text(limit), basis)
+    return replace(check, shown_value=fmt(Q_(value, limit.units)), shown_limit=fmt(limit))
+
+
+def _separation_check(mv: _Move, results: Mapping[str, float]) -> Check:
+    """``|w / omega_n - 1|`` in percent against the band (common practice, no source)."""
+    separation = abs(mv.base["forcing_frequency"] / mv.base["natural_frequency"] - 1) * 100
+    check = _judge("speed separation", separation, mv.band * 100, ">=", "percent", mv.plan.separation_basis)
+    return replace(
+        check, shown_value=f"{fmt_number(separation)} %", shown_limit=f"{fmt_number(mv.band * 100)} %"
+    )
+
+
+def _isolation_check(mv: _Move, results: Mapping[str, float]) -> Check:
+    return _judge(
+        "isolation efficiency",
+        results["eta"] * 100,
+        float(mv.quantities["required_isolation"].to("percent").magnitude),
+        ">=",
+        "percent",
+        mv.texts.get("required_isolation_basis", ""),
+    )
+
+
+def _ratio_check(mv: _Move, results: Mapping[str, float]) -> Check:
+    return _judge("frequency ratio for isolation", results["r"], LEAST_RATIO, ">=", "", RATIO_BASIS)
+
+
+def _run_up_check(mv: _Move, results: Mapping[str, float]) -> Check:
+    limit = float(mv.quantities["movement_limit"].to("mm").magnitude)
+    return _judge(
+        "motion during run-up",
+        results["peak_run_up"] * 1000,
+        limit,
+        "<=",
+        "mm",
+        mv.texts.get("movement_limit_basis", ""),
+    )
+
+
+#: Checks by the name the sheet gives them (``Plan.checks``).
+_CHECKS = {
+    "amplitude": _amplitude_check,
+    "speed separation": _separation_check,
+    "isolation efficiency": _isolation_check,
+    "frequency ratio for isolation": _ratio_check,
+    "motion during run-up": _run_up_check,
+}
+
+
+def _isolator_refusal(
+    values: Mapping[str, float], quantities: Mapping[str, Any], names: Mapping[str, str]
+) -> InputsError | None:
+    """What ``machine_on_isolators`` refuses, with its own message (None if it takes the values)."""
+    if values["rotor_mass"] > values["mass"]:
+        return InputsError(
+            f"the rotor ({_written(quantities['rotor_mass'])}) is heavier than everything on the isolators "
+            f"({_written(quantities['mass'])})",
+            where=names["rotor_mass"],
+            do=f"Give the rotating parts only in {names['rotor_mass']} and the whole machine in {names['mass']}",
+        )
+    if not values["damping_ratio"] < 1:
+        return InputsError(
+            f"a damping ratio of {values['damping_ratio']:g} is not underdamped",
+            where=names["damping_ratio"],
+            do="Isolators are lightly damped; give a damping ratio below 1 (steel springs about 0.01 to 0.05)",
+        )
+    if not values["required_isolation"] < 1:
+        return InputsError(
+            f"an isolation efficiency of {values['required_isolation']:.0%} cannot be reached",
+            where=names["required_isolation"],
+            do="Give an efficiency below 100 %, e.g. 90 %",
+        )
+    return None
+
+
+def _written(q) -> str:
+    """A quantity as an inputs file writes it: ``"2000 kg"``, not ``"2000.0 kg"``."""
+    return f"{_number_text(q.magnitude)} {q.units:~P}".strip()
+
+
+#: The values a template refuses, by result set (``Plan.results``).
+_RULES = {"isolators": _isolator_refusal}
+
+
 def _forcing_expr(text: Any, where: str) -> sp.Expr:
     """The forcing text read in F0, w and t; refused unless one harmonic at w."""
     expr = parse_expression(text, {"F0": _F0, "w": _w}, where=where, t=_t)
@@ -225,8 +725,10 @@ def _forcing_expr(text: Any, where: str) -> sp.Expr:
 class WhatIf:
     """The key results at one set of values (SI units unless said otherwise).
 
-    The names are the result names of the ``single_mass_harmonic`` sheet where
-    that sheet has them, so that :meth:`si` can be compared with a built sheet.
+    The fields are the oscillator's own numbers, unrounded. :meth:`si` gives the
+    results under the template's result names, computed as the template computes
+    them (rounding what it carries, as its plan says), so that they can be compared
+    with a built sheet's JSON record.
     """
 
     mass: float  # kg
@@ -245,24 +747,11 @@ class WhatIf:
     transmissibility: float
     transmitted_force: float  # N, amplitude of k x + c x'
     checks: tuple[Check, ...] = ()
+    sheet: Mapping[str, float] = field(default_factory=dict)  # the template's results, SI
 
     def si(self) -> dict[str, float]:
-        """The results by name, SI values (the sheet's JSON record gives results the same way)."""
-        return {
-            name: getattr(self, name)
-            for name in (
-                "damping_coefficient",
-                "natural_frequency",
-                "natural_frequency_hz",
-                "frequency_ratio",
-                "magnification",
-                "static_deflection",
-                "amplitude",
-                "phase_lag",
-                "transmissibility",
-                "transmitted_force",
-            )
-        }
+        """The results by the template's names, SI values (the sheet's JSON record gives results the same way)."""
+        return dict(self.sheet)
 
     def check(self, name: str) -> Check:
         """The check called *name* (``"amplitude"``, ``"speed separation"``)."""
@@ -444,7 +933,7 @@ class _Input:
 
 
 class Explorer:
-    """Sliders over one mass on a spring and damper under a harmonic force; see :func:`explore`.
+    """Sliders over one mass on springs and dampers under a harmonic force; see :func:`explore`.
 
     Attributes
     ----------
@@ -456,32 +945,39 @@ class Explorer:
         The sliders, results, plot and keep controls; None without ipywidgets.
     template : str
         The template the kept inputs file is for.
+    plan : Plan
+        What the explorer knows of that template.
     """
 
     def __init__(
         self,
         inputs: dict[str, _Input],
-        fixed: dict[str, Any],
+        texts: dict[str, Any],
         *,
+        plan: Plan,
         template: Any,
         values: Mapping[str, Any],
         file: Any,
         forcing: sp.Expr,
-        limit: tuple[Any, str] | None,
         band: float,
         points: int,
         widgets: bool,
     ):
-        self._inputs = inputs
-        self._fixed = fixed  # role key -> value for roles without a slider (limit, basis, forcing)
+        self._inputs = inputs  # role -> input (sliders and limits)
+        self._fixed = texts  # role -> text for roles without a unit (bases, forcing)
+        self.plan = plan
         self._template = template
         self._values = dict(values)  # every template parameter's starting value, raw
         self._file = file
-        self._limit = limit  # (quantity, parameter name) or None
         self._band = band
         self._points = points
         self._model = _derive(forcing)
+        self._stage = _derive_stage() if plan.history == "run-up" else None
+        self._run: _RunUp | None = None
         self._hold = False
+        refusal = self._refusal({})
+        if refusal is not None:
+            raise refusal
         freq = inputs["forcing_frequency"]
         lo, hi = self._frequency_range()
         self._grid = np.logspace(math.log10(lo), math.log10(hi), points)  # display unit
@@ -538,87 +1034,81 @@ class Explorer:
         return lo, hi
 
     # ------------------------------------------------------------ numbers
+    def _si_values(self, moved: Mapping[str, float]) -> dict[str, float]:
+        """Role -> SI value, with *moved* (parameter name -> display value) in place."""
+        return {key: moved.get(item.name, item.value) * item.factor for key, item in self._inputs.items()}
+
+    def _quantities(self, moved: Mapping[str, float] | None = None) -> dict[str, Any]:
+        moved = moved or {}
+        out = {}
+        for key, item in self._inputs.items():
+            number = moved.get(item.name, item.value)
+            out[key] = Q_(number, item.unit) if item.unit else Q_(number, "")
+        return out
+
+    def _refusal(self, moved: Mapping[str, float]) -> InputsError | None:
+        """The template's own refusal of these values (None if it takes them)."""
+        rule = _RULES.get(self.plan.results)
+        if rule is None:
+            return None
+        names = {key: item.name for key, item in self._inputs.items()}
+        return rule(self._si_values(moved), self._quantities(moved), names)
+
     def _evaluate(self) -> WhatIf:
         """The key results at the current values: compiled functions only, no sympy."""
-        ins = self._inputs
-        m, k, F0, w = (
-            ins["mass"].si,
-            ins["stiffness"].si,
-            ins["force_amplitude"].si,
-            ins["forcing_frequency"].si,
-        )
-        if "damping_ratio" in ins:
-            zeta = ins["damping_ratio"].si
+        values = self._si_values({})
+        m, k, w = values["mass"], values["stiffness"], values["forcing_frequency"]
+        if "damping_ratio" in values:
+            zeta = values["damping_ratio"]
             c = 2.0 * zeta * math.sqrt(k * m)
         else:
-            c = ins["damping"].si
+            c = values["damping"]
             zeta = c / (2.0 * math.sqrt(k * m))
+        if self.plan.force == "unbalance":
+            eccentricity = values["balance_grade"] / w  # e_per = G / w, ISO 21940-11, from memory
+            f0 = values["rotor_mass"] * eccentricity * w**2  # F0 = m_u e w^2
+        else:
+            f0 = values["force_amplitude"]
         d = self._model
         at = np.array([w])
         wn = math.sqrt(k / m)
-        amplitude = float(d.amplitude(at, m=m, c=c, k=k, F0=F0)[0])
-        result = dict(
+        base = dict(
             mass=m,
             stiffness=k,
             damping_coefficient=c,
             damping_ratio=zeta,
-            force_amplitude=F0,
+            force_amplitude=f0,
             forcing_frequency=w,
             natural_frequency=wn,
             natural_frequency_hz=wn / (2 * math.pi),
             frequency_ratio=w / wn,
             magnification=float(d.magnification(at, m=m, c=c, k=k)[0]),
-            static_deflection=F0 / k,
-            amplitude=amplitude,
+            static_deflection=f0 / k,
+            amplitude=float(d.amplitude(at, m=m, c=c, k=k, F0=f0)[0]),
             phase_lag=float(d.phase_lag(at, m=m, c=c, k=k)[0]),
             transmissibility=float(d.transmissibility(at, m=m, c=c, k=k)[0]),
-            transmitted_force=float(d.transmitted(at, m=m, c=c, k=k, F0=F0)[0]),
+            transmitted_force=float(d.transmitted(at, m=m, c=c, k=k, F0=f0)[0]),
         )
-        checks = []
-        if self._limit is not None:
-            limit, _ = self._limit
-            unit = _unit_text(limit)
-            value = Q_(amplitude, "m").to(limit.units).magnitude if math.isfinite(amplitude) else math.inf
-            lim = float(limit.magnitude)
-            met = value <= lim
-            checks.append(
-                Check(
-                    "amplitude",
-                    float(value),
-                    lim,
-                    "<=",
-                    unit,
-                    (lim - value) / abs(lim) * 100,
-                    bool(met),
-                    str(self._fixed.get("amplitude_limit_basis") or ""),
-                    fmt(Q_(value, limit.units)),
-                    fmt(limit),
-                )
-            )
-        separation = abs(w / wn - 1) * 100
-        band = self._band * 100
-        checks.append(
-            Check(
-                "speed separation",
-                separation,
-                band,
-                ">=",
-                "percent",
-                (separation - band) / band * 100,
-                separation >= band,
-                SEPARATION_BASIS,
-                f"{fmt_number(separation)} %",
-                f"{fmt_number(band)} %",
-            )
-        )
-        return WhatIf(**result, checks=tuple(checks))
+        texts = {key: str(value or "") for key, value in self._fixed.items()}
+        move = _Move(self.plan, d, self._stage, values, self._quantities(), texts, base, self._band)
+        sheet, self._run = _RESULT_SETS[self.plan.results](move)
+        checks = (_CHECKS[name](move, sheet) for name in self.plan.checks)
+        return WhatIf(**base, checks=tuple(c for c in checks if c is not None), sheet=sheet)
 
     def _curves(self) -> dict[str, np.ndarray]:
         """The frequency-response curve and the time histories at the current values."""
         r = self.results
         m, c, k, F0, w = r.mass, r.damping_coefficient, r.stiffness, r.force_amplitude, r.forcing_frequency
         d = self._model
-        curve = d.amplitude(self._omega, m=m, c=c, k=k, F0=F0)
+        if self.plan.curve == "transmissibility":
+            curve = d.transmissibility(self._omega, m=m, c=c, k=k)
+        else:
+            curve = d.amplitude(self._omega, m=m, c=c, k=k, F0=F0)
+        if self.plan.history == "run-up":
+            run = self._run
+            unbalance = F0 / w**2  # m_u e, kg m
+            envelope = d.amplitude(run.speed, m=m, c=c, k=k, F0=unbalance * run.speed**2)
+            return {"curve": curve, "times": run.times, "run": run.x, "envelope": envelope}
         period = 2 * math.pi / w
         span = min(max(4 * period, 3 * 2 * math.pi / r.natural_frequency), 60 * period)
         times = np.linspace(0.0, _nice_ceiling(span * 1000) / 1000, self._points)  # a 1-2-5 span in ms
@@ -633,14 +1123,17 @@ class Explorer:
         """Move inputs, by parameter name or model keyword: ``set(stiffness="900 kN/m")``.
 
         Values are text with a unit, pint quantities, or plain numbers in the
-        slider's unit (the unit in its label). Returns the new results.
+        slider's unit (the unit in its label). Limits (``amplitude_limit``,
+        ``movement_limit`` ...) move the same way and are kept like the others.
+        Values the template would refuse (a rotor heavier than the machine, a
+        damping ratio of 1 or more ...) are refused with its message, and
+        nothing moves. Returns the new results.
         """
         moved = {}
         for key, value in values.items():
             item = self._lookup(key)
             if item is None:
-                self._set_fixed(key, value)
-                continue
+                raise self._not_an_input(key)
             if isinstance(value, int | float) and not isinstance(value, bool):
                 number = float(value)
             else:
@@ -648,6 +1141,9 @@ class Explorer:
                 number = float(q.to(item.unit).magnitude) if item.unit else float(q.to("").magnitude)
             self._check_sign(item, number)
             moved[item.name] = number
+        refusal = self._refusal(moved)
+        if refusal is not None:
+            raise refusal
         self._hold = True
         try:
             for name, number in moved.items():
@@ -674,14 +1170,9 @@ class Explorer:
             return self._inputs[key]
         return self._inputs_by_name().get(key)
 
-    def _set_fixed(self, key: str, value: Any) -> None:
-        limit_name = self._limit[1] if self._limit else None
-        if key in ("amplitude_limit", limit_name) and self._limit is not None:
-            q = positive(quantity(value, limit_name, expect="length"), limit_name)
-            self._limit = (q, limit_name)
-            return
-        known = ", ".join([i.name for i in self._inputs.values()] + ([limit_name] if limit_name else []))
-        raise InputsError(
+    def _not_an_input(self, key: str) -> InputsError:
+        known = ", ".join(i.name for i in self._inputs.values())
+        return InputsError(
             f'"{key}" is not an input the explorer moves',
             where=f"Explorer.set({key}=...)",
             do=f"Move one of: {known}",
@@ -704,7 +1195,17 @@ class Explorer:
             return
         item = self._inputs_by_name()[change["owner"]._calckit_name]
         number = float(change["new"])
-        item.value = item.start if number == item.start else _round_sig(number, item.sig)
+        number = item.start if number == item.start else _round_sig(number, item.sig)
+        refusal = self._refusal({item.name: number})
+        if refusal is not None:  # the template would refuse it: the slider goes back, the message shows
+            self._hold = True
+            try:
+                change["owner"].value = item.value
+            finally:
+                self._hold = False
+            self._controls["status"].value = f"<p>Not moved: {html.escape(str(refusal))}</p>"
+            return
+        item.value = number
         self.refresh()
 
     def refresh(self) -> None:
@@ -720,6 +1221,15 @@ class Explorer:
         style = {"description_width": "180px"}
         layout = w.Layout(width="480px")
         readout = ".4g"
+        if item.role.choices:
+            return w.SelectionSlider(
+                options=self._choices(item),
+                value=item.start,
+                description=item.label,
+                continuous_update=True,
+                style=style,
+                layout=layout,
+            )
         if item.role.key == "forcing_frequency":
             lo, hi = self._frequency_range()
             return w.FloatLogSlider(
@@ -757,7 +1267,7 @@ class Explorer:
             hi, lo = max(0.5 * critical, 2 * item.start), 0.0
         elif item.role.key == "force_amplitude":
             hi, lo = 3 * item.start if item.start > 0 else 1.0, 0.0
-        else:  # mass
+        else:  # a mass, a time
             hi, lo = 3 * item.start, 0.25 * item.start
         return w.FloatSlider(
             value=item.start,
@@ -771,8 +1281,22 @@ class Explorer:
         )
 
     @staticmethod
-    def _fit_slider(slider, number: float) -> None:
-        """Widen a slider's range so that a value set by :meth:`set` is not clipped."""
+    def _choices(item: _Input, also: float | None = None) -> list[tuple[str, float]]:
+        """The slider's stops: the role's choices in the display unit, with the starting value
+        (and *also*) among them: ``[("G 2.5", 2.5), ("G 6.3", 6.3), ...]``."""
+        to_display = Q_(1, item.role.choice_unit).to(item.unit).magnitude if item.unit else 1.0
+        stops = {_round_sig(c * to_display, 12) for c in item.role.choices}
+        stops |= {item.start, item.value} | ({also} if also is not None else set())
+        prefix = "G " if item.role.key == "balance_grade" else ""
+        return [(f"{prefix}{_number_text(v)}", v) for v in sorted(stops)]
+
+    def _fit_slider(self, slider, number: float) -> None:
+        """Widen a slider's range (or add a stop) so that a value set by :meth:`set` is not clipped."""
+        if hasattr(slider, "options"):
+            if number not in [v for _, v in slider.options]:
+                item = self._inputs_by_name()[slider._calckit_name]
+                slider.options = self._choices(item, number)
+            return
         if hasattr(slider, "base"):
             exponent = math.log(number, slider.base) if number > 0 else slider.min
             if exponent < slider.min:
@@ -788,7 +1312,9 @@ class Explorer:
     def _build_widgets(self) -> None:
         w = self._ipywidgets
         sliders = []
-        for item in self._inputs.values():
+        for key, item in self._inputs.items():
+            if key not in self.plan.sliders:
+                continue  # a limit: moved by set(), kept like the others
             slider = self._slider(item)
             slider._calckit_name = item.name
             slider.observe(self._on_move, names="value")
@@ -811,7 +1337,7 @@ class Explorer:
         self._controls.update(
             back=back, results=results, plot=plot, path=name, replace=replace, keep=keep, status=status
         )
-        title = self._values.get("subject") or "One mass on a spring and damper under a harmonic force"
+        title = self._values.get("subject") or "One mass on springs and dampers under a harmonic force"
         self.widget = w.VBox(
             [
                 w.HTML(f"<b>What if: {html.escape(str(title))}</b>"),
@@ -850,7 +1376,23 @@ class Explorer:
     # Dynamic artists are drawn over a cached frame (axes, ticks, labels, legend): a move
     # redraws only them. The frame is redrawn when an axis range changes, and the ranges
     # move in steps (decades, 1-2-5) so that most moves keep the frame.
-    _DYNAMIC = ("band", "natural", "curve", "point", "legend1", "from_rest", "steady", "legend2")
+    _LEFT = {
+        "amplitude": ("band", "natural", "curve", "point", "legend1"),
+        "transmissibility": ("band", "natural", "sqrt2", "required", "curve", "point", "legend1"),
+    }
+    _RIGHT = {
+        "steady": ("from_rest", "steady", "legend2"),
+        "run-up": ("envelope_up", "envelope_down", "end", "run", "legend2"),
+    }
+
+    @property
+    def _dynamic(self) -> tuple[str, ...]:
+        return self._LEFT[self.plan.curve] + self._RIGHT[self.plan.history]
+
+    def _limit(self, role: str) -> tuple[float, str] | None:
+        """A limit's current value and unit, or None when the template has none."""
+        item = self._inputs.get(role)
+        return (item.value, item.unit) if item is not None else None
 
     def _make_figure(self):
         from matplotlib.backends.backend_agg import FigureCanvasAgg
@@ -858,43 +1400,81 @@ class Explorer:
         from matplotlib.ticker import NullLocator
 
         freq = self._inputs["forcing_frequency"]
-        unit = self._amplitude_unit()
         fig = Figure(figsize=(9.6, 3.4), dpi=80)
         FigureCanvasAgg(fig)
         fig.subplots_adjust(left=0.075, right=0.985, bottom=0.16, top=0.90, wspace=0.28)
         ax1, ax2 = fig.subplots(1, 2)
         a = {}
-        a["band"] = ax1.axvspan(1, 1, color="0.85", label="within 20 % of the natural frequency")
+        band = f"within {fmt_number(self._band * 100)} % of the natural frequency"
+        a["band"] = ax1.axvspan(1, 1, color="0.85", label=band)
         a["natural"] = ax1.axvline(1, color="0.4", lw=0.8, ls=":")
         (a["curve"],) = ax1.plot([], [], color="black", lw=1.2)
         (a["point"],) = ax1.plot([], [], "o", color="black", ms=6, label="operating point")
-        if self._limit is not None:
-            a["limit"] = ax1.axhline(1, color="0.3", lw=0.9, ls="--", label="amplitude limit")
+        if self.plan.curve == "transmissibility":
+            a["sqrt2"] = ax1.axvline(1, color="0.5", lw=0.8, ls="-.", label="√2 ω_n: T = 1")
+            a["required"] = ax1.axhline(
+                1, color="0.3", lw=0.9, ls="--", label="T allowed by the required isolation"
+            )
+            ax1.set_ylabel("transmissibility T = F_T / F_0")
+            ax1.set_title("Transmissibility", fontsize=10)
+        else:
+            unit = self._amplitude_unit()
+            if "amplitude_limit" in self._inputs:
+                a["limit"] = ax1.axhline(1, color="0.3", lw=0.9, ls="--", label="amplitude limit")
+            ax1.set_ylabel(f"amplitude X, {unit}")
+            ax1.set_title("Frequency response", fontsize=10)
         ax1.set_xscale("log")
         ax1.set_yscale("log")
         ax1.yaxis.set_minor_locator(NullLocator())
         ax1.set_xlim(self._grid[0], self._grid[-1])
-        ax1.set_xlabel(f"forcing frequency, {freq.unit or 'rad/s'}")
-        ax1.set_ylabel(f"amplitude X, {unit}")
-        ax1.set_title("Frequency response", fontsize=10)
+        ax1.set_xlabel(f"{freq.name.replace('_', ' ')}, {freq.unit or 'rad/s'}")
         a["legend1"] = ax1.legend(loc="lower left", fontsize=7, framealpha=0.9)
-        (a["from_rest"],) = ax2.plot([], [], color="0.6", lw=0.8, label="from rest")
-        (a["steady"],) = ax2.plot([], [], color="black", lw=1.2, label="steady state")
-        if self._limit is not None:
-            a["limit_up"] = ax2.axhline(1, color="0.3", lw=0.9, ls="--")
-            a["limit_down"] = ax2.axhline(-1, color="0.3", lw=0.9, ls="--")
-        ax2.set_xlabel("time, ms")
-        ax2.set_ylabel(f"displacement x, {unit}")
-        ax2.set_title("Time history at the operating point", fontsize=10)
+        if self.plan.history == "run-up":
+            movement = self._limit("movement_limit")
+            (a["envelope_up"],) = ax2.plot(
+                [], [], color="0.5", lw=1.0, ls="--", label="steady amplitude at the current speed"
+            )
+            (a["envelope_down"],) = ax2.plot([], [], color="0.5", lw=1.0, ls="--")
+            a["end"] = ax2.axvline(1, color="0.4", lw=0.8, ls=":", label="end of the run-up")
+            (a["run"],) = ax2.plot([], [], color="black", lw=0.5, label="x(t): run-up, then running speed")
+            if movement is not None:
+                label = f"movement limit ±{fmt(Q_(*movement))}"
+                a["limit_up"] = ax2.axhline(1, color="0.3", lw=0.9, ls="-.", label=label)
+                a["limit_down"] = ax2.axhline(-1, color="0.3", lw=0.9, ls="-.")
+            ax2.set_xlabel("time, s")
+            ax2.set_ylabel("displacement x, mm")
+            ax2.set_title("Run-up from rest through resonance", fontsize=10)
+        else:
+            unit = self._amplitude_unit()
+            (a["from_rest"],) = ax2.plot([], [], color="0.6", lw=0.8, label="from rest")
+            (a["steady"],) = ax2.plot([], [], color="black", lw=1.2, label="steady state")
+            if "amplitude_limit" in self._inputs:
+                a["limit_up"] = ax2.axhline(1, color="0.3", lw=0.9, ls="--")
+                a["limit_down"] = ax2.axhline(-1, color="0.3", lw=0.9, ls="--")
+            ax2.set_xlabel("time, ms")
+            ax2.set_ylabel(f"displacement x, {unit}")
+            ax2.set_title("Time history at the operating point", fontsize=10)
         a["legend2"] = ax2.legend(loc="upper right", fontsize=7, framealpha=0.9)
-        for name in self._DYNAMIC:
+        for name in self._dynamic:
             a[name].set_animated(True)
         a["ax1"], a["ax2"] = ax1, ax2
         self._figure, self._artists = fig, a
         self._frame = None  # (limits, cached background)
 
     def _amplitude_unit(self) -> str:
-        return _unit_text(self._limit[0]) if self._limit is not None else "mm"
+        limit = self._inputs.get("amplitude_limit")
+        return limit.unit if limit is not None and limit.unit else "mm"
+
+    @staticmethod
+    def _decades(y: np.ndarray, *also: float) -> tuple[float, float]:
+        """A log axis range in whole decades around the finite positive values."""
+        finite = y[np.isfinite(y) & (y > 0)]
+        top = float(finite.max()) if finite.size else 1.0
+        bottom = float(finite.min()) if finite.size else 1e-6
+        for value in also:
+            if value is not None and math.isfinite(value) and value > 0:
+                top, bottom = max(top, value), min(bottom, value)
+        return (10.0 ** math.floor(math.log10(bottom / 2)), 10.0 ** math.ceil(math.log10(top * 2)))
 
     def _update_figure(self) -> tuple:
         """Put the current curves into the existing artists (no new figure, no new lines).
@@ -903,42 +1483,69 @@ class Explorer:
         if self._figure is None:
             self._make_figure()
         a, r = self._artists, self.results
-        unit = self._amplitude_unit()
-        to_unit = Q_(1, "m").to(unit).magnitude
         freq = self._inputs["forcing_frequency"]
         curves = self._curves()
-        y = curves["curve"] * to_unit
-        a["curve"].set_data(self._grid, y)
         x_op = r.forcing_frequency / freq.factor
-        a["point"].set_data([x_op], [r.amplitude * to_unit])
         wn = r.natural_frequency / freq.factor
         a["natural"].set_xdata([wn, wn])
         _set_span(a["band"], (1 - self._band) * wn, (1 + self._band) * wn)
-        finite = y[np.isfinite(y) & (y > 0)]
-        top = float(finite.max()) if finite.size else 1.0
-        bottom = float(finite.min()) if finite.size else 1e-6
-        lim = float(self._limit[0].magnitude) if self._limit is not None else None
-        if lim is not None:
-            top, bottom = max(top, lim), min(bottom, lim)
-        y_range = (10.0 ** math.floor(math.log10(bottom / 2)), 10.0 ** math.ceil(math.log10(top * 2)))
-        ms = curves["times"] * 1000
-        steady = curves["steady"] * to_unit
-        rest = curves["from_rest"]
-        a["steady"].set_data(ms, steady)
-        a["from_rest"].set_data(ms, rest * to_unit if rest is not None else np.full_like(ms, np.nan))
-        peak = 0.0
-        for v in (steady, rest * to_unit if rest is not None else None):
-            if v is not None and np.isfinite(v).any():
-                peak = max(peak, float(np.max(np.abs(v[np.isfinite(v)]))))
-        peak = max(peak, lim or 0.0)
-        peak = _nice_ceiling(1.1 * peak) if peak > 0 and math.isfinite(peak) else 1.0
-        ranges = (y_range, float(ms[-1]), peak, lim)
+        if self.plan.curve == "transmissibility":
+            y = curves["curve"]
+            a["curve"].set_data(self._grid, y)
+            a["point"].set_data([x_op], [r.transmissibility])
+            a["sqrt2"].set_xdata([math.sqrt(2) * wn] * 2)
+            allowed = 1 - float(self._quantities()["required_isolation"].to("").magnitude)
+            a["required"].set_ydata([allowed, allowed])
+            y_range = self._decades(y, allowed)
+            lim = None
+        else:
+            unit = self._amplitude_unit()
+            to_unit = Q_(1, "m").to(unit).magnitude
+            y = curves["curve"] * to_unit
+            a["curve"].set_data(self._grid, y)
+            a["point"].set_data([x_op], [r.amplitude * to_unit])
+            limit = self._limit("amplitude_limit")
+            lim = float(limit[0]) if limit is not None else None
+            y_range = self._decades(y, lim)
+        if self.plan.history == "run-up":
+            seconds = curves["times"]
+            run_mm = curves["run"] * 1000
+            envelope = curves["envelope"] * 1000
+            a["run"].set_data(seconds, run_mm)
+            a["envelope_up"].set_data(seconds, envelope)
+            a["envelope_down"].set_data(seconds, -envelope)
+            a["end"].set_xdata([self._run.end] * 2)
+            finite = np.abs(run_mm[np.isfinite(run_mm)])
+            peak = float(finite.max()) if finite.size else 0.0
+            peak = _nice_ceiling(1.1 * peak) if peak > 0 and math.isfinite(peak) else 1.0
+            step = _nice_step(float(seconds[-1]), 8)
+            span = math.ceil(float(seconds[-1]) / step) * step  # a whole number of 1-2-5 steps
+            movement = self._limit("movement_limit")
+            lim = float(Q_(*movement).to("mm").magnitude) if movement is not None else None
+            ranges = (y_range, span, peak, lim)
+        else:
+            unit = self._amplitude_unit()
+            to_unit = Q_(1, "m").to(unit).magnitude
+            ms = curves["times"] * 1000
+            steady = curves["steady"] * to_unit
+            rest = curves["from_rest"]
+            a["steady"].set_data(ms, steady)
+            a["from_rest"].set_data(ms, rest * to_unit if rest is not None else np.full_like(ms, np.nan))
+            peak = 0.0
+            for v in (steady, rest * to_unit if rest is not None else None):
+                if v is not None and np.isfinite(v).any():
+                    peak = max(peak, float(np.max(np.abs(v[np.isfinite(v)]))))
+            peak = max(peak, lim or 0.0)
+            peak = _nice_ceiling(1.1 * peak) if peak > 0 and math.isfinite(peak) else 1.0
+            span = float(ms[-1])
+            ranges = (y_range, span, peak, lim)
         if ranges != getattr(self, "_ranges", None):
             a["ax1"].set_ylim(*y_range)
-            a["ax2"].set_xlim(0, float(ms[-1]))
+            a["ax2"].set_xlim(0, span)
             a["ax2"].set_ylim(-peak, peak)
             if lim is not None:
-                a["limit"].set_ydata([lim, lim])
+                if "limit" in a:
+                    a["limit"].set_ydata([lim, lim])
                 a["limit_up"].set_ydata([lim, lim])
                 a["limit_down"].set_ydata([-lim, -lim])
             self._ranges = ranges
@@ -955,7 +1562,7 @@ class Explorer:
             self._frame = (ranges, canvas.copy_from_bbox(self._figure.bbox))
         else:
             canvas.restore_region(self._frame[1])
-        for name in self._DYNAMIC:
+        for name in self._dynamic:
             artist = self._artists[name]
             artist.axes.draw_artist(artist)
         width, height = canvas.get_width_height()
@@ -968,14 +1575,14 @@ class Explorer:
         import matplotlib
 
         self._update_figure()
-        for name in self._DYNAMIC:  # a saved figure leaves animated artists out
+        for name in self._dynamic:  # a saved figure leaves animated artists out
             self._artists[name].set_animated(False)
         try:
             buffer = io.StringIO()
             with matplotlib.rc_context({"svg.hashsalt": "calckit", "svg.fonttype": "path"}):
                 self._figure.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None})
         finally:
-            for name in self._DYNAMIC:
+            for name in self._dynamic:
                 self._artists[name].set_animated(True)
             self._frame = None
         svg = buffer.getvalue()
@@ -988,6 +1595,44 @@ class Explorer:
     # ------------------------------------------------------------ text
     def _rows(self) -> list[tuple[str, str, str, str]]:
         """``(name, symbol, shown value, SI value)`` for each key result."""
+        if self.plan.results == "isolators":
+            return self._isolator_rows()
+        return self._single_mass_rows()
+
+    def _isolator_rows(self) -> list[tuple[str, str, str, str]]:
+        """The results of ``machine_on_isolators`` under its names, shown as its sheet shows them."""
+        got = self.results.si()
+        freq = self._inputs["forcing_frequency"]
+
+        def row(name, label, unit=None, shown_unit=None, extra=""):
+            value = got[name]
+            if unit is None:
+                text = fmt_number(value)
+            elif not math.isfinite(value):
+                text = "unbounded"
+            else:
+                text = fmt(Q_(value, unit).to(shown_unit or unit))
+            return (name, label, text + extra, repr(value))
+
+        wn_alt = f" = {fmt(Q_(got['f_n'], 'Hz'))}"
+        if freq.unit and freq.unit not in ("Hz", "rad/s"):
+            wn_alt += f" = {fmt_number(got['omega_n'] / freq.factor)} {freq.unit}"
+        return [
+            row("omega_n", "natural frequency ω<sub>n</sub>", "rad/s", extra=wn_alt),
+            row("delta_st", "static deflection δ<sub>st</sub>", "m", "mm"),
+            row("r", "frequency ratio r = Ω/ω<sub>n</sub>"),
+            row("e_per", "permissible eccentricity e<sub>per</sub> = G/Ω", "m", "um"),
+            row("U", "residual unbalance U", "kg*m", "g*mm"),
+            row("F_0", "unbalance force F<sub>0</sub> = UΩ²", "N"),
+            row("X", "amplitude X", "m", "um"),
+            row("T", "transmissibility T"),
+            row("F_T", "force into the floor F<sub>T</sub>", "N"),
+            row("eta", "isolation efficiency η = 1 − T", "", "percent"),
+            row("peak_run_up", "largest motion during the run-up", "m", "mm"),
+            row("peak_force_run_up", "largest force into the floor during the run-up", "N"),
+        ]
+
+    def _single_mass_rows(self) -> list[tuple[str, str, str, str]]:
         r = self.results
         freq = self._inputs["forcing_frequency"]
         force_unit = self._inputs["force_amplitude"].unit or "N"
@@ -1324,8 +1969,10 @@ def _document(
 # Opening an explorer
 
 
-def _roles_of(parameters: Mapping[str, Any], names: Mapping[str, str] | None, where: str) -> dict[str, str]:
-    """Model keyword -> the template's parameter name."""
+def _roles_of(
+    plan: Plan, parameters: Mapping[str, Any], names: Mapping[str, str] | None, where: str
+) -> dict[str, str]:
+    """Role -> the template's parameter name, for the roles of *plan*."""
     found: dict[str, str] = {}
     names = dict(names or {})
     for key, name in names.items():
@@ -1333,7 +1980,7 @@ def _roles_of(parameters: Mapping[str, Any], names: Mapping[str, str] | None, wh
             raise InputsError(
                 f'"{key}" is not an input of the explorer\'s model',
                 where="explore(names=...)",
-                do=f"Map these keywords to the template's names: {', '.join(ROLES)}",
+                do=f"Map these keywords to the template's names: {', '.join(plan.roles())}",
             )
         if name not in parameters:
             raise InputsError(
@@ -1342,33 +1989,50 @@ def _roles_of(parameters: Mapping[str, Any], names: Mapping[str, str] | None, wh
                 do=f"The template's parameters are {', '.join(parameters)}",
             )
         found[key] = name
-    for key, role in ROLES.items():
+    for key in plan.roles():
         if key in found:
             continue
-        for name in role.names:
+        candidates = ((plan.names[key],) if key in plan.names else ()) if plan.names else ROLES[key].names
+        for name in candidates:
             if name in parameters:
                 found[key] = name
                 break
     if "damping_ratio" in found and "damping" in found and "damping" not in names:
         del found["damping"]
-    missing = [k for k in _REQUIRED if k not in found]
-    if "damping_ratio" not in found and "damping" not in found:
+    missing = [k for k in plan.required if k != "damping" and k not in found]
+    if "damping" in plan.required and "damping_ratio" not in found and "damping" not in found:
         missing.append("damping")
     if missing:
-        wanted = "; ".join(
-            f"the {ROLES[k].label} ({', '.join(ROLES[k].names)})"
-            if k != "damping"
-            else "the damping (damping_ratio, zeta, damping, damping_coefficient or c)"
-            for k in missing
-        )
+
+        def wanted(key: str) -> str:
+            if key == "damping":
+                return "the damping (damping_ratio, zeta, damping, damping_coefficient or c)"
+            known = (plan.names[key],) if key in plan.names else ROLES[key].names
+            return f"the {ROLES[key].label} ({', '.join(known)})"
+
         raise InputsError(
-            f"the template declares no input for {wanted}",
+            f"the template declares no input for {'; '.join(wanted(k) for k in missing)}",
             where=where,
             do="Explore a template of one mass on a spring and damper under a harmonic force "
             f"(such as {DEFAULT_TEMPLATE}), map its names with names={{'mass': '...'}}, "
             "or give the values directly",
         )
     return found
+
+
+def _plan_of(plan: str | Plan | None, template: str) -> Plan:
+    """The entry of :data:`PLANS` for *template* (or the one asked for)."""
+    if isinstance(plan, Plan):
+        return plan
+    if plan is None:
+        return PLANS.get(template, PLANS[DEFAULT_TEMPLATE])
+    if plan not in PLANS:
+        raise InputsError(
+            f"the explorer has no entry called {plan!r}",
+            where="explore(plan=...)",
+            do=f"Give one of {', '.join(PLANS)}, or a Plan",
+        )
+    return PLANS[plan]
 
 
 def explore(
@@ -1382,12 +2046,14 @@ def explore(
     force_amplitude: Any = None,
     forcing_frequency: Any = None,
     amplitude_limit: Any = None,
+    values: Mapping[str, Any] | None = None,
     names: Mapping[str, str] | None = None,
+    plan: str | Plan | None = None,
     band: float = 0.20,
     points: int = CURVE_POINTS,
     widgets: bool = True,
 ) -> Explorer:
-    """Open the what-if explorer on a single-mass harmonic calculation.
+    """Open the what-if explorer on a template's calculation of one mass under a harmonic force.
 
     Parameters
     ----------
@@ -1396,13 +2062,20 @@ def explore(
         parameters as ``calckit build`` checks it.
     template : str or path, optional
         A template notebook or a bundled template's name; ``single_mass_harmonic``
-        by default. Its parameters say which inputs there are (see the module notes).
+        by default. Its entry in :data:`PLANS` (or its parameter names) says which
+        inputs, results and checks there are (see the module notes).
     mass, stiffness, damping_ratio, damping, force_amplitude, forcing_frequency, amplitude_limit
-        Values given directly: text with a unit (``"1850 kg"``), a pint quantity,
-        or a number for the damping ratio. They replace the file's (or the
-        template's) starting values.
+        Values given directly, by role: text with a unit (``"1850 kg"``), a pint
+        quantity, or a number for the damping ratio. They replace the file's (or
+        the template's) starting values.
+    values : mapping, optional
+        More values given directly, by the template's parameter name or by role
+        (``{"rotor_mass": "200 kg", "balance_grade": "2.5 mm/s"}``).
     names : mapping, optional
-        Model keyword -> the template's parameter name, for names not recognised.
+        Role -> the template's parameter name, for names not recognised.
+    plan : str or Plan, optional
+        The entry to explore the template by (a key of :data:`PLANS`, or a
+        :class:`Plan`); by default the template's own entry, else the single-mass one.
     band : float
         Half-width of the speed-separation band as a fraction (0.20: +/-20 %).
     points : int
@@ -1419,20 +2092,21 @@ def explore(
     ------
     InputsError, UnitsError
         A template without the inputs of the model, an inputs file that does not
-        match its template, a value of the wrong kind or sign, a forcing that is
-        not one harmonic at the forcing frequency.
+        match its template, a value of the wrong kind or sign, values the template
+        refuses, a forcing that is not one harmonic at the forcing frequency.
     BuildError
         No such template.
     """
     tmpl = load_template(template if template is not None else DEFAULT_TEMPLATE)
+    plan = _plan_of(plan, tmpl.name)
     file = None
-    values: dict[str, Any] = dict(tmpl.parameters)
-    wheres = {name: name for name in values}
-    roles = _roles_of(tmpl.parameters, names, where=str(tmpl.path))
+    start: dict[str, Any] = dict(tmpl.parameters)
+    wheres = {name: name for name in start}
+    roles = _roles_of(plan, tmpl.parameters, names, where=str(tmpl.path))
     if inputs is not None:
         file = read_inputs(inputs)
         check_keys(file, tmpl.parameters, path=file.path)
-        values.update(file.assignments(tmpl.parameters))
+        start.update(file.assignments(tmpl.parameters))
         wheres.update({name: file.where(name) for name in file.values})
     given = {
         "mass": mass,
@@ -1447,9 +2121,20 @@ def explore(
         if value is None:
             continue
         if key not in roles:
-            raise _not_declared(key, value, roles, values, tmpl.name)
-        values[roles[key]] = value
+            raise _not_declared(key, value, roles, start, tmpl.name)
+        start[roles[key]] = value
         wheres[roles[key]] = f"explore({key}=...)"
+    by_name = {name: key for key, name in roles.items()}
+    for key, value in (values or {}).items():
+        name = roles.get(key, key)
+        if name not in by_name:
+            raise InputsError(
+                f'"{key}" is not an input the explorer moves on {tmpl.name}',
+                where=f"explore(values={{{key!r}: ...}})",
+                do=f"Give one of: {', '.join(roles.values())}",
+            )
+        start[name] = value
+        wheres[name] = f"explore(values={{{key!r}: ...}})"
     if not isinstance(points, int) or isinstance(points, bool) or points < 10:
         raise InputsError(
             f"expected 10 or more points, got {points!r}", where="explore(points=...)", do="Give an int"
@@ -1462,31 +2147,27 @@ def explore(
         )
 
     items: dict[str, _Input] = {}
-    for key in _SLIDERS:
-        if key not in roles:
+    texts: dict[str, Any] = {}
+    for key in dict.fromkeys((*plan.sliders, *plan.roles())):  # sliders in their order, then the rest
+        if key not in roles or key == "forcing":
             continue
         name = roles[key]
-        items[key] = _input(ROLES[key], name, values[name], wheres.get(name, name))
-    fixed: dict[str, Any] = {}
-    limit = None
-    if "amplitude_limit" in roles:
-        name = roles["amplitude_limit"]
-        q = _checked(ROLES["amplitude_limit"], values[name], wheres.get(name, name))
-        limit = (q, name)
-    if "amplitude_limit_basis" in roles:
-        fixed["amplitude_limit_basis"] = values[roles["amplitude_limit_basis"]]
+        if ROLES[key].kind is None:
+            texts[key] = start[name]
+        else:
+            items[key] = _input(ROLES[key], name, start[name], wheres.get(name, name))
     forcing = _F0 * sp.cos(_w * _t)
     if "forcing" in roles:
         name = roles["forcing"]
-        forcing = _forcing_expr(values[name], wheres.get(name, name))
+        forcing = _forcing_expr(start[name], wheres.get(name, name))
     return Explorer(
         items,
-        fixed,
+        texts,
+        plan=plan,
         template=tmpl,
-        values=values,
+        values=start,
         file=file,
         forcing=forcing,
-        limit=limit,
         band=float(band),
         points=points,
         widgets=widgets,

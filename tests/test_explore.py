@@ -4,6 +4,12 @@ Closed forms used as references (independent of the explorer's compiled derivati
 omega_n = sqrt(k/m), S. S. Rao, Mechanical Vibrations, 5th ed., sec. 2.2, from memory;
 X = (F0/k) M(r, zeta) and phi, ibid. eqs. (3.30)-(3.31), through calckit.harmonic;
 T and F_T = T F0, ibid. sec. 9.10, through calckit.harmonic.transmissibility.
+
+For machine_on_isolators the references are written out here, not taken from calckit:
+transmissibility T = sqrt(1 + (2 zeta r)^2) / sqrt((1 - r^2)^2 + (2 zeta r)^2), Rao 5th ed.
+sec. 9.10, from memory; unbalance force F0 = m_u e w^2 with e = G / w, ISO 21940-11:2016 (the
+grade's definition G = e_per w), from memory, and Rao 5th ed. sec. 3.7, from memory; the run-up
+through resonance against scipy.integrate.solve_ivp on the linear speed ramp itself.
 """
 
 from __future__ import annotations
@@ -27,6 +33,8 @@ from calckit.oscillator import Oscillator
 ROOT = Path(__file__).parent.parent
 EXAMPLE = ROOT / "examples" / "harrow_creek_p101.toml"
 NOTEBOOK = ROOT / "examples" / "explore_p101.ipynb"
+ISOLATORS = ROOT / "examples" / "harrow_creek_p101_isolators.toml"
+ISOLATORS_NOTEBOOK = ROOT / "examples" / "explore_p101_isolators.ipynb"
 
 
 @pytest.fixture()
@@ -345,6 +353,312 @@ class TestStill:
         assert set(bundle) == {"text/html", "text/plain"}
         assert "the sliders need Jupyter with ipywidgets" in bundle["text/html"]
         assert repr(p101).startswith("What-if explorer (single_mass_harmonic)")
+
+
+@pytest.fixture()
+def iso() -> Explorer:
+    return explore(ISOLATORS, "machine_on_isolators")
+
+
+def isolator_closed_form(m, k, zeta, w, m_r, grade) -> dict[str, float]:
+    """Closed forms written out (references in the module notes); SI, grade in m/s."""
+    wn = math.sqrt(k / m)  # Rao 5th ed. sec. 2.2, from memory
+    r = w / wn
+    e = grade / w  # ISO 21940-11: G = e_per w, from memory
+    f0 = m_r * e * w**2  # Rao 5th ed. sec. 3.7: m_u e w^2, from memory
+    d = math.sqrt((1 - r * r) ** 2 + (2 * zeta * r) ** 2)
+    t = math.sqrt(1 + (2 * zeta * r) ** 2) / d  # Rao 5th ed. sec. 9.10, from memory
+    return {
+        "natural_frequency": wn,
+        "frequency_ratio": r,
+        "force_amplitude": f0,
+        "amplitude": f0 / k / d,
+        "transmissibility": t,
+        "transmitted_force": t * f0,
+        "efficiency": 1 - t,
+        "static_deflection": m * 9.80665 / k,  # standard gravity
+    }
+
+
+START = {"m": 1850.0, "k": 720e3, "zeta": 0.05, "w": 1480 * RPM, "m_r": 140.0, "grade": 6.3e-3}
+
+
+def carried(x: float) -> float:
+    """Four significant figures: how the template carries a result into the next step (its own rule)."""
+    return float(f"{x:.4g}")
+
+
+class TestIsolators:
+    def test_sliders(self, iso):
+        """The template's inputs that matter are on sliders with units; stiffness and speed on log scales;
+        the balance grade moves among the ISO 21940-11 grades (Table 1, from memory)."""
+        sliders = iso.sliders
+        assert [s.description for s in sliders.values()] == [
+            "machine mass (kg)",
+            "isolator stiffness (kN/m)",
+            "damping ratio",
+            "running speed (rpm)",
+            "rotor mass (kg)",
+            "balance grade (mm/s)",
+            "run up time (s)",
+        ]
+        assert type(sliders["isolator_stiffness"]).__name__ == "FloatLogSlider"
+        assert type(sliders["running_speed"]).__name__ == "FloatLogSlider"
+        grades = sliders["balance_grade"]
+        assert type(grades).__name__ == "SelectionSlider"
+        assert [label for label, _ in grades.options] == [
+            "G 0.4",
+            "G 1",
+            "G 2.5",
+            "G 6.3",
+            "G 16",
+            "G 40",
+            "G 100",
+            "G 250",
+            "G 630",
+            "G 1600",
+            "G 4000",
+        ]
+        assert grades.value == 6.3
+
+    @pytest.mark.parametrize(
+        "name, value, changed, si",
+        [
+            ("isolator_stiffness", 1500.0, "k", 1e3),
+            ("machine_mass", 2600.0, "m", 1.0),
+            ("damping_ratio", 0.12, "zeta", 1.0),
+            ("running_speed", 600.0, "w", RPM),
+            ("rotor_mass", 300.0, "m_r", 1.0),
+            ("balance_grade", 2.5, "grade", 1e-3),
+        ],
+    )
+    def test_move_matches_closed_forms(self, iso, name, value, changed, si):
+        """After a slider move the oscillator's numbers equal the closed forms, and the template's
+        results (carried at four significant figures) are within that rounding of them."""
+        iso.sliders[name].value = value
+        given = dict(START, **{changed: value * si})
+        expected = isolator_closed_form(**given)
+        got = iso.results
+        for key in (
+            "natural_frequency",
+            "frequency_ratio",
+            "force_amplitude",
+            "amplitude",
+            "transmissibility",
+        ):
+            assert getattr(got, key) == pytest.approx(expected[key], rel=1e-9), key
+        assert got.transmitted_force == pytest.approx(expected["transmitted_force"], rel=1e-9)
+        sheet = shown(iso)  # the results table, by the template's result names
+        assert sheet["omega_n"] == pytest.approx(expected["natural_frequency"], rel=1e-12)
+        assert sheet["delta_st"] == pytest.approx(expected["static_deflection"], rel=1e-12)
+        for key, reference in (
+            ("r", "frequency_ratio"),
+            ("F_0", "force_amplitude"),
+            ("X", "amplitude"),
+            ("T", "transmissibility"),
+            ("F_T", "transmitted_force"),
+            ("eta", "efficiency"),
+        ):
+            assert sheet[key] == pytest.approx(expected[reference], rel=2e-3), key
+
+    def test_unbalance_force_carried_as_the_template_carries_it(self, iso):
+        """F_0 = U w^2 with U = m_r e_per and e_per = G / w (ISO 21940-11, from memory), each carried at
+        four significant figures in um and g mm, as the template's sheet shows them."""
+        iso.set(balance_grade="16 mm/s", rotor_mass="95 kg", running_speed="2950 rpm")
+        w = 2950 * RPM
+        e_um = 16e-3 / w * 1e6
+        u_gmm = 95 * carried(e_um)
+        got = iso.results.si()
+        assert got["e_per"] == pytest.approx(e_um * 1e-6, rel=1e-12)
+        assert got["U"] == pytest.approx(u_gmm * 1e-6, rel=1e-12)
+        assert got["F_0"] == pytest.approx(carried(u_gmm) * 1e-6 * w**2, rel=1e-12)
+        assert iso.results.force_amplitude == pytest.approx(95 * (16e-3 / w) * w**2, rel=1e-12)
+
+    def test_isolation_verdict_flips(self, iso):
+        """Stiffer isolators raise the natural frequency until the isolation efficiency falls below the
+        required 95 %; the crossing solves T(r) = 0.05 in Rao 5th ed. sec. 9.10's form (from memory).
+        The margin is (eta - 95 %) / 95 %, as the sheet gives it."""
+        m, zeta, w, t_allowed = START["m"], START["zeta"], START["w"], 0.05
+        # T^2 d^2 = 1 + (2 zeta r)^2 with x = r^2: T^2 x^2 + (4 zeta^2 (T^2 - 1) - 2 T^2) x + T^2 - 1 = 0
+        a, b, c = t_allowed**2, 4 * zeta**2 * (t_allowed**2 - 1) - 2 * t_allowed**2, t_allowed**2 - 1
+        r_cross = math.sqrt((-b + math.sqrt(b * b - 4 * a * c)) / (2 * a))
+        k_cross_kn = m * (w / r_cross) ** 2 / 1e3
+        seen = {}
+        for factor in (0.97, 1.03):
+            iso.sliders["isolator_stiffness"].value = factor * k_cross_kn
+            verdict, margin = verdicts(iso)["isolation efficiency"]
+            eta = iso.results.si()["eta"] * 100
+            assert margin == pytest.approx((eta - 95) / 95 * 100, rel=1e-9)
+            seen[factor] = verdict
+        assert seen == {0.97: "met", 1.03: "not met"}
+        check = iso.results.check("isolation efficiency")
+        assert check.basis == "Harrow Creek pump specification (invented for the demonstration)"
+
+    def test_frequency_ratio_and_separation_checks(self, iso):
+        """r >= 3 for isolation and +/-20 % speed separation (common practice, no source), with the
+        template's bases; both flip as the speed comes down towards the natural frequency."""
+        assert verdicts(iso)["frequency ratio for isolation"][0] == "met"
+        wn_rpm = math.sqrt(START["k"] / START["m"]) / RPM
+        iso.sliders["running_speed"].value = 2.9 * wn_rpm
+        verdict, margin = verdicts(iso)["frequency ratio for isolation"]
+        r = iso.results.si()["r"]
+        assert verdict == "not met" and margin == pytest.approx((r - 3) / 3 * 100, rel=1e-9)
+        assert iso.results.check("speed separation").verdict == "met"
+        iso.sliders["running_speed"].value = 1.15 * wn_rpm
+        separation = abs(iso.results.frequency_ratio - 1) * 100
+        verdict, margin = verdicts(iso)["speed separation"]
+        assert verdict == "not met" and margin == pytest.approx((separation - 20) / 20 * 100, rel=1e-9)
+        bases = {c.name: c.basis for c in iso.results.checks}
+        assert bases["frequency ratio for isolation"] == (
+            "common practice, no source: isolation needs r > sqrt(2), usually r >= 3"
+        )
+        assert bases["speed separation"].startswith(
+            "common practice, no source: keep the operating frequency"
+        )
+
+    def test_run_up_against_solve_ivp(self, iso):
+        """The largest motion during the run-up (steps of constant speed) is within 1 % of
+        scipy.integrate.solve_ivp on the linear speed ramp itself."""
+        from scipy.integrate import solve_ivp
+
+        iso.set(isolator_stiffness="300 kN/m", run_up_time="2 s")
+        m, k, zeta, w, t_ru = START["m"], 300e3, START["zeta"], START["w"], 2.0
+        c = 2 * zeta * math.sqrt(k * m)
+        u = START["m_r"] * START["grade"] / w
+
+        def rhs(t, y):
+            speed = w * t / t_ru
+            theta = w * t * t / (2 * t_ru)
+            return [y[1], (u * speed**2 * math.cos(theta) - c * y[1] - k * y[0]) / m]
+
+        done = solve_ivp(rhs, (0, t_ru), [0.0, 0.0], method="DOP853", rtol=1e-9, atol=1e-14, max_step=1e-3)
+        reference = float(np.max(np.abs(done.y[0])))
+        assert iso.results.si()["peak_run_up"] == pytest.approx(reference, rel=0.01)
+        assert iso.results.check("motion during run-up").value == pytest.approx(reference * 1000, rel=0.01)
+
+    def test_plot_follows(self, iso):
+        """The left plot is T(w) of the closed form with the operating point on it; the right one the run-up."""
+        iso.sliders["isolator_stiffness"].value = 2000.0
+        curve = iso._artists["curve"]
+        rpm, t = curve.get_xdata(), curve.get_ydata()
+        reference = [
+            isolator_closed_form(**dict(START, k=2e6, w=x * RPM))["transmissibility"] for x in rpm[::50]
+        ]
+        np.testing.assert_allclose(t[::50], reference, rtol=1e-9)
+        point = iso._artists["point"]
+        assert point.get_xdata()[0] == pytest.approx(1480)
+        assert point.get_ydata()[0] == pytest.approx(iso.results.transmissibility, rel=1e-12)
+        times = iso._artists["run"].get_xdata()
+        assert times[0] == 0 and times[-1] > 4
+
+    def test_no_derivation_on_a_move(self, iso, monkeypatch):
+        """Symbolic once: moves, run-up included, evaluate compiled functions and never call the engine."""
+
+        def refuse(*args, **kwargs):
+            raise AssertionError("the engine ran on a slider move")
+
+        monkeypatch.setattr(Oscillator, "particular", refuse)
+        monkeypatch.setattr(Oscillator, "response", refuse)
+        iso.sliders["machine_mass"].value = 2000.0
+        iso.sliders["balance_grade"].value = 16.0
+        iso.sliders["run_up_time"].value = 6.0
+        assert iso.results.si()["run_up_steps"] >= 100
+
+    def test_refuses_what_the_template_refuses(self, iso):
+        """A rotor heavier than the machine: refused with the template's message; a slider goes back."""
+        with pytest.raises(InputsError) as caught:
+            iso.set(rotor_mass="2000 kg")
+        assert str(caught.value) == (
+            "rotor_mass: the rotor (2000 kg) is heavier than everything on the isolators (1850 kg). "
+            "Give the rotating parts only in rotor_mass and the whole machine in machine_mass."
+        )
+        assert iso.values["rotor_mass"].magnitude == 140
+        iso.set(machine_mass="300 kg")
+        iso.sliders["rotor_mass"].value = 350.0
+        assert iso.values["rotor_mass"].magnitude == 140
+        assert iso.sliders["rotor_mass"].value == 140
+        assert "is heavier than everything on the isolators" in iso.controls["status"].value
+
+    def test_plan_on_a_template_without_its_inputs(self):
+        """The isolators' entry on a template that does not declare its inputs names what is missing."""
+        with pytest.raises(InputsError) as caught:
+            explore(template="single_mass_harmonic", plan="machine_on_isolators")
+        assert str(caught.value).endswith(
+            "single_mass_harmonic.ipynb: the template declares no input for the mass (machine_mass); the "
+            "stiffness (isolator_stiffness); the forcing frequency (running_speed); the rotor mass (rotor_mass); "
+            "the balance quality grade (balance_grade); the run-up time (run_up_time); the least isolation "
+            "efficiency (required_isolation); the basis of the isolation (required_isolation_basis); the "
+            "movement limit (movement_limit); the basis of the movement limit (movement_limit_basis). Explore a "
+            "template of one mass on a spring and damper under a harmonic force (such as single_mass_harmonic), "
+            "map its names with names={'mass': '...'}, or give "
+            "the values directly."
+        )
+
+    def test_keep_changes_only_the_moved_lines(self, iso, tmp_path):
+        """The kept file is the inputs file, tables and comments kept, with the moved values replaced."""
+        iso.set(isolator_stiffness="900 kN/m", balance_grade="2.5 mm/s")
+        kept = iso.keep(tmp_path / "kept.toml")
+        old = ISOLATORS.read_text(encoding="utf-8").splitlines()
+        new = kept.path.read_text(encoding="utf-8").splitlines()
+        differ = [(a, b) for a, b in zip(old, new[1:], strict=True) if a != b]
+        assert differ == [
+            (
+                'balance_grade = "6.3 mm/s"       # G 6.3, the grade usually asked of pump rotors (invented spec)',
+                'balance_grade = "2.5 mm/s"       # G 6.3, the grade usually asked of pump rotors (invented spec)',
+            ),
+            (
+                'isolator_stiffness = "720 kN/m"  # six steel spring isolators together, vertical (invented)',
+                'isolator_stiffness = "900 kN/m"  # six steel spring isolators together, vertical (invented)',
+            ),
+        ]
+
+    @pytest.mark.slow
+    def test_kept_file_rebuilds_the_same_numbers(self, iso, tmp_path):
+        """calckit's own build of the kept file gives the explorer's results and checks: every result of
+        the sheet to 1e-12 (the run-up's peaks to 1e-9: they are summed step by step in another order)."""
+        iso.sliders["isolator_stiffness"].value = 1234.5678
+        iso.sliders["running_speed"].value = 987.0
+        iso.sliders["balance_grade"].value = 16.0
+        iso.sliders["damping_ratio"].value = 0.03
+        iso.set(movement_limit="0.05 mm")
+        kept = iso.keep(tmp_path / "kept.toml")
+        record = build_in_child("machine_on_isolators", kept.path, tmp_path / "built")
+        built = {item["name"]: item["value"] for item in record["results"]}
+        mine = iso.results.si()
+        assert set(built) == set(mine)
+        for name in built:
+            rel = 1e-9 if name.startswith("peak_") else 1e-12
+            assert built[name] == pytest.approx(mine[name], rel=rel), name
+        assert [c["name"] for c in record["checks"]] == [c.name for c in iso.results.checks]
+        for check in record["checks"]:
+            ours = iso.results.check(check["name"])
+            assert (check["verdict"], check["basis"], check["limit"]) == (
+                ours.verdict,
+                ours.basis,
+                ours.limit,
+            )
+            assert check["value"] == pytest.approx(ours.value, rel=1e-9)
+            assert check["margin_percent"] == pytest.approx(ours.margin_percent, abs=1e-6)
+        assert iso.results.check("motion during run-up").verdict == "not met"
+
+
+def build_in_child(template: str, inputs: Path, out: Path) -> dict:
+    """calckit.workflow.build_sheet in a child process (the kernel client may leave sockets open,
+    which warnings-as-errors would turn into failures here); returns the sheet's JSON record."""
+    script = textwrap.dedent(
+        f"""
+        import json, sys, warnings
+        warnings.simplefilter("ignore")
+        from calckit.workflow import build_sheet
+        result = build_sheet({template!r}, {str(inputs)!r}, {str(out)!r})
+        sys.stdout.write(json.dumps(result.record))
+        """
+    )
+    done = subprocess.run(
+        [sys.executable, "-c", script], capture_output=True, text=True, cwd=ROOT, timeout=600, check=False
+    )
+    assert done.returncode == 0, done.stderr[-3000:]
+    return json.loads(done.stdout)
 
 
 @pytest.mark.slow
