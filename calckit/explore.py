@@ -111,14 +111,12 @@ from .workflow import load_template
 
 __all__ = ["explore", "Explorer", "WhatIf", "Kept", "Plan", "PLANS", "ROLES", "SEPARATION_BASIS"]
 
-#: Basis of the speed-separation check of the single-mass template.
+#: Basis of the speed-separation check, in the words of :meth:`calckit.Sheet.separation_check`,
+#: which both supported templates use.
 SEPARATION_BASIS = (
-    "common practice, no source: keep running speed outside about +/-20 % of a natural frequency"
-)
-#: Basis of the speed-separation check as :meth:`calckit.Sheet.separation_check` words it.
-SHEET_SEPARATION_BASIS = (
     "common practice, no source: keep the operating frequency outside about +/-20 % of a natural frequency"
 )
+SHEET_SEPARATION_BASIS = SEPARATION_BASIS
 #: Basis of the frequency-ratio check of ``machine_on_isolators`` (the template's words).
 RATIO_BASIS = "common practice, no source: isolation needs r > sqrt(2), usually r >= 3"
 #: Least frequency ratio for isolation (common practice, no source).
