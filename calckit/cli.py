@@ -24,14 +24,18 @@ traceback.
 from __future__ import annotations
 
 import argparse
+import ast
+import importlib
+import importlib.util
 import inspect
 import re
 import sys
 import textwrap
+import types
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-from . import diffing, workflow
+from . import workflow
 from ._version import __version__
 from .errors import CalcError
 
@@ -70,6 +74,28 @@ def _param(func: Callable, name: str) -> str:
     raise LookupError(f"{func.__name__} does not document {name}")
 
 
+def _documented(module: str, name: str) -> Callable | types.SimpleNamespace:
+    """A function of *module*, or a stand-in carrying its docstring read from the source.
+
+    The help texts need only the docstrings, so the command line does not import
+    the modules it does not run (``diff`` needs the units registry, which takes
+    a while to load, and ``build`` does not).
+    """
+    if module in sys.modules:
+        return getattr(sys.modules[module], name)
+    try:
+        spec = importlib.util.find_spec(module)
+        source = Path(spec.origin).read_text(encoding="utf-8")
+        for node in ast.parse(source).body:
+            if isinstance(node, ast.FunctionDef) and node.name == name:
+                doc = ast.get_docstring(node)
+                if doc:
+                    return types.SimpleNamespace(__name__=name, __doc__=doc)
+    except (AttributeError, ImportError, OSError, SyntaxError, TypeError, ValueError):
+        pass
+    return getattr(importlib.import_module(module), name)
+
+
 def parser() -> argparse.ArgumentParser:
     """The argument parser of the ``calckit`` command."""
     top = argparse.ArgumentParser(
@@ -100,9 +126,10 @@ def parser() -> argparse.ArgumentParser:
     build.add_argument("--pdf", action="store_true", help=_param(workflow.build_sheet, "pdf"))
     build.add_argument("--overwrite", action="store_true", help=_param(workflow.build_sheet, "overwrite"))
 
-    diff = command("diff", diffing.diff_sheets)
-    diff.add_argument("old", metavar="OLD", help=_param(diffing.diff_sheets, "old"))
-    diff.add_argument("new", metavar="NEW", help=_param(diffing.diff_sheets, "new"))
+    diff_sheets = _documented("calckit.diffing", "diff_sheets")
+    diff = command("diff", diff_sheets)
+    diff.add_argument("old", metavar="OLD", help=_param(diff_sheets, "old"))
+    diff.add_argument("new", metavar="NEW", help=_param(diff_sheets, "new"))
     diff.add_argument("--html", metavar="FILE", help="Also write the report as a self-contained HTML page.")
 
     batch = command("batch", workflow.run_batch)
@@ -162,6 +189,8 @@ def _run_build(args: argparse.Namespace) -> int:
 
 
 def _run_diff(args: argparse.Namespace) -> int:
+    from . import diffing
+
     report = diffing.diff_sheets(args.old, args.new)
     print(f"Comparing {report.old}")
     print(f"     with {report.new}")

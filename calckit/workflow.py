@@ -26,8 +26,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
    title-block fields the template declares, ``inputs_file`` (the inputs file's
    name) and ``template_text`` (a SHA-256 of the template's cell sources, so
    that metadata Jupyter rewrites on save does not count). The notebook runs in
-   a fresh ``python3`` kernel of the interpreter calckit runs in, with a
-   temporary folder as its working folder. The template itself saves nothing:
+   a new ``python3`` kernel of the interpreter calckit runs in (see "Kernels"
+   below), with a temporary folder as its working folder. The kernel is started
+   first; the template and the inputs are read and checked while it starts and
+   imports calckit, and a bad input still stops the build before any cell
+   runs. The template itself saves nothing:
    after its last cell the build runs one more cell, tagged ``save-sheet``,
    that calls :func:`save_built_sheet` on ``sheet`` to write ``<stem>.json``,
    ``<stem>.html`` and, with ``pdf=True``, ``<stem>.pdf`` into the temporary
@@ -64,14 +67,44 @@ Dask cluster's executor::
 
 The workers must see the template, the inputs and the output folder at the same
 paths (a shared file system) and have calckit and ipykernel installed. A case
-that fails is recorded in the summary with its message; the others go on.
+that fails is recorded in the summary with its message; the others go on. Each
+worker (process, or thread of one) keeps one kernel for the cases it runs.
 
-Kernels are not reused between cases: each case runs in a fresh kernel, so
-that a case's sheet is exactly the sheet ``calckit build`` gives for the same
-inputs and never depends on which case ran before in the same kernel (globals,
-module caches, matplotlib state). What is reused is the worker process: it
-imports calckit and the Jupyter client once and then runs case after case;
-the kernel start-up (about a second) is the price of that isolation.
+Kernels
+-------
+Every sheet, built alone or as a case of a batch, goes through the same steps
+in its kernel: the kernel starts in a private temporary folder and runs a
+warm-up once (:func:`_kernel_warm_up`: it imports matplotlib with the Agg
+backend, numpy, sympy and all of calckit, and records the state a template can
+change); before the sheet's cells run, a reset (:func:`_kernel_reset`) puts
+that state back; then the template's cells and the save cell run. A build
+uses its kernel once and kills it. A batch worker keeps its kernel and runs
+the next case in it after the same reset, so that a case costs the template's
+own work, not a kernel start and the imports (seconds).
+
+Why a case cannot see the case before it: the reset clears the user's
+namespace (IPython's reset: every name, the output history, the execution
+count back to 1), closes all figures and restores matplotlib's rcParams as
+recorded, changes to the case's own working folder, restores the environment
+variables, ``sys.path``, the warning filters (and forgets which warnings were
+shown), numpy's error and print settings, sympy's global parameters,
+the recursion limit, IPython's display formatters, event hooks and
+transformers; it empties sympy's cache and calckit's own caches and reseeds
+``random`` and numpy's global generator from the system, as a new process
+would. The state it cannot put back is checked instead: a replaced
+``sys.stdout`` or hook, a changed builtin, changed import hooks, units
+defined in calckit's registry, a module imported from outside the
+installation (a case's own folder, say). Any of these, and any case that timed
+out, killed its kernel or failed other than by a cell's error, makes the
+worker kill the kernel and run the next case in a new one. What remains
+shared is what the warm-up loaded (the modules, their code) and modules the
+templates imported from the installation. ``tests/test_batch_isolation.py``
+checks it: a case that sets a global, matplotlib settings, numpy options, an
+environment variable, warning filters and the working folder, and leaves a
+figure open, is followed by one whose sheet (record, HTML and notebook) is
+byte for byte the sheet built alone, and a case that adds a builtin sends the
+next case to a new kernel. A kept kernel is killed when its worker process
+ends.
 
 Examples
 --------
@@ -82,7 +115,10 @@ Examples
 
 from __future__ import annotations
 
+import asyncio
+import atexit
 import concurrent.futures as cf
+import contextlib
 import csv
 import dataclasses
 import hashlib
@@ -96,24 +132,19 @@ import shutil
 import site
 import sys
 import tempfile
+import threading
 import time
 import tomllib
 import warnings
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from .errors import BuildError, CalcError, InputsError, OverwriteError
-from .inputs import (
-    TITLE_FIELDS,
-    InputsFile,
-    check_keys,
-    injected_source,
-    parameters_from_source,
-    read_inputs,
-)
-from .sheet import existing_fingerprint
+
+if TYPE_CHECKING:  # the real imports are inside the functions: sympy and pint stay out of the CLI's start
+    from .inputs import InputsFile
 
 __all__ = [
     "PARAMETERS_TAG",
@@ -236,6 +267,8 @@ class Template:
     @property
     def inputs(self) -> list[str]:
         """Parameter names an inputs file must give (all but the title-block fields)."""
+        from .inputs import TITLE_FIELDS
+
         return [name for name in self.parameters if name not in TITLE_FIELDS]
 
 
@@ -317,6 +350,8 @@ def load_template(template: str | os.PathLike) -> Template:
         literals.
     """
     import nbformat
+
+    from .inputs import parameters_from_source
 
     path = _find_template(template)
     try:
@@ -418,6 +453,8 @@ def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -
 
 
 def _inputs_cell_source(assignments: Mapping[str, Any], inputs_label: str, digest: str) -> str:
+    from .inputs import injected_source
+
     text = injected_source(assignments)
     label = f"# Inputs set by calckit build from {inputs_label}\n"
     text = label + text.split("\n", 1)[1] if text.startswith("# Inputs set by calckit build") else text
@@ -469,6 +506,406 @@ def _kernel_manager() -> Any:
             )
 
     return AsyncKernelManager(kernel_name="python3", kernel_spec_manager=ThisPython())
+
+
+# ---------------------------------------------------------------------------
+# Kernels: one per build, one per batch worker (reused from case to case)
+#
+# Every case, whether built alone or in a batch, runs in a kernel through the same
+# steps: the kernel starts (its folder is a private temporary one), runs the
+# warm-up below once, then before the case the reset below, then the template's
+# cells and the save cell. A lone build starts a kernel, uses it once and kills
+# it; a batch worker keeps its kernel and resets it before the next case.
+
+#: Seconds a kernel may take to start and import calckit.
+KERNEL_START_TIMEOUT_S = 180
+
+_BASELINE: dict[str, Any] = {}
+
+
+def _kernel_warm_up() -> None:
+    """Run once in a new kernel: import what templates use, then record the state to reset to.
+
+    The imports are the ones every template makes (``import calckit`` imports
+    all of calckit); they hold no case's data. What is recorded is what a
+    template can change and :func:`_kernel_reset` puts back.
+    """
+    import builtins
+    import random
+    import warnings
+
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot  # noqa: F401
+    import numpy as np
+    import sympy  # noqa: F401
+    from sympy.core.parameters import global_parameters
+
+    import calckit
+
+    for name in calckit.__all__:  # the package loads lazily; a kernel wants all of it
+        getattr(calckit, name)
+    from IPython import get_ipython
+
+    shell = get_ipython()
+    rc = dict(matplotlib.rcParams.copy())
+    rc.pop("backend", None)
+    formatters = shell.display_formatter.formatters
+    _BASELINE.clear()
+    _BASELINE.update(
+        user_ns={k: v for k, v in shell.user_ns.items() if isinstance(v, str | type(None))},
+        rc=rc,
+        environ=dict(os.environ),
+        path=list(sys.path),
+        meta_path=list(sys.meta_path),
+        filters=list(warnings.filters),
+        numpy_err=np.geterr(),
+        numpy_print=np.get_printoptions(),
+        sympy=dict(vars(global_parameters)),
+        recursion=sys.getrecursionlimit(),
+        streams=(sys.stdout, sys.stderr, sys.displayhook, sys.excepthook),
+        builtins={k: v for k, v in vars(builtins).items() if k != "_"},
+        formatters={
+            mime: (dict(f.type_printers), dict(f.deferred_printers), dict(f.singleton_printers))
+            for mime, f in formatters.items()
+        },
+        events={name: list(hooks) for name, hooks in shell.events.callbacks.items()},
+        transformers=(list(shell.ast_transformers), list(shell.input_transformers_post)),
+        modules=set(sys.modules),
+        units=_units_state(),
+    )
+    random.seed()  # (the reset reseeds too: a case never sees the numbers of another)
+
+
+def _units_state() -> tuple:
+    """calckit's unit registry: its units (bar the prefixed ones pint adds as they are used) and defaults."""
+    from .units import ureg
+
+    units = set(ureg._units)
+    prefixes = [p for p in ureg._prefixes if p]
+    own = frozenset(u for u in units if not any(u.startswith(p) and u[len(p) :] in units for p in prefixes))
+    formatter = getattr(ureg, "formatter", ureg)
+    return (own, getattr(formatter, "default_format", None), ureg.default_system)
+
+
+def _installed_module(module: Any) -> bool:
+    """Whether a module comes with Python or an installed package (or calckit), not a case's folder."""
+    where = getattr(module, "__file__", None)
+    if not where:
+        return True
+    roots = {sys.prefix, sys.base_prefix, sys.exec_prefix, str(Path(__file__).resolve().parent)}
+    roots.update(site.getsitepackages(), [site.getusersitepackages()])
+    where = os.path.realpath(where)
+    return any(where.startswith(os.path.realpath(root) + os.sep) for root in roots)
+
+
+def _kernel_reset(folder: str) -> None:
+    """Run in the kernel before each case: put back the state the warm-up recorded.
+
+    Clears the user's namespace (IPython's reset: names, output history,
+    execution count back to 1), closes every figure and restores matplotlib's
+    rcParams, the working folder (*folder*), environment variables,
+    ``sys.path``, warning filters (and which warnings were already shown),
+    numpy's error and print settings, sympy's global parameters and cache,
+    calckit's caches, IPython's display formatters, event hooks and
+    transformers, and reseeds ``random`` and numpy's global generator from the
+    system, as a new process would. What cannot be put back (a new builtin, a
+    replaced ``sys.stdout``, a module imported from outside the installation,
+    units defined in calckit's registry, changed import hooks) raises
+    ``RuntimeError``: the caller then replaces the kernel by a new one.
+    """
+    import builtins
+    import gc
+    import random
+    import warnings
+
+    import matplotlib
+    import matplotlib.pyplot as plt
+    import numpy as np
+    from IPython import get_ipython
+    from sympy.core.cache import clear_cache
+    from sympy.core.parameters import global_parameters
+
+    base = _BASELINE
+    if not base:
+        raise RuntimeError("the kernel was not warmed up")
+    os.chdir(folder)  # first: the last case's folder is gone, and IPython's reset asks for the working folder
+    shell = get_ipython()
+    shell.reset(new_session=True)
+    for key, value in base["user_ns"].items():
+        shell.user_ns.setdefault(key, value)
+    plt.close("all")
+    matplotlib.rcParams._update_raw(base["rc"])
+    if dict(os.environ) != base["environ"]:
+        os.environ.clear()
+        os.environ.update(base["environ"])
+    sys.path[:] = base["path"]
+    warnings.resetwarnings()  # also forgets which warnings were shown already
+    warnings.filters[:] = base["filters"]
+    np.seterr(**base["numpy_err"])
+    np.set_printoptions(**base["numpy_print"])
+    for key, value in base["sympy"].items():
+        setattr(global_parameters, key, value)
+    sys.setrecursionlimit(base["recursion"])
+    for mime, (types, deferred, singletons) in base["formatters"].items():
+        formatter = shell.display_formatter.formatters[mime]
+        for held, saved in (
+            (formatter.type_printers, types),
+            (formatter.deferred_printers, deferred),
+            (formatter.singleton_printers, singletons),
+        ):
+            held.clear()
+            held.update(saved)
+    for name, hooks in base["events"].items():
+        shell.events.callbacks[name][:] = hooks
+    shell.ast_transformers[:], shell.input_transformers_post[:] = (list(t) for t in base["transformers"])
+    clear_cache()
+    for name, module in list(sys.modules.items()):
+        if name == "calckit" or name.startswith("calckit."):
+            for value in list(vars(module).values()):
+                if callable(getattr(value, "cache_clear", None)) and hasattr(value, "cache_info"):
+                    value.cache_clear()
+    random.seed()
+    np.random.seed()
+    gc.collect()
+
+    problems = []
+    if (sys.stdout, sys.stderr, sys.displayhook, sys.excepthook) != base["streams"]:
+        problems.append("sys.stdout, sys.stderr or a hook was replaced")
+    now = {k: v for k, v in vars(builtins).items() if k != "_"}  # "_": the last result shown
+    if now.keys() != base["builtins"].keys() or any(_differs(now[k], v) for k, v in base["builtins"].items()):
+        changed = sorted(
+            set(now) ^ set(base["builtins"])
+            | {k for k, v in base["builtins"].items() if _differs(now.get(k), v)}
+        )
+        problems.append(f"builtins were changed ({', '.join(changed[:5])})")
+    if sys.meta_path != base["meta_path"]:
+        problems.append("import hooks were changed")
+    if _units_state() != base["units"]:
+        problems.append("the unit registry was changed")
+    foreign = [
+        name
+        for name in set(sys.modules) - base["modules"]
+        if sys.modules[name] is not None and not _installed_module(sys.modules[name])
+    ]
+    if foreign:
+        problems.append(
+            f"modules from outside the installation were imported: {', '.join(sorted(foreign)[:3])}"
+        )
+    if problems:
+        raise RuntimeError("the kernel cannot be reset: " + "; ".join(problems))
+
+
+def _differs(a: Any, b: Any) -> bool:
+    """Not the same object, nor an equal one (the kernel binds ``input`` anew for each request)."""
+    try:
+        return a is not b and not bool(a == b)
+    except Exception:
+        return True
+
+
+class _ResetError(BuildError):
+    """The kernel could not be put back to its warmed-up state (a kept kernel is then replaced)."""
+
+
+_IN_KERNEL = "__import__('calckit.workflow', fromlist=['_'])."
+
+
+class _Kernel:
+    """An ipykernel of this interpreter, driven through nbclient, that can run case after case."""
+
+    def __init__(self) -> None:
+        self.folder = Path(tempfile.mkdtemp(prefix="calckit-kernel-")).resolve()
+        self.log = open(self.folder / "kernel.log", "wb")  # noqa: SIM115 (the kernel's stdout and stderr)
+        self.km: Any = None
+        self.kc: Any = None
+        self.language_info: dict = {}
+        self.cases = 0
+        self.healthy = False
+
+    async def start(self) -> None:
+        """Launch the kernel process; returns without waiting for it to be ready."""
+        self.km = _kernel_manager()
+        await self.km.start_kernel(
+            cwd=str(self.folder),
+            env=_kernel_env(),
+            stdout=self.log,
+            stderr=self.log,
+            extra_arguments=["--HistoryManager.hist_file=:memory:"],
+        )
+        self.kc = self.km.client()
+        self.kc.start_channels()
+
+    async def warm_up(self) -> None:
+        """Wait for the kernel, ask for its language (for the notebook), run the warm-up."""
+        await self.kc.wait_for_ready(timeout=KERNEL_START_TIMEOUT_S)
+        reply = await self.kc.kernel_info(reply=True, timeout=KERNEL_START_TIMEOUT_S)
+        self.language_info = reply["content"].get("language_info", {})
+        await self._silent(_IN_KERNEL + "_kernel_warm_up()", KERNEL_START_TIMEOUT_S)
+        self.healthy = True
+
+    async def reset(self, folder: Path) -> None:
+        """Put the kernel back to its warmed-up state, working in *folder* (raises if it cannot)."""
+        try:
+            await self._silent(_IN_KERNEL + f"_kernel_reset({str(folder)!r})", KERNEL_START_TIMEOUT_S)
+        except BuildError as exc:
+            raise _ResetError(exc.what, where=exc.where, do=exc.do) from None
+
+    async def _silent(self, code: str, timeout: float) -> None:
+        """Run code of the build's own (no output, no history, no execution count)."""
+        import queue
+
+        try:
+            reply = await self.kc.execute(code, silent=True, store_history=False, reply=True, timeout=timeout)
+        except (TimeoutError, queue.Empty):
+            self.healthy = False
+            raise BuildError(
+                f"the kernel did not answer within {timeout:g} s",
+                where="kernel python3",
+                do="Check that ipykernel works in this environment: python -m ipykernel_launcher --help",
+            ) from None
+        content = reply["content"]
+        if content.get("status") != "ok":
+            self.healthy = False
+            raise BuildError(
+                f"{content.get('ename', 'error')}: {content.get('evalue', '')}".strip(),
+                where="kernel python3",
+                do="Check that calckit imports in this environment: python -c 'import calckit'",
+            )
+
+    async def run(self, notebook: Any, timeout: int) -> None:
+        """Run every cell of *notebook* as nbclient's ``execute`` does, in this kernel."""
+        from nbclient import NotebookClient
+
+        self.cases += 1
+        self.healthy = False  # until the notebook has run to its end
+        client = NotebookClient(
+            notebook,
+            timeout=timeout,
+            kernel_name="python3",
+            km=self.km,
+            allow_errors=False,
+            record_timing=False,
+        )
+        client.kc = self.kc
+        client.reset_execution_trackers()
+        notebook.metadata["language_info"] = self.language_info
+        for index, cell in enumerate(notebook.cells):
+            await client.async_execute_cell(cell, index, execution_count=client.code_cells_executed + 1)
+        client.set_widgets_metadata()
+        self.healthy = True
+
+    def last_words(self) -> str:
+        self.log.flush()
+        text = (self.folder / "kernel.log").read_text(encoding="utf-8", errors="replace").strip()
+        return text.splitlines()[-1].strip() if text else "no message"
+
+    async def aclose(self) -> None:
+        """Kill the kernel (what it wrote is written: its replies came) and free its sockets and files."""
+        if self.km is not None:
+            with contextlib.suppress(Exception):  # closing must not hide the build's own outcome
+                if self.kc is not None:
+                    self.kc.stop_channels()
+                await self.km.shutdown_kernel(now=True)
+        self.close()
+
+    def close(self) -> None:
+        """:meth:`aclose` without an event loop (at exit): kill the process, remove the files."""
+        self.healthy = False
+        try:
+            if self.kc is not None:
+                self.kc.stop_channels()
+            process = getattr(getattr(self.km, "provisioner", None), "process", None)
+            if process is not None and process.poll() is None:
+                process.kill()
+                process.wait(timeout=10)
+            if self.km is not None:
+                self.km.cleanup_connection_file()
+                if getattr(self.km, "_created_context", False):
+                    self.km.context.destroy(linger=0)
+        except Exception:  # noqa: S110 (closing must not hide the build's own outcome)
+            pass
+        finally:
+            self.kc = self.km = None
+            if not self.log.closed:
+                self.log.close()
+            shutil.rmtree(self.folder, ignore_errors=True)
+
+
+@contextlib.contextmanager
+def _quiet_clients():
+    with warnings.catch_warnings():
+        # the Jupyter client libraries warn about their own internals (event loops,
+        # sockets closed at exit, dates without time zones); none of it concerns the sheet
+        for category in (DeprecationWarning, ResourceWarning, RuntimeWarning, UserWarning):
+            warnings.filterwarnings(
+                "ignore", category=category, module=r"(jupyter_client|jupyter_core|nbclient|zmq|traitlets)"
+            )
+        warnings.filterwarnings("ignore", category=ResourceWarning)
+        yield
+
+
+_LOCAL = threading.local()
+_KEPT: list[_Kernel] = []  # kernels kept by batch workers, killed when the process exits
+
+
+@atexit.register
+def _close_kept() -> None:
+    while _KEPT:
+        _KEPT.pop().close()
+
+
+def _loop() -> asyncio.AbstractEventLoop:
+    """This thread's event loop, kept for the thread's life (a kept kernel's sockets live on it)."""
+    loop = getattr(_LOCAL, "loop", None)
+    if loop is None or loop.is_closed():
+        loop = _LOCAL.loop = asyncio.new_event_loop()
+    return loop
+
+
+def _loop_running() -> bool:
+    try:
+        asyncio.get_running_loop()
+    except RuntimeError:
+        return False
+    return True
+
+
+def _run_sync(make: Callable[[], Any]) -> Any:
+    """Run the coroutine ``make()`` to its end, also from a thread where an event loop runs (Jupyter)."""
+    if not _loop_running():
+        with _quiet_clients():
+            return _loop().run_until_complete(make())
+
+    def run_apart() -> Any:  # a notebook's own loop runs here: run ours in a thread, then close it
+        loop = asyncio.new_event_loop()
+        try:
+            with _quiet_clients():
+                return loop.run_until_complete(make())
+        finally:
+            loop.close()
+
+    with cf.ThreadPoolExecutor(1) as pool:
+        return pool.submit(run_apart).result()
+
+
+async def _start_kernel() -> _Kernel:
+    kernel = _Kernel()
+    try:
+        await kernel.start()
+    except BaseException:
+        await kernel.aclose()
+        raise
+    return kernel
+
+
+def _dead_kernel(kernel: _Kernel, template: Template) -> BuildError:
+    return BuildError(
+        f"the kernel died while running the template (its last words: {kernel.last_words()})",
+        where=str(template.path),
+        do="Check the template for a crash or a memory blow-up",
+    )
 
 
 _ANSI = re.compile(r"\x1b\[[0-9;]*[A-Za-z]")
@@ -528,32 +965,6 @@ def _cell_error(
     )
 
 
-def _execute(notebook: Any, workdir: Path, timeout: int) -> None:
-    from nbclient import NotebookClient
-
-    client = NotebookClient(
-        notebook,
-        timeout=timeout,
-        kernel_name="python3",
-        km=_kernel_manager(),
-        resources={"metadata": {"path": str(workdir)}},
-        allow_errors=False,
-        record_timing=False,
-    )
-    with warnings.catch_warnings():
-        # the Jupyter client libraries warn about their own internals (event loops,
-        # sockets closed at exit, dates without time zones); none of it concerns the sheet
-        for category in (DeprecationWarning, ResourceWarning, RuntimeWarning, UserWarning):
-            warnings.filterwarnings(
-                "ignore", category=category, module=r"(jupyter_client|jupyter_core|nbclient|zmq|traitlets)"
-            )
-        warnings.filterwarnings("ignore", category=ResourceWarning)
-        # the kernel's own log (start-up notes, a crash report) goes to a file, not the terminal
-        with open(workdir / ".kernel.log", "wb") as log:
-            # cleanup_kc: shut the kernel down and close its sockets even though we made its manager
-            client.execute(cleanup_kc=True, env=_kernel_env(), stdout=log, stderr=log)
-
-
 def _file_mode() -> int:
     """Permissions of a new file under the process's umask."""
     umask = os.umask(0)
@@ -575,6 +986,8 @@ def _held_fingerprint(out: Path, stem: str) -> tuple[bool, str | None]:
     present = [out / f"{stem}{suffix}" for suffix in _SHEET_SUFFIXES if (out / f"{stem}{suffix}").exists()]
     if not present:
         return False, None
+    from .sheet import existing_fingerprint
+
     for suffix in (".json", ".html"):
         found = existing_fingerprint(out / f"{stem}{suffix}")
         if found:
@@ -595,32 +1008,35 @@ def _refuse(out: Path, stem: str, held: str | None) -> OverwriteError:
     )
 
 
-def _build(
+async def _build_in(
+    kernel: _Kernel,
     template: Template,
     assignments: Mapping[str, Any],
     wheres: Mapping[str, str],
     inputs_label: str,
     out: Path,
+    held: tuple[bool, str | None],
     *,
     pdf: bool,
     overwrite: bool,
-    timeout: int = CELL_TIMEOUT_S,
+    timeout: int,
+    started: float,
 ) -> BuildResult:
+    """Build one sheet in *kernel* (warmed up), which is reset first."""
     import copy
 
     import nbformat
 
-    started = time.monotonic()
-    out = Path(out)
-    _check_out_folder(out)
     stem = template.name
-    held_any, held = _held_fingerprint(out, stem)
-    if held_any and held is None and not overwrite:
-        raise _refuse(out, stem, held)
+    held_any, held_print = held
+    if held_any and held_print is None and not overwrite:
+        raise _refuse(out, stem, held_print)
 
     notebook = copy.deepcopy(template.notebook)
     injected = nbformat.v4.new_code_cell(_inputs_cell_source(assignments, inputs_label, template.digest))
     injected.metadata["tags"] = [INPUTS_TAG]
+    if "id" in injected and INPUTS_TAG not in {cell.get("id") for cell in notebook.cells}:
+        injected.id = INPUTS_TAG  # not a random one: the same inputs give the same notebook
     notebook.cells.insert(template.parameters_cell + 1, injected)
 
     out.parent.mkdir(parents=True, exist_ok=True)
@@ -633,14 +1049,16 @@ def _build(
         )
         saver.metadata["tags"] = [SAVE_TAG]
         notebook.cells.append(saver)
+        await kernel.reset(work)
         try:
-            _execute(notebook, work, timeout)
+            await kernel.run(notebook, timeout)
         except CalcError:
             raise
         except Exception as exc:
             from nbclient.exceptions import CellExecutionError, CellTimeoutError, DeadKernelError
 
             if isinstance(exc, CellExecutionError):
+                kernel.healthy = True  # a cell that fails leaves a kernel the reset can clean
                 raise _cell_error(template, notebook, wheres, exc) from None
             if isinstance(exc, CellTimeoutError):
                 raise BuildError(
@@ -649,21 +1067,15 @@ def _build(
                     do="Check the template for a loop that does not end",
                 ) from None
             if isinstance(exc, DeadKernelError):
-                log = (work / ".kernel.log").read_text(encoding="utf-8", errors="replace").strip()
-                last = log.splitlines()[-1].strip() if log else "no message"
-                raise BuildError(
-                    f"the kernel died while running the template (its last words: {last})",
-                    where=str(template.path),
-                    do="Check the template for a crash or a memory blow-up",
-                ) from None
+                raise _dead_kernel(kernel, template) from None
             raise
         notebook.cells.pop()  # the save cell is the build's, not the template's
         nbformat.write(notebook, work / f"{stem}.ipynb")
         record_path = work / f"{stem}.json"
         record = json.loads(record_path.read_text(encoding="utf-8"))
         fingerprint = record["fingerprint"]
-        if held_any and not overwrite and held != fingerprint:
-            raise _refuse(out, stem, held)
+        if held_any and not overwrite and held_print != fingerprint:
+            raise _refuse(out, stem, held_print)
         produced = [s for s in (".ipynb", ".pdf", ".html", ".json") if (work / f"{stem}{s}").exists()]
         out.mkdir(parents=True, exist_ok=True)
         for suffix in _SHEET_SUFFIXES:  # stale files of the replaced sheet (a PDF not asked for now)
@@ -685,6 +1097,51 @@ def _build(
         record=record,
         seconds=time.monotonic() - started,
     )
+
+
+def _prepare_build(
+    path: Path, inputs: str | os.PathLike, out: Path
+) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None]]:
+    """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
+    from .inputs import check_keys, read_inputs
+
+    tmpl = load_template(path)
+    file = read_inputs(inputs)
+    check_keys(file, tmpl.parameters, path=file.path)
+    wheres = {name: file.where(name) for name in tmpl.parameters}
+    return tmpl, _prepared(tmpl, file), wheres, file.path.name, _held_fingerprint(out, tmpl.name)
+
+
+async def _build_alone(
+    path: Path,
+    inputs: str | os.PathLike,
+    out: Path,
+    *,
+    pdf: bool,
+    overwrite: bool,
+    timeout: int,
+    started: float,
+) -> BuildResult:
+    """Start a kernel first; read and check the inputs while it starts and imports; then build."""
+    kernel = await _start_kernel()
+    warm = asyncio.ensure_future(kernel.warm_up())
+    try:
+        prepare = asyncio.get_running_loop().run_in_executor(None, _prepare_build, path, inputs, out)
+        await asyncio.wait({prepare, warm}, return_when=asyncio.FIRST_EXCEPTION)
+        if prepare.done() and prepare.exception() is not None:
+            warm.cancel()  # bad inputs: no need to wait for the kernel
+        template, assignments, wheres, label, held = await prepare
+        await warm
+        return await _build_in(
+            kernel, template, assignments, wheres, label, out, held,
+            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started,
+        )  # fmt: skip
+    finally:
+        if not warm.done():
+            warm.cancel()
+        elif not warm.cancelled():
+            warm.exception()  # seen: the error raised is the inputs' (asyncio would log this one)
+        await kernel.aclose()
 
 
 def _prepared(
@@ -744,19 +1201,14 @@ def build_sheet(
     BuildError
         No such template, or the kernel could not run it.
     """
-    tmpl = load_template(template)
-    file = read_inputs(inputs)
-    check_keys(file, tmpl.parameters, path=file.path)
-    wheres = {name: file.where(name) for name in tmpl.parameters}
-    return _build(
-        tmpl,
-        _prepared(tmpl, file),
-        wheres,
-        file.path.name,
-        Path(out),
-        pdf=pdf,
-        overwrite=overwrite,
-        timeout=timeout,
+    started = time.monotonic()
+    path = _find_template(template)
+    out = Path(out)
+    _check_out_folder(out)
+    return _run_sync(
+        lambda: _build_alone(
+            path, inputs, out, pdf=pdf, overwrite=overwrite, timeout=timeout, started=started
+        )
     )
 
 
@@ -881,6 +1333,8 @@ def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
         Unreadable file, no cases, a bad or repeated case name, a name that is
         not one of the template's parameters.
     """
+    from .inputs import TITLE_FIELDS
+
     path = Path(path)
     try:
         text = path.read_text(encoding="utf-8")
@@ -992,6 +1446,8 @@ def _line_after(lines: Sequence[str], start: int | None, key: str) -> int | None
 def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, line_of: Callable) -> None:
     import difflib
 
+    from .inputs import TITLE_FIELDS
+
     for name in names:
         if name not in known:
             close = difflib.get_close_matches(name, list(known), n=1)
@@ -1012,6 +1468,49 @@ def default_workers() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+async def _build_kept(template: Template, *args: Any, **kwargs: Any) -> BuildResult:
+    """Build in this worker's kept kernel: started and warmed up on the first case, then reset each case.
+
+    A kernel that the reset cannot bring back to its warmed-up state, that
+    timed out, died or failed in a way other than a cell's error, is killed
+    and replaced by a new one.
+    """
+    if kwargs.pop("once", False):  # no kernel kept: start one, use it, kill it
+        kernel = await _start_kernel()
+        try:
+            await kernel.warm_up()
+            return await _build_in(kernel, template, *args, **kwargs)
+        finally:
+            await kernel.aclose()
+    kernel = getattr(_LOCAL, "kernel", None)
+    for attempt in (1, 2):
+        if kernel is None or not kernel.healthy:
+            if kernel is not None:
+                await _forget(kernel)
+            kernel = await _start_kernel()
+            _LOCAL.kernel = kernel
+            _KEPT.append(kernel)
+            await kernel.warm_up()
+        try:
+            return await _build_in(kernel, template, *args, **kwargs)
+        except _ResetError:
+            kernel.healthy = False
+            if attempt == 2 or kernel.cases == 0:  # a new kernel that cannot be reset: give up
+                raise
+            # an earlier case changed what a reset cannot undo: the case runs in a new kernel
+        finally:
+            if not kernel.healthy:
+                await _forget(kernel)
+                _LOCAL.kernel = None
+    raise AssertionError("unreachable")
+
+
+async def _forget(kernel: _Kernel) -> None:
+    if kernel in _KEPT:
+        _KEPT.remove(kernel)
+    await kernel.aclose()
+
+
 def _run_case(
     template_path: str,
     assignments: dict[str, Any],
@@ -1026,8 +1525,13 @@ def _run_case(
     started = time.monotonic()
     try:
         template = load_template(template_path)
-        result = _build(
-            template, assignments, wheres, inputs_label, Path(folder), pdf=pdf, overwrite=overwrite
+        out = Path(folder)
+        _check_out_folder(out)
+        held = _held_fingerprint(out, template.name)
+        options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
+        options["once"] = _loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
+        result = _run_sync(
+            lambda: _build_kept(template, assignments, wheres, inputs_label, out, held, **options)
         )
     except CalcError as exc:
         return CaseResult(name, False, folder, str(exc), None, time.monotonic() - started)
@@ -1096,6 +1600,8 @@ def run_batch(
         The base inputs or the cases cannot be read, or name inputs the
         template does not have (checked before any case runs).
     """
+    from .inputs import check_keys, read_inputs
+
     tmpl = load_template(template)
     base = read_inputs(inputs) if inputs is not None else None
     table = read_cases(cases, tmpl)
@@ -1261,6 +1767,8 @@ def _toml_value(value: Any) -> str:
 
 def inputs_text(template: Template) -> str:
     """An inputs file (TOML) holding the template's own values, to start from."""
+    from .inputs import TITLE_FIELDS
+
     lines = [f"# Inputs for {template.path.name}: change the values, keep the names.", ""]
     lines += [
         f"{name} = {_toml_value(value)}"

@@ -349,3 +349,28 @@ class TestHelp:
             cli.main(["build", TEMPLATE])
         assert info.value.code == 2
         assert "the following arguments are required: --inputs, --out" in capsys.readouterr().err
+
+
+class TestLightStart:
+    def test_no_heavy_imports_before_the_kernel(self):
+        """The command line starts without sympy, pint, numpy or matplotlib: a build starts its kernel first."""
+        code = (
+            "import sys; from calckit import cli; cli.parser(); "
+            "print(sorted(m for m in ('sympy', 'pint', 'numpy', 'matplotlib') if m in sys.modules))"
+        )
+        done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+        assert done.stdout.strip() == "[]"
+
+    def test_help_read_from_source_is_the_docstring(self):
+        """The diff command's help, read from the source without importing it, is the function's docstring."""
+        import inspect
+
+        code = (
+            "import inspect, sys; from calckit import cli; "
+            "d = cli._documented('calckit.diffing', 'diff_sheets'); "
+            "print('calckit.diffing' in sys.modules); print(inspect.getdoc(d))"
+        )
+        done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+        loaded, doc = done.stdout.split("\n", 1)
+        assert loaded == "False"
+        assert doc.rstrip("\n") == inspect.getdoc(diffing.diff_sheets)
