@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import xml.etree.ElementTree as ET
 from decimal import Decimal
 
@@ -213,3 +214,23 @@ class TestHelpers:
         assert unit_latex("N*s/m") == r"\mathrm{N \cdot s/m}"
         assert unit_latex("m/s**2") == r"\mathrm{m/s^{2}}"
         assert unit_latex("%") == r"\mathrm{\%}"
+
+
+class TestCycleUnits:
+    """A frequency in Hz or cycles per minute enters a formula as an angular frequency."""
+
+    def test_hz_is_converted_to_rad_per_s(self):
+        """e = G / Omega with Omega = 24.6667 Hz equals the value at 1480 rpm (1480/60 Hz):
+        1 Hz = 2 pi rad/s and 1 rpm = 2 pi/60 rad/s (definitions, hand arithmetic)."""
+        G, W = sp.symbols("G Omega")
+        in_hz = put_through("e", G / W, {"G": "6.3 mm/s", "Omega": f"{1480 / 60!r} Hz"}, unit="um")
+        in_rpm = put_through("e", G / W, {"G": "6.3 mm/s", "Omega": "1480 rpm"}, unit="um")
+        assert float(in_hz.value) == pytest.approx(float(in_rpm.value), rel=1e-12)
+        assert float(in_rpm.value) == pytest.approx(6.3e-3 / (1480 * 2 * math.pi / 60) * 1e6, rel=1e-12)
+        assert "rad/s" in in_hz.substituted_text
+
+    def test_cpm_is_converted(self):
+        W = sp.Symbol("Omega")
+        assert float(put_through("w", W, {"Omega": "60 cpm"}, unit="rad/s").value) == pytest.approx(
+            2 * math.pi
+        )

@@ -40,7 +40,7 @@ from sympy.printing.str import StrPrinter
 
 from calckit.errors import InputsError, UnitsError
 from calckit.render.latex import EQ, Row, Tex, expr_latex, expr_text, symbol_latex
-from calckit.units import KINDS, Q_, fmt_number, kind_of, quantity, to_si, ureg
+from calckit.units import KINDS, Q_, angular_frequency, fmt_number, kind_of, quantity, to_si, ureg
 
 __all__ = ["Substitution", "put_through", "round_sig", "number_latex", "unit_latex"]
 
@@ -287,6 +287,10 @@ def _as_symbol(symbol, where: str) -> sp.Symbol:
     )
 
 
+#: units that count cycles: converted to rad/s before they enter a formula
+_CYCLE_UNITS = frozenset({"hertz", "kilohertz", "megahertz", "cycles_per_minute", "cycle"})
+
+
 def _unit_names(unit) -> set[str]:
     return {name for name, _ in Q_(1, unit).unit_items()}
 
@@ -365,6 +369,9 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
     shown_text: dict[str, tuple[str, bool]] = {}
     for s in symbols:
         q = quantity(given[s.name], f"{where}: value of {s.name}")
+        if _unit_names(q.units) & _CYCLE_UNITS:
+            # formulas take angular frequencies: 1 Hz is 2 pi rad/s, not 1 rad/s
+            q = Q_(angular_frequency(q, f"{where}: value of {s.name}"), "rad/s")
         inputs.append((s, q))
         exact_si[s] = to_si(q, f"{where}: value of {s.name}").magnitude
         in_base = q.to_base_units()
