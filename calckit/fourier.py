@@ -390,8 +390,14 @@ def fourier_series(f, t: sp.Symbol, period, n_harmonics: int, *, method: str = "
         )
     T = _check_period(period, f"{where}(period)")
     N = _check_count(n_harmonics, f"{where}(n_harmonics)")
+    if isinstance(f, str):  # text is never run: read it with calckit.inputs.parse_expression
+        raise ForcingError(
+            f"got text {f!r}, which is not read here",
+            where=f"{where}(f)",
+            do="Give a sympy expression in t, or read the text with calckit.inputs.parse_expression first",
+        )
     try:
-        f = exact(f if isinstance(f, sp.Basic) else sp.sympify(f), where=f"{where}(f)")
+        f = exact(f if isinstance(f, sp.Basic) else sp.sympify(f, strict=True), where=f"{where}(f)")
     except sp.SympifyError:
         raise ForcingError(
             f"cannot read {f!r} as a sympy expression", where=f"{where}(f)", do="Give a sympy expression in t"

@@ -212,7 +212,13 @@ def compile_expr(expr, t: sp.Symbol, parameters: Iterable[sp.Symbol | str] = ())
             where="compile_expr(t=...)",
             do='Pass the symbol itself, e.g. t = sympy.Symbol("t", real=True)',
         )
-    expr = exact(sp.sympify(expr), where="compile_expr")
+    if isinstance(expr, str):  # text is never run
+        raise ModelError(
+            f"got text {expr!r}, which is not read here",
+            where="compile_expr",
+            do="Give a sympy expression, or read the text with calckit.inputs.parse_expression first",
+        )
+    expr = exact(sp.sympify(expr, strict=True), where="compile_expr")
     free = expr.free_symbols - {t}
     by_name: dict[str, sp.Symbol] = {}
     for s in free | {t}:

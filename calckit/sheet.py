@@ -357,7 +357,20 @@ class Sheet:
         known.update(self.results)
         if values:
             known.update(values)
-        expr = sp.sympify(formula) if isinstance(formula, str) else formula
+        if isinstance(formula, str):  # read by the whitelist parser: text is never run
+            from .inputs import parse_expression
+
+            expr = parse_expression(formula, {key: sp.Symbol(key) for key in known}, where=f"step {name}")
+        elif isinstance(formula, sp.Expr):
+            expr = formula
+        elif isinstance(formula, (int, float)) and not isinstance(formula, bool):
+            expr = sp.Float(formula) if isinstance(formula, float) else sp.Integer(formula)
+        else:
+            raise SheetError(
+                f"expected a formula (sympy expression or text), got {type(formula).__name__}",
+                where=f"step {name}",
+                do='Give the formula in symbols, e.g. sympy.sqrt(k / m) or "sqrt(k/m)"',
+            )
         needed = {s.name: known[s.name] for s in expr.free_symbols if s.name in known}
         missing = sorted(s.name for s in expr.free_symbols if s.name not in known)
         if missing:

@@ -76,7 +76,7 @@ class TestPutThrough:
         """The damping ratio has no unit: none is shown."""
         zeta = put_through("zeta", C / (2 * sp.sqrt(K * M)), {"c": "350 N*s/m", **SI})
         assert zeta.unit == "" and zeta.shown == "0.02609"
-        assert zeta._repr_latex_().endswith("= 0.02609$$")
+        assert zeta._repr_latex_().replace(r"\end{aligned}", "").endswith("= 0.02609$$")
 
     def test_negative_value_in_power(self):
         """A negative value with a unit is bracketed before a power and in a product."""
@@ -214,6 +214,19 @@ class TestHelpers:
         assert unit_latex("N*s/m") == r"\mathrm{N \cdot s/m}"
         assert unit_latex("m/s**2") == r"\mathrm{m/s^{2}}"
         assert unit_latex("%") == r"\mathrm{\%}"
+
+
+class TestLongLines:
+    """A substitution too long for one printed line is split at its equals signs."""
+
+    def test_long_substitution_on_rows_of_its_own(self):
+        m, c, k, w, f0 = sp.symbols("m c k omega F_0")
+        values = {"F_0": "900 N", "k": "720 kN/m", "m": "1850 kg", "c": "3650 N*s/m", "omega": "1480 rpm"}
+        long = put_through("X", f0 / sp.sqrt((k - m * w**2) ** 2 + (c * w) ** 2), values, unit="mm")
+        rows = long.display_rows()
+        assert len(rows) == 3 and rows[1].lhs == () and rows[2].rhs[-1].text == "0.02058 mm"
+        short = put_through("w", sp.sqrt(k / m), {"k": "720 kN/m", "m": "1850 kg"})
+        assert len(short.display_rows()) == 1
 
 
 class TestCycleUnits:

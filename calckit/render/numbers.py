@@ -242,14 +242,18 @@ class Substitution:
         lhs = Tex(symbol_latex(self.symbol.name, names), self.symbol.name)
         result_latex = number_latex(self.shown) + (rf"\;{unit_latex(self.unit)}" if self.unit else "")
         result = Tex(result_latex, f"{self.shown} {self.unit}".strip())
-        rhs: list[Tex] = []
+        pieces: list[Tex] = []
         if self.formula.free_symbols:
-            rhs += [EQ, Tex(expr_latex(self.formula, names), expr_text(self.formula))]
+            pieces.append(Tex(expr_latex(self.formula, names), expr_text(self.formula)))
             if self.substituted_text != result.text:
-                rhs += [EQ, Tex(self.substituted_latex, self.substituted_text)]
-        if not rhs or rhs[-1].text != result.text:
-            rhs += [EQ, result]
-        return (Row((lhs,), tuple(rhs)),)
+                pieces.append(Tex(self.substituted_latex, self.substituted_text))
+        if not pieces or pieces[-1].text != result.text:
+            pieces.append(result)
+        if sum(len(p.text) for p in pieces) <= _ONE_LINE:
+            return (Row((lhs,), tuple(x for p in pieces for x in (EQ, p))),)
+        # too long for one printed line: formula, values and result on rows of their own,
+        # aligned at the equals signs
+        return (Row((lhs,), (EQ, pieces[0])),) + tuple(Row((), (EQ, p)) for p in pieces[1:])
 
     def _repr_latex_(self) -> str:
         from calckit.render.display import latex_document
@@ -286,6 +290,9 @@ def _as_symbol(symbol, where: str) -> sp.Symbol:
         do='Give the name of what is computed, e.g. "omega_n"',
     )
 
+
+#: characters of plain text that fit one printed line of a step (A4, 11 pt)
+_ONE_LINE = 60
 
 #: units that count cycles: converted to rad/s before they enter a formula
 _CYCLE_UNITS = frozenset({"hertz", "kilohertz", "megahertz", "cycles_per_minute", "cycle"})
