@@ -25,6 +25,7 @@ from __future__ import annotations
 import hashlib
 import io
 import json
+import math
 import os
 import re
 import tempfile
@@ -259,9 +260,9 @@ class Sheet:
     template : str, optional
         The template's content (or any text identifying the calculation); it
         enters the fingerprint.
-    caution : str or None
+    caution : str
         The caution printed on the sheet; by default :data:`DEFAULT_CAUTION`.
-        Sheets that size or accept equipment must keep a caution.
+        It cannot be left out: sheets size or accept equipment.
     show : bool
         Display each block in Jupyter as it is added (default: when running in
         an IPython kernel).
@@ -279,11 +280,17 @@ class Sheet:
         date: str = "",
         approver: str = "",
         template: str = "",
-        caution: str | None = DEFAULT_CAUTION,
+        caution: str = DEFAULT_CAUTION,
         show: bool | None = None,
     ):
         self.title = TitleBlock(subject, project, number, revision, author, checker, date, approver)
         self.template_digest = hashlib.sha256(template.encode()).hexdigest() if template else ""
+        if not caution or not str(caution).strip():
+            raise SheetError(
+                "a calculation sheet must carry a caution",
+                where="Sheet(caution=...)",
+                do="Keep the default (calckit.DEFAULT_CAUTION) or give your own wording",
+            )
         self.caution = caution
         self.blocks: list[Any] = []
         self.inputs: dict[str, SheetInput] = {}
@@ -425,11 +432,23 @@ class Sheet:
         comes from (a specification, a standard clause, or "common practice,
         no source").
         """
+        if not isinstance(name, str) or not name.strip():
+            raise SheetError(
+                "a check needs a name", where="check", do='Name what is checked, e.g. "amplitude"'
+            )
         if relation not in RELATIONS:
             raise SheetError(
                 f"unknown relation {relation!r}", where=f"check {name}", do="Use one of <=, >=, <, >"
             )
+        for label, given in (("value", value), ("limit", limit)):
+            _require_real(given, f"check {name}", label)
         v, lim, unit_text = _same_unit(value, limit, unit, name)
+        if not (math.isfinite(v) and math.isfinite(lim)):
+            raise SheetError(
+                f"the {'value' if not math.isfinite(v) else 'limit'} is not a finite number",
+                where=f"check {name}",
+                do="Check the calculation that produced it",
+            )
         if lim == 0:
             raise SheetError(
                 "the limit is zero, so a margin in percent is undefined",
@@ -464,19 +483,35 @@ class Sheet:
         """
         from .units import angular_frequency
 
-        w_op = (
-            angular_frequency(operating, "operating frequency")
-            if hasattr(operating, "units")
-            else float(operating)
-        )
-        w_n = angular_frequency(natural, "natural frequency") if hasattr(natural, "units") else float(natural)
-        separation = abs(float(w_op) / float(w_n) - 1) * 100
+        def rad_per_s(given, label):
+            _require_real(given, f"check {name}", label)
+            if isinstance(given, str) or hasattr(given, "units"):
+                where = f"check {name} {label}"
+                return float(angular_frequency(quantity(given, where), where))
+            return float(given)
+
+        w_op = rad_per_s(operating, "operating frequency")
+        w_n = rad_per_s(natural, "natural frequency")
+        if not w_n > 0 or not math.isfinite(w_op) or w_op < 0:
+            raise SheetError(
+                f"the frequencies must be finite with a natural frequency above zero (got {w_op:g} and "
+                f"{w_n:g} rad/s)",
+                where=f"check {name}",
+                do="Check the natural frequency: a model with no spring has none to separate from",
+            )
+        separation = abs(w_op / w_n - 1) * 100
         return self.check(name, separation, band * 100, relation=">=", basis=basis, unit="percent")
 
     def figure(self, fig: Any, caption: str) -> Figure:
         """Add a matplotlib figure, embedded as inline SVG (text as paths, no date)."""
         import matplotlib
 
+        if not hasattr(fig, "savefig"):
+            raise SheetError(
+                f"expected a matplotlib figure, got {type(fig).__name__}",
+                where=f"figure {caption!r}",
+                do="Pass the figure object, e.g. fig from fig, ax = plt.subplots()",
+            )
         buffer = io.StringIO()
         with matplotlib.rc_context({"svg.hashsalt": "calckit", "svg.fonttype": "path"}):
             fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None}, bbox_inches="tight")
@@ -528,13 +563,26 @@ class Sheet:
 
     @property
     def fingerprint(self) -> str:
-        """SHA-256 over the canonical inputs, the kit version and the template's content."""
+        """SHA-256 over everything the user provided, the kit version and the template.
+
+        Covered: the title block except the date, every input (name, text as given,
+        exact value, unit, description, source), every check's name, limit,
+        relation and basis, the assumptions, references, notes and the caution.
+        Results are not covered: they follow from these. Two sheets with the same
+        fingerprint came from the same inputs through the same calculation.
+        """
+        title = {key: value for key, value in asdict(self.title).items() if key != "date"}
         payload = {
             "calckit": __version__,
             "template": self.template_digest,
+            "title": title,
             "inputs": [
-                [rec.name, rec.text, _exact_text(rec.value), rec.si_unit] for rec in self.inputs.values()
+                [rec.name, rec.text, _exact_text(rec.value), rec.si_unit, rec.description, rec.source]
+                for rec in self.inputs.values()
             ],
+            "checks": [[c.name, c.relation, repr(c.limit), c.unit, c.basis] for c in self.checks],
+            "text": [[b.kind, b.text] for b in self.of_type(TextBlock)],
+            "caution": self.caution,
         }
         return hashlib.sha256(_canonical(payload).encode()).hexdigest()
 
@@ -678,6 +726,28 @@ def _result_record(name: str, value: Any) -> dict:
     if si is None:
         out["text"] = str(value)
     return out
+
+
+def _require_real(value: Any, where: str, label: str) -> None:
+    """Refuse what a check cannot compare: None, truth values, complex numbers, symbols."""
+    if isinstance(value, str) or hasattr(value, "units"):
+        return
+    if value is None or isinstance(value, (bool, complex)):
+        ok = False
+    elif isinstance(value, sp.Basic):
+        ok = bool(value.is_number and value.is_real)
+    else:
+        try:
+            float(value)  # numbers of any kind, numpy scalars included
+            ok = True
+        except (TypeError, ValueError):
+            ok = False
+    if not ok:
+        raise SheetError(
+            f"the {label} {value!r} is not a real number or quantity",
+            where=where,
+            do='Give a number, a quantity with its unit (e.g. "0.1 mm"), or substitute numbers for symbols first',
+        )
 
 
 def _same_unit(value: Any, limit: Any, unit: str | None, name: str) -> tuple[float, float, str]:

@@ -235,3 +235,67 @@ def test_table_block():
         str(info.value)
         == "table Bad: row 1 has 1 cells but there are 2 headings. Give every row one cell per heading."
     )
+
+
+def test_fingerprint_covers_what_the_user_provided():
+    """Revision, checker, a source, a check's basis or an assumption change the fingerprint."""
+    base = small_sheet(figure=False).fingerprint
+    other_title = small_sheet(figure=False)
+    other_title.title = type(other_title.title)(**{**other_title.title.__dict__, "revision": "C"})
+    assert other_title.fingerprint != base
+    extra_assumption = small_sheet(figure=False)
+    extra_assumption.assume("The floor is rigid.")
+    assert extra_assumption.fingerprint != base
+
+
+class TestRefusals:
+    """The sheet refuses what it cannot hold, with a message instead of a traceback."""
+
+    @pytest.mark.parametrize("value", [None, 1 + 2j, sp.Symbol("x"), True])
+    def test_check_value_not_real(self, value):
+        with pytest.raises(ck.SheetError) as info:
+            Sheet("x", show=False).check("amplitude", value, 1)
+        assert str(info.value) == (
+            f"check amplitude: the value {value!r} is not a real number or quantity. Give a number, a "
+            'quantity with its unit (e.g. "0.1 mm"), or substitute numbers for symbols first.'
+        )
+
+    def test_check_not_finite(self):
+        with pytest.raises(ck.SheetError) as info:
+            Sheet("x", show=False).check("amplitude", float("nan"), 1)
+        assert str(info.value) == (
+            "check amplitude: the value is not a finite number. Check the calculation that produced it."
+        )
+
+    def test_separation_with_text_and_zero(self):
+        sheet = Sheet("x", show=False)
+        # 1480 rpm = 24.667 Hz against 20 Hz: 23.3 % apart (hand arithmetic)
+        assert sheet.separation_check("speed", "1480 rpm", "20 Hz").value == pytest.approx(
+            100 * (1480 / 1200 - 1)
+        )
+        with pytest.raises(ck.SheetError) as info:
+            sheet.separation_check("speed", "1480 rpm", 0)
+        assert str(info.value).startswith(
+            "check speed: the frequencies must be finite with a natural frequency"
+        )
+
+    def test_caution_cannot_be_dropped(self):
+        with pytest.raises(ck.SheetError) as info:
+            Sheet("x", caution="", show=False)
+        assert str(info.value) == (
+            "Sheet(caution=...): a calculation sheet must carry a caution. Keep the default "
+            "(calckit.DEFAULT_CAUTION) or give your own wording."
+        )
+
+    def test_figure_not_a_figure(self):
+        with pytest.raises(ck.SheetError, match=r"^figure 'cap': expected a matplotlib figure, got str"):
+            Sheet("x", show=False).figure("x", "cap")
+
+    def test_text_formula_never_runs(self, tmp_path):
+        marker = tmp_path / "ran"
+        sheet = Sheet("x", show=False)
+        sheet.input("k", "180 kN/m")
+        with pytest.raises(ck.InputsError):
+            sheet.calc("z", f"__import__('pathlib').Path({str(marker)!r}).write_text('x')")
+        assert not marker.exists()
+        assert sheet.calc("w", "sqrt(k/(2*k))") == pytest.approx(2**-0.5)

@@ -91,7 +91,7 @@ h1, h2, h3 { break-after: avoid; page-break-after: avoid; }
 .title-block td { font-weight: bold; }
 
 /* Equations. */
-.math { margin: 0.5em 0 0.5em 1.5em; overflow-x: auto; }
+.math { margin: 0.5em 0 0.5em 1.5em; padding: 0.15em 0; overflow-x: auto; overflow-y: hidden; }
 .math math { display: block; text-align: left; math-style: normal; }
 .math-inline { white-space: nowrap; }
 

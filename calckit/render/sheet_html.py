@@ -245,6 +245,10 @@ def _body(sheet: Sheet) -> Html:
                 ["Check", "Criterion", "Value", "Limit", "Margin", "Verdict", "Basis"],
                 _check_rows(sheet.checks),
                 cls="checks",
+            )
+            + Html(
+                '<p class="note">Margin: the distance from the value to the limit, in percent of the '
+                "limit; positive when the criterion is met.</p>"
             ),
         )
     references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
