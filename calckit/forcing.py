@@ -27,7 +27,7 @@ from fractions import Fraction
 
 import sympy as sp
 
-from .errors import ForcingError
+from .errors import CalcError, ForcingError
 from .exact import exact
 
 __all__ = [
@@ -359,9 +359,16 @@ def resolve_time(expr: sp.Expr, t: sp.Symbol | None, where: str = "forcing") -> 
 def _sympify_forcing(f) -> sp.Expr:
     if isinstance(f, (int, float, Fraction, sp.Basic)) and not isinstance(f, bool):
         try:
-            return exact(f, where="forcing")
-        except Exception as exc:  # noqa: BLE001 - re-raised as a ForcingError with context
-            raise ForcingError(str(exc), where="forcing") from exc
+            expr = exact(f, where="forcing")
+        except CalcError as exc:  # the same message, as a ForcingError
+            raise ForcingError(exc.what, where=exc.where, do=exc.do) from exc
+        if expr.has(sp.I):
+            raise ForcingError(
+                f"the forcing {expr} is complex; a real system needs a real force",
+                where="forcing",
+                do="Write it with cos and sin (e.g. cos(w*t) instead of exp(I*w*t)), and take the real part",
+            )
+        return expr
     raise ForcingError(
         f"expected a sympy expression or a number, got {type(f).__name__} {f!r}",
         where="forcing",

@@ -25,7 +25,6 @@ def groups_of(f):
         A * sp.cos(w * t) + a * t**2 + P * sp.exp(-t / tau) + t * sp.exp(-t) * sp.sin(4 * t),
         sp.cos(w * t + 1),
         (sp.cos(t) + t) ** 3,
-        sp.exp(sp.I * 2 * t),
         2**t,
     ],
 )
@@ -144,6 +143,22 @@ def test_refused_forcings(f, message):
 def test_refused_forcing_through_the_engine():
     with pytest.raises(ck.ForcingError, match=r"^forcing term tan\(t\)"):
         ck.Oscillator(1, 1, 1).particular(sp.cos(t) + sp.tan(t), t=t)
+
+
+def test_complex_forcing_refused():
+    """A real system needs a real force: exp(i w t) is refused with what to write instead."""
+    with pytest.raises(ck.ForcingError) as info:
+        ck.split_forcing(sp.exp(sp.I * 2 * t), t)
+    assert str(info.value) == (
+        "forcing: the forcing exp(2*I*t) is complex; a real system needs a real force. Write it with cos "
+        "and sin (e.g. cos(w*t) instead of exp(I*w*t)), and take the real part."
+    )
+
+
+def test_not_finite_forcing_message_has_one_prefix():
+    with pytest.raises(ck.ForcingError) as info:
+        ck.split_forcing(float("nan") * sp.cos(t), t)
+    assert str(info.value) == "forcing: the value nan is not a finite number. Give a finite number."
 
 
 def test_not_an_expression():
