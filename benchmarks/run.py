@@ -581,7 +581,7 @@ def report(info, derive, proposed_used, sheet, batch, numbers, args) -> str:
             "## 3. Batch: `calckit batch`",
             "",
             f"{batch['cases']} cases (mass, stiffness, damping ratio and speed varied around the P-101 demo), "
-            f"one fresh kernel per case, worker processes on the {info['cores available']} available cores.",
+            f"one kept kernel per worker (reset before every case), worker processes on the {info['cores available']} available cores.",
             "",
             "| cases | built | wall time | cases per minute | median case time (in its worker) |",
             "| ---: | ---: | ---: | ---: | ---: |",
