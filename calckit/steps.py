@@ -114,7 +114,8 @@ class CharacteristicStep(Step):
 
     variable: sp.Symbol
     polynomial: sp.Expr
-    roots: tuple[tuple[sp.Expr, int], ...] | None  # None when not found in closed form
+    # (root, multiplicity) pairs, found on first read; empty or None when not found in closed form
+    roots: Sequence[tuple[sp.Expr, int]] | None
 
 
 @dataclass(frozen=True)

@@ -595,7 +595,9 @@ def _derive(ode: LinearODE, f, t) -> Derivation:
             "polynomial; its roots decide which trial forms need an extra factor t.",
             LAMBDA,
             ode.characteristic_polynomial(),
-            ode.characteristic_roots() if (not ode.parameters or ode.order <= 2) else None,
+            Deferred(lambda: ode.characteristic_roots() or ())
+            if (not ode.parameters or ode.order <= 2)
+            else None,
         ),
     ]
     taken = {s.name for s in split.forcing.free_symbols | ode.parameters}

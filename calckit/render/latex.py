@@ -487,7 +487,7 @@ def _(step: CharacteristicStep, nt: Notation) -> tuple[Row, ...]:
     }
     body = _combination(((c, power[n - i]) for i, c in enumerate(poly.all_coeffs())), nt)
     rows = [Row((p,), (EQ, body, EQ, Tex("0", "0")))]
-    if step.roots is None:
+    if step.roots is None or len(step.roots) == 0:  # a Deferred search may find none
         rows.append(Row((), (), (_words("roots not found in closed form"),)))
         return tuple(rows)
     which = {1: "simple root", 2: "double root", 3: "triple root"}
