@@ -30,7 +30,7 @@ modal superposition.
 
 References
 ----------
-Rao, *Mechanical Vibrations*, 6th ed., ch. 5 and 6 (two- and
+Rao, *Mechanical Vibrations*, 5th ed., ch. 5 and 6 (two- and
 multi-degree-of-freedom systems, modal analysis, proportional damping), from
 memory. Gohberg, Lancaster & Rodman, *Matrix Polynomials* (1982), ch. 1 and 8
 (particular solutions of ``L(D) x = f`` for a matrix polynomial), from memory.

@@ -11,7 +11,7 @@ quantities the frequencies and other results are returned with units.
 
 References
 ----------
-Rao, *Mechanical Vibrations*, 6th ed., ch. 2-3 (free and harmonically excited
+Rao, *Mechanical Vibrations*, 5th ed., ch. 2-3 (free and harmonically excited
 single-degree-of-freedom systems), from memory.
 """
 

@@ -661,7 +661,10 @@ def _split_sentence(split: ForcingSplit) -> str:
 def _plain(expr: sp.Expr) -> str:
     """A short plain-text form for sentences: 155*I -> 155i, -1 + 4*I -> -1 + 4i."""
     text = sp.sstr(expr)
-    return re.sub(r"(\d)\*I\b", r"\1i", text).replace("*", " ")
+    text = re.sub(r"(\d)\*I\b", r"\1i", text)  # 155*I -> 155i
+    text = re.sub(r"\bI\*", "i ", text)  # I*omega -> i omega
+    text = re.sub(r"\bI\b", "i", text)
+    return text.replace("*", " ")
 
 
 def _resonance_sentence(s: int, group: ExponentGroup) -> str:

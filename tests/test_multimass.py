@@ -139,7 +139,7 @@ class TestResonance:
         """Forcing at mode 1 with a component along its shape gives t-terms of the textbook size."""
         der = self.model.particular([sp.cos(t), 0], t=t)
         # undamped SDOF at resonance, q'' + w^2 q = f cos(w t): q = f t sin(w t) / (2 w)
-        # (Rao, Mechanical Vibrations, 6th ed., sec. 3.3, from memory), projected on phi_1
+        # (Rao, Mechanical Vibrations, 5th ed., sec. 3.3, from memory), projected on phi_1
         phi = sp.Matrix([1, 1]) / sp.sqrt(2)
         f = (phi.T * sp.Matrix([1, 0]))[0, 0]
         secular = phi * f * t * sp.sin(t) / 2
@@ -199,7 +199,7 @@ class TestSymbolic:
         """x_p = (K - w^2 M)^-1 F0 cos(w t) for the undamped two-mass model, with the determinant as condition."""
         model = MultiMass([[m1, 0], [0, m2]], None, [[k1 + k2, -k2], [-k2, k2]])
         der = model.particular([A * sp.cos(w * t), 0], t=t)
-        # undamped harmonic response X = (K - w^2 M)^-1 F (Rao, Mechanical Vibrations, 6th ed., sec. 5.6, from memory)
+        # undamped harmonic response X = (K - w^2 M)^-1 F (Rao, Mechanical Vibrations, 5th ed., sec. 5.6, from memory)
         expected = (model.K - w**2 * model.M).inv() * sp.Matrix([A, 0]) * sp.cos(w * t)
         assert (der.solution - expected).applyfunc(sp.simplify) == sp.zeros(2, 1)
         assert len(der.conditions) == 1
@@ -254,7 +254,7 @@ def test_exact_or_float_policy():
 
 
 def test_rayleigh_damping_ratios():
-    """C = a M + b K gives zeta_i = a / (2 w_i) + b w_i / 2 (Rao, Mechanical Vibrations, 6th ed., sec. 6.14, from memory)."""
+    """C = a M + b K gives zeta_i = a / (2 w_i) + b w_i / 2 (Rao, Mechanical Vibrations, 5th ed., sec. 6.14, from memory)."""
     m, k = MODELS["2-DOF"]
     a, b = R(1, 5), R(1, 50)
     c = (a * sp.Matrix(m) + b * sp.Matrix(k)).tolist()

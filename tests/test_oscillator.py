@@ -1,6 +1,6 @@
 """The single-degree-of-freedom oscillator: quantities of the trade, regimes, harmonics, units, errors.
 
-Closed forms are those of Rao, *Mechanical Vibrations*, 6th ed., ch. 2 (free
+Closed forms are those of Rao, *Mechanical Vibrations*, 5th ed., ch. 2 (free
 vibration) and ch. 3 (harmonic excitation), from memory; numerical checks use
 ``scipy.integrate.solve_ivp`` (DOP853, rtol 1e-10). Numbers come from the
 invented Harrow Creek water-treatment works: pump P-101 (250 kg on four
@@ -82,35 +82,35 @@ def steady_state_by_ivp(mass, damping, stiffness, force, w, periods=4):
 
 
 class TestClosedForms:
-    """Quantities against the book forms (Rao, Mechanical Vibrations, 6th ed., ch. 2, from memory)."""
+    """Quantities against the book forms (Rao, Mechanical Vibrations, 5th ed., ch. 2, from memory)."""
 
     def test_natural_frequency(self):
-        """omega_n = sqrt(k/m) and f_n = omega_n / (2 pi) (Rao 6th ed., eq. 2.14, from memory)."""
+        """omega_n = sqrt(k/m) and f_n = omega_n / (2 pi) (Rao 5th ed., eq. 2.14, from memory)."""
         osc = Oscillator(m, c, k)
         assert sp.simplify(osc.natural_frequency - sp.sqrt(k / m)) == 0
         assert sp.simplify(osc.natural_frequency_hz - sp.sqrt(k / m) / (2 * sp.pi)) == 0
 
     def test_damping_ratio_and_critical_damping(self):
-        """zeta = c / c_c with c_c = 2 sqrt(k m) (Rao 6th ed., sec. 2.6, from memory)."""
+        """zeta = c / c_c with c_c = 2 sqrt(k m) (Rao 5th ed., sec. 2.6, from memory)."""
         osc = Oscillator(m, c, k)
         assert sp.simplify(osc.critical_damping - 2 * sp.sqrt(k * m)) == 0
         assert sp.simplify(osc.damping_ratio - c / (2 * sp.sqrt(k * m))) == 0
 
     def test_damped_frequency(self):
-        """omega_d = omega_n sqrt(1 - zeta^2) (Rao 6th ed., sec. 2.6, from memory)."""
+        """omega_d = omega_n sqrt(1 - zeta^2) (Rao 5th ed., sec. 2.6, from memory)."""
         osc = Oscillator(m, c, k, regime="underdamped")
         wn, z = sp.sqrt(k / m), c / (2 * sp.sqrt(k * m))
         assert sp.simplify(osc.damped_frequency - wn * sp.sqrt(1 - z**2)) == 0
 
     def test_log_decrement_and_quality_factor(self):
-        """delta = 2 pi zeta / sqrt(1 - zeta^2), Q = 1 / (2 zeta) (Rao 6th ed., sec. 2.6 and 3.4, from memory)."""
+        """delta = 2 pi zeta / sqrt(1 - zeta^2), Q = 1 / (2 zeta) (Rao 5th ed., sec. 2.6 and 3.4, from memory)."""
         osc = Oscillator(m, c, k, regime="underdamped")
         z = c / (2 * sp.sqrt(k * m))
         assert sp.simplify(osc.log_decrement - 2 * sp.pi * z / sp.sqrt(1 - z**2)) == 0
         assert sp.simplify(osc.quality_factor - 1 / (2 * z)) == 0
 
     def test_static_deflection(self):
-        """delta_st = m g / k with standard gravity 9.80665 m/s^2 (common practice, no source)."""
+        """delta_st = m g / k with standard gravity 9.80665 m/s^2 (a defined constant, 3rd CGPM, 1901)."""
         assert pump().static_deflection == R(250) * R("9.80665") / 180_000
 
     def test_pump_numbers(self):
@@ -149,7 +149,7 @@ class TestClosedForms:
         assert abs(delta - 2 * math.pi * 0.3) > 0.05  # the small-damping form would be wrong here
 
     def test_transient_basis_book_forms(self):
-        """The free-motion basis in each regime (Rao 6th ed., sec. 2.6, eqs. for the three cases, from memory)."""
+        """The free-motion basis in each regime (Rao 5th ed., sec. 2.6, eqs. for the three cases, from memory)."""
         wn = 4
         # undamped: cos, sin of omega_n t
         assert Oscillator(1, 0, 16).transient_basis(t) == (sp.cos(4 * t), sp.sin(4 * t))
@@ -248,7 +248,7 @@ class TestHarmonics:
         assert 0 < float(line.phase_lag) < math.pi
 
     def test_quarter_turn_at_resonance(self):
-        """At omega = omega_n the lag is pi/2 for any damping (Rao 6th ed., sec. 3.4, from memory)."""
+        """At omega = omega_n the lag is pi/2 for any damping (Rao 5th ed., sec. 3.4, from memory)."""
         (line,) = pump().harmonics(120 * sp.cos(sp.sqrt(720) * t), t=t)
         assert line.phase_lag == sp.pi / 2
         assert line.magnification == 10  # 1 / (2 zeta)

@@ -156,7 +156,7 @@ class TestResonance:
     def test_book_closed_form(self):
         """From rest, x = F0 t sin(omega_n t) / (2 m omega_n).
 
-        Rao, Mechanical Vibrations, 6th ed., sec. 3.3 (response at resonance), from memory.
+        Rao, Mechanical Vibrations, 5th ed., sec. 3.3 (response at resonance), from memory.
         """
         osc = Oscillator(self.M, 0, self.K)
         wn = osc.natural_frequency

@@ -56,7 +56,7 @@ def small_sheet(mass="250 kg", stiffness="180 kN/m", *, date="2026-12-01", figur
         sheet.figure(fig, "A figure")
         plt.close(fig)
     sheet.assume("The isolators are linear over the working deflection.")
-    sheet.reference("Rao, Mechanical Vibrations, 6th ed., ch. 3 (from memory).")
+    sheet.reference("Rao, Mechanical Vibrations, 5th ed., ch. 3 (from memory).")
     return sheet
 
 

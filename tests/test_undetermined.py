@@ -78,7 +78,7 @@ def test_corpus_float_input_is_exact():
     (res,) = der.steps_of("resonance")
     assert res.multiplicity == 1
     # x_p = F t sin(wt) / (2 m w) for m x'' + k x = F cos(wt) at w = sqrt(k/m)
-    # (Rao, Mechanical Vibrations, 6th ed., eq. (3.17), from memory): 1.5 t sin 2t / 10
+    # (Rao, Mechanical Vibrations, 5th ed., eq. (3.17), from memory): 1.5 t sin 2t / 10
     assert sp.simplify(der.solution - sp.Rational(3, 20) * t * sp.sin(2 * t)) == 0
 
 
