@@ -6,8 +6,8 @@ Commands
     Build the bundled example sheets.
 ``calckit build TEMPLATE --inputs FILE --out DIR [--pdf] [--overwrite]``
     One sheet from a template and an inputs file.
-``calckit diff OLD NEW [--html FILE]``
-    What changed between two built sheets.
+``calckit diff OLD NEW [--html FILE] [--overwrite]``
+    What changed between two built sheets (an existing FILE only with --overwrite).
 ``calckit batch TEMPLATE --cases FILE --out DIR [--inputs FILE] [--workers N] [--overwrite]``
     One sheet per case, plus a summary.
 ``calckit new TEMPLATE DEST``
@@ -130,7 +130,16 @@ def parser() -> argparse.ArgumentParser:
     diff = command("diff", diff_sheets)
     diff.add_argument("old", metavar="OLD", help=_param(diff_sheets, "old"))
     diff.add_argument("new", metavar="NEW", help=_param(diff_sheets, "new"))
-    diff.add_argument("--html", metavar="FILE", help="Also write the report as a self-contained HTML page.")
+    diff.add_argument(
+        "--html",
+        metavar="FILE",
+        help="Also write the report as a self-contained HTML page (a new file, unless --overwrite).",
+    )
+    diff.add_argument(
+        "--overwrite",
+        action="store_true",
+        help="Replace FILE of --html if it exists (never a compared sheet).",
+    )
 
     batch = command("batch", workflow.run_batch)
     batch.add_argument("template", metavar="TEMPLATE", help=_param(workflow.run_batch, "template"))
@@ -192,15 +201,45 @@ def _run_diff(args: argparse.Namespace) -> int:
     from . import diffing
 
     report = diffing.diff_sheets(args.old, args.new)
+    path = Path(args.html) if args.html else None
+    if path is not None:  # refused before anything is printed: the report goes nowhere half
+        _check_report_target(path, report, overwrite=args.overwrite)
     print(f"Comparing {report.old}")
     print(f"     with {report.new}")
     print(report.text())
-    if args.html:
-        path = Path(args.html)
+    if path is not None:
         path.parent.mkdir(parents=True, exist_ok=True)
-        workflow._atomic_text(path, report.html())
+        workflow.write_text_file(path, report.html(), overwrite=args.overwrite)
         print(f"Report written to {path}")
     return 0
+
+
+def _check_report_target(path: Path, report, *, overwrite: bool) -> None:
+    """The --html file of diff: not a folder, not a file of the sheets compared, new unless --overwrite."""
+    from .errors import OverwriteError
+
+    if path.is_dir():
+        raise OverwriteError(
+            "the report's file is a folder", where=str(path), do="Give a file name ending in .html"
+        )
+    if path.exists():
+        compared = {
+            Path(record).with_suffix(suffix).resolve()
+            for record in (report.old, report.new)
+            for suffix in (".json", ".html", ".pdf", ".ipynb")
+        }
+        if path.resolve() in compared:
+            raise OverwriteError(
+                "the report would replace a file of a sheet being compared",
+                where=str(path),
+                do="Give another file for --html; nothing was written",
+            )
+        if not overwrite:
+            raise OverwriteError(
+                "the file exists already",
+                where=str(path),
+                do="Give another file for --html, or pass --overwrite to replace it; nothing was written",
+            )
 
 
 def _run_batch(args: argparse.Namespace) -> int:
@@ -223,7 +262,9 @@ def _run_batch(args: argparse.Namespace) -> int:
         progress=progress,
     )
     failed = len(result.failed)
-    print(f"{len(result.cases)} cases: {len(result.cases) - failed} built, {failed} failed")
+    print(
+        f"{workflow._count(len(result.cases), 'case')}: {len(result.cases) - failed} built, {failed} failed"
+    )
     print(f"  summary: {result.summary_html}")
     print(f"           {result.summary_csv}")
     return 1 if failed else 0

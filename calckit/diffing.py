@@ -3,10 +3,17 @@
 A built sheet is read from its JSON record (:meth:`calckit.Sheet.record`): give
 the ``.json`` file, the ``.html`` sheet (its record sits beside it under the same
 name), or the output folder of a build. The comparison lists title-block
-changes, inputs changed (old and new text), inputs added or removed, results
-that moved (with the change in percent), checks whose verdict flipped, and
-checks whose margin moved. Two sheets with the same fingerprint came from the
-same inputs through the same calculation.
+changes, inputs changed (old and new text), inputs added or removed, the
+inputs' descriptions and sources changed, results that moved (with the change
+in percent), checks whose verdict flipped, checks whose margin moved, checks
+whose basis or limit changed, and assumptions, references and notes added or
+removed, and a changed caution. Two sheets with the same fingerprint came from
+the same inputs through the same calculation.
+
+Results are shown as the sheet shows them: the record's ``shown`` text where it
+has one, else the value (kept in SI in the record) in the unit a sheet would
+use: a length under 0.1 m in mm, an angle in degrees, a frequency in 1/s in Hz.
+Old and new are shown in the same unit.
 
 Examples
 --------
@@ -31,12 +38,13 @@ from pathlib import Path
 from typing import Any
 
 from .errors import InputsError
-from .units import fmt_number
+from .units import fmt, fmt_number
 
 __all__ = [
     "Change",
     "ResultMove",
     "CheckChange",
+    "TextsChange",
     "SheetDiff",
     "read_record",
     "diff_records",
@@ -58,20 +66,41 @@ class Change:
 
 @dataclass(frozen=True)
 class ResultMove:
-    """A result whose value moved; ``percent`` is None when the old value is zero."""
+    """A result whose value moved; ``percent`` is None when the old value is zero.
+
+    ``old`` and ``new`` are in SI (``unit``), as in the record; ``old_shown``
+    and ``new_shown`` are as the sheet shows them (``"absent"`` for a result
+    one sheet does not have).
+    """
 
     name: str
     old: float | None
     new: float | None
     unit: str
     percent: float | None
+    old_shown: str = ""
+    new_shown: str = ""
+
+    @property
+    def change(self) -> str:
+        """The change in percent as text, or ``""``."""
+        return f"{self.percent:+.1f} %" if self.percent is not None else ""
 
     def shown(self) -> str:
-        unit = f" {self.unit}" if self.unit else ""
-        old = "absent" if self.old is None else fmt_number(self.old, 4) + unit
-        new = "absent" if self.new is None else fmt_number(self.new, 4) + unit
-        change = f" ({self.percent:+.1f} %)" if self.percent is not None else ""
-        return f"{self.name}: {old} -> {new}{change}"
+        change = f" ({self.change})" if self.change else ""
+        return f"{self.name}: {self.old_shown} -> {self.new_shown}{change}"
+
+
+@dataclass(frozen=True)
+class TextsChange:
+    """Texts of a list (assumptions, references, notes) that one sheet has and the other not."""
+
+    heading: str
+    removed: tuple[str, ...] = ()
+    added: tuple[str, ...] = ()
+
+    def lines(self) -> list[str]:
+        return [f"removed: {t}" for t in self.removed] + [f"added: {t}" for t in self.added]
 
 
 @dataclass(frozen=True)
@@ -115,9 +144,21 @@ class SheetDiff:
     title : tuple of Change
     inputs : tuple of Change
         Inputs changed, added (old ``""``) or removed (new ``""``).
+    details : tuple of Change
+        Descriptions and sources of inputs that changed, one for each change
+        (``name`` is ``"source of mass, stiffness"``: the inputs whose source
+        changed from the same old to the same new text).
     results : tuple of ResultMove
     checks : tuple of CheckChange
         Checks whose verdict flipped or whose margin moved.
+    bases : tuple of Change
+        Checks whose basis changed.
+    limits : tuple of Change
+        Checks whose limit or relation changed (as ``"<= 0.05 mm"``).
+    texts : tuple of TextsChange
+        Assumptions, references and notes added or removed.
+    caution : Change or None
+        The caution, when it changed.
     """
 
     old: str
@@ -128,6 +169,26 @@ class SheetDiff:
     inputs: tuple[Change, ...] = ()
     results: tuple[ResultMove, ...] = ()
     checks: tuple[CheckChange, ...] = field(default=())
+    details: tuple[Change, ...] = ()
+    bases: tuple[Change, ...] = ()
+    limits: tuple[Change, ...] = ()
+    texts: tuple[TextsChange, ...] = ()
+    caution: Change | None = None
+
+    @property
+    def anything(self) -> bool:
+        """Whether any title-block field, input, result, check or text differs."""
+        return bool(
+            self.title
+            or self.inputs
+            or self.details
+            or self.results
+            or self.checks
+            or self.bases
+            or self.limits
+            or self.texts
+            or self.caution
+        )
 
     @property
     def flipped(self) -> tuple[CheckChange, ...]:
@@ -151,17 +212,24 @@ class SheetDiff:
             lines += [f"  {c.name}: {c.old or '(empty)'} -> {c.new or '(empty)'}" for c in self.title]
         sections = (
             ("Inputs changed", [_input_line(c) for c in self.inputs]),
+            ("Input descriptions and sources changed", [_change_line(c) for c in self.details]),
             ("Results moved", [m.shown() for m in self.results]),
             ("Checks flipped", [c.verdicts() for c in self.flipped]),
             ("Margins moved", [c.margins() for c in self.margins_moved]),
+            ("Check limits changed", [_change_line(c) for c in self.limits]),
+            ("Check bases changed", [_change_line(c) for c in self.bases]),
+            *((t.heading, t.lines()) for t in self.texts),
         )
         for heading, items in sections:
             if items:
                 lines.append(f"{heading} ({len(items)}):")
                 lines += [f"  {item}" for item in items]
-        if not self.same_fingerprint and not (self.inputs or self.results or self.checks):
+        if self.caution:
+            lines.append("Caution changed:")
+            lines += [f"  was: {self.caution.old or '(none)'}", f"  now: {self.caution.new or '(none)'}"]
+        if not self.same_fingerprint and not self.anything:
             lines.append(
-                "No input, result or check differs, but the fingerprints do: "
+                "Nothing shown on the sheets differs, but the fingerprints do: "
                 "the template or the calckit version changed."
             )
         return "\n".join(lines)
@@ -193,19 +261,12 @@ class SheetDiff:
                     [[c.name, c.old or "absent", c.new or "absent"] for c in self.inputs],
                 )
             )
+        if self.details:
+            parts.append("<h2>Input descriptions and sources changed</h2>")
+            parts.append(table(["Input", "Old", "New"], [[c.name, c.old, c.new] for c in self.details]))
         if self.results:
             parts.append("<h2>Results moved</h2>")
-            rows = []
-            for m in self.results:
-                unit = f" {m.unit}" if m.unit else ""
-                rows.append(
-                    [
-                        m.name,
-                        "absent" if m.old is None else fmt_number(m.old, 4) + unit,
-                        "absent" if m.new is None else fmt_number(m.new, 4) + unit,
-                        "" if m.percent is None else f"{m.percent:+.1f} %",
-                    ]
-                )
+            rows = [[m.name, m.old_shown, m.new_shown, m.change] for m in self.results]
             parts.append(table(["Result", "Old", "New", "Change"], rows))
         if self.checks:
             parts.append("<h2>Checks</h2>")
@@ -233,9 +294,32 @@ class SheetDiff:
             parts.append(
                 table(["Check", "Old verdict", "New verdict", "Old margin", "New margin"], rows, cls="checks")
             )
-        if not self.same_fingerprint and not (self.inputs or self.results or self.checks):
-            parts.append("<p>No input, result or check differs, but the fingerprints do.</p>")
+        for heading, changes in (("Check limits changed", self.limits), ("Check bases changed", self.bases)):
+            if changes:
+                parts.append(f"<h2>{heading}</h2>")
+                parts.append(table(["Check", "Old", "New"], [[c.name, c.old, c.new] for c in changes]))
+        for texts in self.texts:
+            parts.append(f"<h2>{escape(texts.heading)}</h2>")
+            rows = [["removed", t] for t in texts.removed] + [["added", t] for t in texts.added]
+            parts.append(table(["", "Text"], rows))
+        if self.caution:
+            parts.append("<h2>Caution changed</h2>")
+            parts.append(
+                table(
+                    ["", "Text"],
+                    [["was", self.caution.old or "(none)"], ["now", self.caution.new or "(none)"]],
+                )
+            )
+        if not self.same_fingerprint and not self.anything:
+            parts.append(
+                "<p>Nothing shown on the sheets differs, but the fingerprints do: "
+                "the template or the calckit version changed.</p>"
+            )
         return html_page("What changed", "\n".join(parts), footer_left="calckit diff")
+
+
+def _change_line(change: Change) -> str:
+    return f"{change.name}: {change.old or '(empty)'} -> {change.new or '(empty)'}"
 
 
 def _input_line(change: Change) -> str:
@@ -363,19 +447,31 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         for name in dict.fromkeys([*inputs_old, *inputs_new])
         if inputs_old.get(name, {}).get("text") != inputs_new.get(name, {}).get("text")
     )
+    grouped: dict[tuple[str, str, str], list[str]] = {}  # one line for one change shared by inputs
+    for key in ("description", "source"):
+        for name in inputs_old:
+            if name not in inputs_new:
+                continue  # removed: listed with the inputs
+            was, now = str(inputs_old[name].get(key) or ""), str(inputs_new[name].get(key) or "")
+            if was != now:
+                grouped.setdefault((key, was, now), []).append(name)
+    details = [Change(f"{key} of {', '.join(names)}", was, now) for (key, was, now), names in grouped.items()]
     results_old, results_new = _by_name(old.get("results")), _by_name(new.get("results"))
     results = []
     for name in dict.fromkeys([*results_old, *results_new]):
-        a, b = results_old.get(name, {}), results_new.get(name, {})
-        va, vb = a.get("value"), b.get("value")
+        a, b = results_old.get(name), results_new.get(name)
+        va, vb = (a or {}).get("value"), (b or {}).get("value")
         if va is None and vb is None:
-            if a.get("text") != b.get("text"):
-                results.append(ResultMove(name, None, None, "", None))
+            ta, tb = (a or {}).get("text"), (b or {}).get("text")
+            if ta != tb or (a is None) != (b is None):
+                results.append(ResultMove(name, None, None, "", None, _text_or_absent(a), _text_or_absent(b)))
             continue
         if not _moved(va, vb):
             continue
         percent = (vb - va) / abs(va) * 100 if va not in (None, 0) and vb is not None else None
-        results.append(ResultMove(name, va, vb, b.get("unit") or a.get("unit") or "", percent))
+        unit = (b or {}).get("unit") or (a or {}).get("unit") or ""
+        shown_a, shown_b = _shown_pair(a, b)
+        results.append(ResultMove(name, va, vb, unit, percent, shown_a, shown_b))
     checks_old, checks_new = _by_name(old.get("checks")), _by_name(new.get("checks"))
     checks = []
     for name in dict.fromkeys([*checks_old, *checks_new]):
@@ -389,6 +485,29 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         )
         if change.flipped or _moved(change.old_margin, change.new_margin):
             checks.append(change)
+    bases, limits = [], []
+    for name in dict.fromkeys([*checks_old, *checks_new]):
+        a, b = checks_old.get(name), checks_new.get(name)
+        if a is None or b is None:
+            continue  # added or removed: listed with the verdicts
+        if str(a.get("basis") or "") != str(b.get("basis") or ""):
+            bases.append(Change(name, str(a.get("basis") or ""), str(b.get("basis") or "")))
+        if (
+            a.get("relation") != b.get("relation")
+            or a.get("unit") != b.get("unit")
+            or _moved(_number(a.get("limit")), _number(b.get("limit")))
+        ):
+            limits.append(Change(name, _limit_text(a), _limit_text(b)))
+    texts = []
+    for key, heading in (("assumptions", "Assumptions"), ("references", "References"), ("notes", "Notes")):
+        was, now = [str(t) for t in old.get(key) or []], [str(t) for t in new.get(key) or []]
+        removed = tuple(t for t in was if t not in now)
+        added = tuple(t for t in now if t not in was)
+        if removed or added:
+            texts.append(TextsChange(heading, removed, added))
+    caution = None
+    if str(old.get("caution") or "") != str(new.get("caution") or ""):
+        caution = Change("caution", str(old.get("caution") or ""), str(new.get("caution") or ""))
     versions = None
     if old.get("calckit") != new.get("calckit"):
         versions = Change("calckit", str(old.get("calckit", "")), str(new.get("calckit", "")))
@@ -401,7 +520,66 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         inputs=inputs,
         results=tuple(results),
         checks=tuple(checks),
+        details=tuple(details),
+        bases=tuple(bases),
+        limits=tuple(limits),
+        texts=tuple(texts),
+        caution=caution,
     )
+
+
+def _number(value: Any) -> float | None:
+    return float(value) if isinstance(value, int | float) and not isinstance(value, bool) else None
+
+
+def _limit_text(check: dict) -> str:
+    limit = _number(check.get("limit"))
+    unit = str(check.get("unit") or "")
+    unit = {"percent": "%"}.get(unit, unit)
+    number = "?" if limit is None else fmt_number(limit, 4)
+    return f"{check.get('relation', '')} {number}{' ' + unit if unit else ''}".strip()
+
+
+def _text_or_absent(item: dict | None) -> str:
+    if item is None:
+        return "absent"
+    return str(item.get("shown") or item.get("text") or "")
+
+
+#: SI units a sheet shows in another unit: (the unit shown, below what size in SI; None: always).
+_SHOWN_UNITS = {"m": ("mm", 0.1), "rad": ("deg", None), "1/s": ("Hz", None)}
+
+
+def _shown_pair(a: dict | None, b: dict | None) -> tuple[str, str]:
+    """Old and new result as the sheet shows them; both in one unit when the records give no text."""
+    values = [item.get("value") for item in (a, b) if item is not None and item.get("value") is not None]
+    unit = str((b or {}).get("unit") or (a or {}).get("unit") or "")
+    target = None
+    if unit in _SHOWN_UNITS:
+        shown_unit, below = _SHOWN_UNITS[unit]
+        if below is None or all(abs(v) < below for v in values if math.isfinite(v)):
+            target = shown_unit
+    return _shown_one(a, unit, target), _shown_one(b, unit, target)
+
+
+def _shown_one(item: dict | None, unit: str, target: str | None) -> str:
+    if item is None:
+        return "absent"
+    if item.get("shown"):
+        return str(item["shown"])
+    value = item.get("value")
+    if value is None:
+        return str(item.get("text") or "absent")
+    unit = str(item.get("unit") or unit)
+    if not unit:
+        return fmt_number(value, 4)
+    try:
+        from .units import Q_
+
+        quantity = Q_(float(value), unit)
+        return fmt(quantity.to(target) if target else quantity, 4)
+    except Exception:  # a unit text pint does not read: the number and the unit as recorded
+        return f"{fmt_number(value, 4)} {unit}"
 
 
 def diff_sheets(old: str | os.PathLike, new: str | os.PathLike) -> SheetDiff:

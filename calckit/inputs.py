@@ -12,7 +12,8 @@ are dimensionless::
     zeta = 0.05
     forcing = "F0*cos(w*t)"
 
-    [sheet]                      # the title block, all fields optional
+    [sheet]                      # the title block
+    subject = "Pump P-101 on its inertia base"
     project = "Harrow Creek water-treatment works"
     calculation = "HCW-VIB-001"
     revision = "B"
@@ -26,8 +27,13 @@ are dimensionless::
 
 Input values are text, integers, finite floats, true/false, or arrays of those.
 Input names are Python names, unique across all groups. The title-block fields
-are passed to the template under their own names (``project``, ``revision``...)
-when the template's parameters cell declares them.
+(:data:`TITLE_FIELDS`) are passed to the template under their own names
+(``subject``, ``project``, ``revision``...) when the template's parameters cell
+declares them. They belong in ``[sheet]``, but may also be written at the top
+level (``subject = "..."`` above the tables, as older inputs files do); a field
+given in both places is refused. All are optional except ``subject``
+(:data:`REQUIRED_TITLE_FIELDS`): a template that declares it needs it from the
+inputs file, so that no sheet goes out under the template's example subject.
 
 Expressions
 -----------
@@ -72,6 +78,8 @@ from .units import fmt
 __all__ = [
     "FUNCTIONS",
     "TITLE_FIELDS",
+    "REQUIRED_TITLE_FIELDS",
+    "OPTIONAL_TITLE_FIELDS",
     "TitleBlock",
     "InputsFile",
     "parse_expression",
@@ -89,7 +97,11 @@ FUNCTIONS: Mapping[str, Any] = MappingProxyType(
     {"sin": sp.sin, "cos": sp.cos, "exp": sp.exp, "sinh": sp.sinh, "cosh": sp.cosh, "sqrt": sp.sqrt}
 )
 #: Fields of the ``[sheet]`` table (the title block).
-TITLE_FIELDS: tuple[str, ...] = ("project", "calculation", "revision", "author", "checker", "date")
+TITLE_FIELDS: tuple[str, ...] = ("subject", "project", "calculation", "revision", "author", "checker", "date")
+#: Title-block fields an inputs file must give when the template declares them (in ``[sheet]`` or at the top level).
+REQUIRED_TITLE_FIELDS: tuple[str, ...] = ("subject",)
+#: Title-block fields that keep the template's value when an inputs file leaves them out.
+OPTIONAL_TITLE_FIELDS: tuple[str, ...] = tuple(f for f in TITLE_FIELDS if f not in REQUIRED_TITLE_FIELDS)
 
 _MAX_LENGTH = 2000
 _MAX_EXPONENT = 100  # largest power of a number in an expression
@@ -370,8 +382,9 @@ def parse_expression(
 
 @dataclass(frozen=True)
 class TitleBlock:
-    """Title-block fields from the ``[sheet]`` table (each optional)."""
+    """Title-block fields from the ``[sheet]`` table (each may be absent from the table)."""
 
+    subject: str | None = None
     project: str | None = None
     calculation: str | None = None
     revision: str | None = None
@@ -542,6 +555,14 @@ def read_inputs(path: str | Path) -> InputsFile:
                 add(inner, inner_value, key)
         else:
             add(key, value, "")
+    for key in sheet.present():  # one value a field: which one would win is not for us to guess
+        if key in values:
+            first = f"in [{groups[key]}]" if groups[key] else "at the top level"
+            raise InputsError(
+                f'"{key}" is set in [sheet] and also {first}',
+                where=f"{path}, line {_find_line(text, 'sheet', key) or '?'}, sheet.{key}",
+                do="Give it once, preferably in [sheet]",
+            )
     return InputsFile(path, MappingProxyType(values), sheet, MappingProxyType(groups), text)
 
 
@@ -593,15 +614,16 @@ def check_keys(
     expected: Mapping[str, Any],
     *,
     path: str | Path,
-    optional: Iterable[str] = TITLE_FIELDS,
+    optional: Iterable[str] = OPTIONAL_TITLE_FIELDS,
 ) -> None:
     """Check that *inputs* gives exactly the names *expected* (a template's parameters).
 
     Unknown names are reported with the closest expected name; missing names
-    are reported unless listed in *optional* (the title-block fields, by
-    default, which keep the template's values when not given). For an
-    :class:`InputsFile` the inputs are checked, not the ``[sheet]`` table (its
-    fields were checked when it was read), and unknown names give their line.
+    are reported unless listed in *optional* (by default the title-block
+    fields but ``subject``, which keep the template's values when not given).
+    For an :class:`InputsFile` the inputs are checked, not the ``[sheet]``
+    table (its fields were checked when it was read, and a field given there
+    counts as given), and unknown names give their line.
 
     Raises
     ------
@@ -616,6 +638,7 @@ def check_keys(
     calckit.errors.InputsError: p101.toml: unknown input "stifness" (did you mean "stiffness"?); missing input "stiffness". The template's inputs are mass, stiffness.
     """
     given = dict(inputs.values) if isinstance(inputs, InputsFile) else dict(inputs)
+    in_sheet = set(inputs.sheet.present()) if isinstance(inputs, InputsFile) else set()
     optional = set(optional)
     problems = []
     for name in given:
@@ -626,7 +649,9 @@ def check_keys(
         close = difflib.get_close_matches(name, list(expected), n=1)
         hint = f' (did you mean "{close[0]}"?)' if close else ""
         problems.append(f'unknown input "{name}"{at}{hint}')
-    missing = [name for name in expected if name not in given and name not in optional]
+    missing = [
+        name for name in expected if name not in given and name not in in_sheet and name not in optional
+    ]
     if missing:
         problems.append(f"missing input{'s' if len(missing) > 1 else ''} {_quoted(missing)}")
     if problems:

@@ -9,9 +9,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
    (``mass = "250 kg"``), numbers (``damping_ratio = 0.05``), true/false, and
    expressions as text (``forcing = "F0*cos(w*t)"``, read later with
    :func:`calckit.inputs.parse_expression`, never run). The title-block fields
-   ``project``, ``calculation``, ``revision``, ``author``, ``checker`` and
-   ``date`` may be declared there too; an inputs file sets them from its
-   ``[sheet]`` table. Run as it is, the template uses these values.
+   ``subject``, ``project``, ``calculation``, ``revision``, ``author``,
+   ``checker`` and ``date`` may be declared there too; an inputs file sets
+   them from its ``[sheet]`` table (or at its top level); ``subject`` it must
+   give, the others keep the template's values when left out. Run as it is,
+   the template uses these values.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
    fingerprint covers the template. A cell *before* the parameters cell sets
@@ -45,15 +47,35 @@ its source, the error's type and its message. A calckit error whose place is an
 input's name (``mass: must be greater than zero ...``) is reported at that
 input's file and line instead.
 
-Nothing built is silently replaced: an output folder that already holds a sheet
-built from other inputs (another fingerprint) is refused with
-:class:`~calckit.errors.OverwriteError` unless ``overwrite=True``; rebuilding the
-same inputs through the same template replaces files with equal ones.
+Nothing built is silently replaced. Without ``overwrite=True`` a build into a
+folder that already holds files of a sheet of the same name is refused with
+:class:`~calckit.errors.OverwriteError`
+
+- when the sheet there has another fingerprint (see
+  :attr:`calckit.Sheet.fingerprint` for what it covers), known once the new
+  sheet is built, or one that cannot be read (refused before any cell runs);
+- when the fingerprint is the same but any file about to be replaced differs
+  from what this build writes, byte for byte (a PDF's print dates aside, which
+  Chromium sets anew each time): an executed notebook annotated since it was
+  built, a PDF signed since, a sheet built with another date (the date is not
+  in the fingerprint).
+
+A rebuild of the same inputs through the same template writes the same bytes,
+so it goes through without ``overwrite``; a file of the old sheet that this
+build does not write (a PDF, when no PDF is asked for now) is then kept. With
+``overwrite=True`` the sheet's files are replaced and such a file is removed
+(it would describe the replaced sheet). The executed notebook is never written
+over the template it came from. The files are compared once they are
+finished, after the template has run and before anything is moved into the
+folder. Bytes, and not the fingerprint alone: an equal fingerprint says the
+calculation is the same, not that the files there are the ones a build wrote.
 
 Batches and executors
 ---------------------
 :func:`run_batch` builds one sheet per case of a table into ``<out>/<case>/``
-and writes ``summary.csv`` and ``summary.html``. Every case is dispatched
+and writes ``summary.csv`` and ``summary.html``; a summary already in the
+folder (another batch's, or one the user edited) is refused before any case
+runs unless ``overwrite=True``. Every case is dispatched
 through one :class:`concurrent.futures.Executor`: by default a
 :class:`~concurrent.futures.ProcessPoolExecutor` (processes started by
 *spawn*, one per available core, at most one per case). Any object with the
@@ -266,10 +288,10 @@ class Template:
 
     @property
     def inputs(self) -> list[str]:
-        """Parameter names an inputs file must give (all but the title-block fields)."""
-        from .inputs import TITLE_FIELDS
+        """Parameter names an inputs file must give (all but the optional title-block fields)."""
+        from .inputs import OPTIONAL_TITLE_FIELDS
 
-        return [name for name in self.parameters if name not in TITLE_FIELDS]
+        return [name for name in self.parameters if name not in OPTIONAL_TITLE_FIELDS]
 
 
 def _resource_folder(package: str, fallback: str) -> Path:
@@ -981,6 +1003,16 @@ def _check_out_folder(out: Path) -> None:
         )
 
 
+def _check_not_template(out: Path, template: Path) -> None:
+    target = out / f"{template.stem}.ipynb"
+    if target.exists() and target.resolve() == template.resolve():
+        raise BuildError(
+            "the output folder is the template's own folder: the executed notebook would replace the template",
+            where=str(target),
+            do="Give another folder for --out",
+        )
+
+
 def _held_fingerprint(out: Path, stem: str) -> tuple[bool, str | None]:
     """Whether the folder holds files of a sheet called *stem*, and their fingerprint."""
     present = [out / f"{stem}{suffix}" for suffix in _SHEET_SUFFIXES if (out / f"{stem}{suffix}").exists()]
@@ -1008,6 +1040,33 @@ def _refuse(out: Path, stem: str, held: str | None) -> OverwriteError:
     )
 
 
+def _refuse_changed(out: Path, names: Sequence[str]) -> OverwriteError:
+    one = len(names) == 1
+    return OverwriteError(
+        f"the output folder holds this sheet (same fingerprint), but {', '.join(names)} "
+        f"{'differs' if one else 'differ'} from what this build writes (edited since it was built?)",
+        where=str(out),
+        do=f"Keep a copy elsewhere, build into another folder, or pass overwrite=True (--overwrite) "
+        f"to replace {'it' if one else 'them'}",
+    )
+
+
+_PDF_DATES = re.compile(rb"/(CreationDate|ModDate) ?\(D:[0-9Z+'-]*\)")
+
+
+def _same_file(held: Path, written: Path) -> bool:
+    """Whether a file in the output folder holds what the build wrote: the same bytes (a PDF's dates aside)."""
+    try:
+        old, new = held.read_bytes(), written.read_bytes()
+    except OSError:
+        return False
+    if old == new:
+        return True
+    if written.suffix == ".pdf":  # Chromium stamps each print with its time
+        return _PDF_DATES.sub(rb"/\1 ()", old) == _PDF_DATES.sub(rb"/\1 ()", new)
+    return False
+
+
 async def _build_in(
     kernel: _Kernel,
     template: Template,
@@ -1028,6 +1087,7 @@ async def _build_in(
     import nbformat
 
     stem = template.name
+    _check_not_template(out, template.path)
     held_any, held_print = held
     if held_any and held_print is None and not overwrite:
         raise _refuse(out, stem, held_print)
@@ -1077,10 +1137,19 @@ async def _build_in(
         if held_any and not overwrite and held_print != fingerprint:
             raise _refuse(out, stem, held_print)
         produced = [s for s in (".ipynb", ".pdf", ".html", ".json") if (work / f"{stem}{s}").exists()]
+        if not overwrite:  # the same fingerprint: replace only files that hold what this build wrote
+            changed = [
+                f"{stem}{s}"
+                for s in produced
+                if (out / f"{stem}{s}").exists() and not _same_file(out / f"{stem}{s}", work / f"{stem}{s}")
+            ]
+            if changed:
+                raise _refuse_changed(out, changed)
         out.mkdir(parents=True, exist_ok=True)
-        for suffix in _SHEET_SUFFIXES:  # stale files of the replaced sheet (a PDF not asked for now)
-            if suffix not in produced:
-                (out / f"{stem}{suffix}").unlink(missing_ok=True)
+        if overwrite:  # stale files of the replaced sheet (a PDF not asked for now)
+            for suffix in _SHEET_SUFFIXES:
+                if suffix not in produced:
+                    (out / f"{stem}{suffix}").unlink(missing_ok=True)
         mode = _file_mode()
         for suffix in produced:  # the JSON record last: it marks the sheet complete
             os.chmod(work / f"{stem}{suffix}", mode)  # temporary files are private; sheets are not
@@ -1182,7 +1251,9 @@ def build_sheet(
     pdf : bool
         Also print the sheet to PDF (needs Chromium).
     overwrite : bool
-        Replace a sheet in the output folder that was built from other inputs.
+        Replace the sheet's files in the output folder when they differ from
+        what this build writes: a sheet built from other inputs, or files
+        changed since they were built (an annotated notebook).
     timeout : int
         Seconds one cell may run.
 
@@ -1197,14 +1268,17 @@ def build_sheet(
     CellError
         A cell of the template failed (bad input values among them).
     OverwriteError
-        The output folder holds a sheet built from other inputs.
+        The output folder holds a sheet built from other inputs, or files of
+        this sheet that differ from what the build writes.
     BuildError
-        No such template, or the kernel could not run it.
+        No such template, the output folder is the template's own, or the
+        kernel could not run it.
     """
     started = time.monotonic()
     path = _find_template(template)
     out = Path(out)
     _check_out_folder(out)
+    _check_not_template(out, path)
     return _run_sync(
         lambda: _build_alone(
             path, inputs, out, pdf=pdf, overwrite=overwrite, timeout=timeout, started=started
@@ -1446,7 +1520,7 @@ def _line_after(lines: Sequence[str], start: int | None, key: str) -> int | None
 def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, line_of: Callable) -> None:
     import difflib
 
-    from .inputs import TITLE_FIELDS
+    from .inputs import OPTIONAL_TITLE_FIELDS
 
     for name in names:
         if name not in known:
@@ -1456,7 +1530,7 @@ def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, lin
             raise InputsError(
                 f'unknown input "{name}"',
                 where=f"{path}, line {line}" if line else str(path),
-                do=f"{hint}The template's inputs are {', '.join(n for n in known if n not in TITLE_FIELDS)}",
+                do=f"{hint}The template's inputs are {', '.join(n for n in known if n not in OPTIONAL_TITLE_FIELDS)}",
             )
 
 
@@ -1586,7 +1660,9 @@ def run_batch(
     pdf : bool
         Also print each sheet to PDF.
     overwrite : bool
-        Replace sheets built from other inputs in the cases' folders.
+        Replace a summary already in the output folder, and sheets in the
+        cases' folders that differ from what the batch writes (see
+        :func:`build_sheet`).
     progress : callable, optional
         Called as ``progress(done, total, case_result)`` after each case.
 
@@ -1599,6 +1675,9 @@ def run_batch(
     InputsError
         The base inputs or the cases cannot be read, or name inputs the
         template does not have (checked before any case runs).
+    OverwriteError
+        The output folder holds a summary already (checked before any case
+        runs).
     """
     from .inputs import check_keys, read_inputs
 
@@ -1609,6 +1688,7 @@ def run_batch(
     _check_out_folder(out)
     if workers is not None and workers < 1:
         raise InputsError(f"{workers} workers cannot run anything", where="workers", do="Give 1 or more")
+    _check_summaries(out, overwrite)
     base_values = _prepared(tmpl, base) if base is not None else dict(tmpl.parameters)
     base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
     if base is not None:  # unknown names only: a case may give what the base leaves out
@@ -1652,7 +1732,7 @@ def run_batch(
         if own:
             executor.shutdown(wait=True, cancel_futures=True)
     ordered = tuple(results[case.name] for case in table)
-    csv_path, html_path = _write_summary(out, tmpl, ordered)
+    csv_path, html_path = _write_summary(out, tmpl, ordered, overwrite=overwrite)
     return BatchResult(out, ordered, csv_path, html_path)
 
 
@@ -1705,18 +1785,75 @@ def _summary_rows(results: Sequence[CaseResult]) -> tuple[list[str], list[list[A
     return header, rows
 
 
-def _atomic_text(path: Path, text: str) -> None:
+_SUMMARIES = ("summary.csv", "summary.html")
+
+
+def _check_summaries(out: Path, overwrite: bool) -> None:
+    """Refuse a batch whose summary would replace one in the folder (before any case runs)."""
+    for name in _SUMMARIES:
+        if (out / name).is_dir():
+            raise BuildError(
+                "a folder stands where the batch writes its summary",
+                where=str(out / name),
+                do="Batch into another folder",
+            )
+    held = [name for name in _SUMMARIES if (out / name).exists()]
+    if held and not overwrite:
+        raise OverwriteError(
+            f"the output folder already holds a batch summary ({', '.join(held)})",
+            where=str(out / held[0]),
+            do="Batch into another folder, or pass overwrite=True (--overwrite) to replace it; "
+            "no case was run",
+        )
+
+
+def write_text_file(path: str | os.PathLike, text: str, *, overwrite: bool = False) -> Path:
+    """Write *text* to *path* whole (a temporary file, then a rename); an existing file only with *overwrite*.
+
+    Without *overwrite* the file is created only if the name is still free
+    when the rename happens (a hard link where the file system has them), so
+    that a file that appeared meanwhile is not replaced either.
+
+    Raises
+    ------
+    OverwriteError
+        The file exists and *overwrite* is false; nothing is written.
+    """
+    return _write_file(Path(path), text.encode("utf-8"), overwrite=overwrite)
+
+
+def _write_file(path: Path, data: bytes, *, overwrite: bool) -> Path:
+    refused = OverwriteError(
+        "the file exists already",
+        where=str(path),
+        do="Choose another name, or pass overwrite=True (--overwrite) to replace it; nothing was written",
+    )
+    if not overwrite and path.exists():
+        raise refused
     fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-        os.replace(tmp, path)
-    except BaseException:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+        os.chmod(tmp, _file_mode())  # temporary files are private; what is written is not
+        if overwrite:
+            os.replace(tmp, path)
+            return path
+        try:
+            os.link(tmp, path)
+        except FileExistsError:
+            raise refused from None
+        except OSError:  # no hard links here: the check above has to do
+            if path.exists():
+                raise refused from None
+            os.replace(tmp, path)
+    finally:
         Path(tmp).unlink(missing_ok=True)
-        raise
+    return path
 
 
-def _write_summary(out: Path, template: Template, results: Sequence[CaseResult]) -> tuple[Path, Path]:
+def _write_summary(
+    out: Path, template: Template, results: Sequence[CaseResult], *, overwrite: bool = False
+) -> tuple[Path, Path]:
     from .render.page import Html, escape, html_page, table
     from .units import fmt_number
 
@@ -1726,8 +1863,7 @@ def _write_summary(out: Path, template: Template, results: Sequence[CaseResult])
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(header)
     writer.writerows([[repr(c) if isinstance(c, float) else c for c in row] for row in rows])
-    csv_path = out / "summary.csv"
-    _atomic_text(csv_path, buffer.getvalue())
+    csv_path = write_text_file(out / "summary.csv", buffer.getvalue(), overwrite=overwrite)
 
     def shown(column: str, cell: Any) -> Any:
         if isinstance(cell, float):
@@ -1743,14 +1879,19 @@ def _write_summary(out: Path, template: Template, results: Sequence[CaseResult])
     html_rows = [[shown(h, c) for h, c in zip(header, row, strict=True)] for row in rows]
     built = sum(r.ok for r in results)
     body = (
-        f"<h1>Batch of {len(results)} cases: {escape(template.name)}</h1>"
+        f"<h1>Batch of {_count(len(results), 'case')}: {escape(template.name)}</h1>"
         f"<p>{built} built, {len(results) - built} failed. Each case's sheet is in its own folder; "
         "margins are in percent of the limit, positive when the check is met.</p>"
         + table(header, html_rows, cls="checks")
     )
-    html_path = out / "summary.html"
-    _atomic_text(html_path, html_page(f"Batch summary: {template.name}", body, footer_left=template.name))
+    page = html_page(f"Batch summary: {template.name}", body, footer_left=template.name)
+    html_path = write_text_file(out / "summary.html", page, overwrite=overwrite)
     return csv_path, html_path
+
+
+def _count(number: int, noun: str) -> str:
+    """``"1 case"``, ``"3 cases"``."""
+    return f"{number} {noun}" if number == 1 else f"{number} {noun}s"
 
 
 # ---------------------------------------------------------------------------
@@ -1818,20 +1959,9 @@ def new_calculation(template: str, dest: str | os.PathLike) -> tuple[Path, Path]
                 "the file exists already", where=str(path), do="Choose another name; nothing was written"
             )
     dest.parent.mkdir(parents=True, exist_ok=True)
-    _atomic_bytes(dest, tmpl.path.read_bytes())
-    _atomic_text(inputs, inputs_text(tmpl))
+    _write_file(dest, tmpl.path.read_bytes(), overwrite=False)
+    _write_file(inputs, inputs_text(tmpl).encode("utf-8"), overwrite=False)
     return dest, inputs
-
-
-def _atomic_bytes(path: Path, data: bytes) -> None:
-    fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
 
 
 @dataclasses.dataclass(frozen=True)

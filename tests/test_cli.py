@@ -133,6 +133,8 @@ def runs(tmp_path_factory):
         writer.writerow(["full-speed", "1480 rpm", ""])
         writer.writerow(["turned-down", "600 rpm", ""])
         writer.writerow(["no-unit", "", "1850"])
+    (root / "one.csv").write_text("case,forcing_frequency\nonly,1200 rpm\n", encoding="utf-8")
+    jobs["one_case"] = ("batch", TEMPLATE, "--cases", "one.csv", "--inputs", str(EXAMPLE), "--out", "one")
     with cf.ThreadPoolExecutor(max_workers=2) as pool:
         futures = {name: pool.submit(calckit, *args, cwd=root) for name, args in jobs.items()}
         done = {name: future.result() for name, future in futures.items()}
@@ -237,7 +239,44 @@ class TestDiff:
         )
         assert "Inputs changed (1):\n  forcing_frequency: 1480 rpm -> 600 rpm\n" in run.stdout
         assert "Checks flipped (1):\n  amplitude: met -> NOT MET\n" in run.stdout
+        # results as the sheet shows them: the amplitude in mm, the phase in degrees
+        assert "\n  amplitude: 0.02058 mm -> " in run.stdout
+        assert re.search(r"\n  phase_lag: 179\.3 deg -> \d+(\.\d+)? deg \(", run.stdout)
         assert (root / "diff.html").read_text().startswith("<!DOCTYPE html>")
+
+    def test_html_not_over_a_file(self, runs):
+        """--html refuses a file that exists (exit 2, nothing printed, the file kept); --overwrite replaces it."""
+        root, done, _ = runs
+        assert done["slow"].returncode == 0, done["slow"].stderr
+        notes = root / "notes.html"
+        notes.write_text("<p>my notes</p>", encoding="utf-8")
+        run = calckit("diff", "demo/p101", "slow", "--html", "notes.html", cwd=root)
+        _no_traceback(run)
+        assert (run.returncode, run.stdout, run.stderr) == (
+            2,
+            "",
+            "calckit diff: error: notes.html: the file exists already. Give another file for --html, or pass "
+            "--overwrite to replace it; nothing was written.\n",
+        )
+        assert notes.read_text(encoding="utf-8") == "<p>my notes</p>"
+        again = calckit("diff", "demo/p101", "slow", "--html", "notes.html", "--overwrite", cwd=root)
+        assert again.returncode == 0, again.stderr
+        assert again.stdout.endswith("Report written to notes.html\n")
+        assert notes.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
+
+    def test_html_never_over_a_compared_sheet(self, runs):
+        """--html naming a file of a sheet being compared is refused even with --overwrite."""
+        root, _, _ = runs
+        sheet = root / "slow" / f"{TEMPLATE}.html"
+        kept = sheet.read_bytes()
+        run = calckit("diff", "demo/p101", "slow", "--html", f"slow/{TEMPLATE}.html", "--overwrite", cwd=root)
+        assert (run.returncode, run.stdout, run.stderr) == (
+            2,
+            "",
+            f"calckit diff: error: slow/{TEMPLATE}.html: the report would replace a file of a sheet being "
+            "compared. Give another file for --html; nothing was written.\n",
+        )
+        assert sheet.read_bytes() == kept
 
     def test_same_sheet(self, runs):
         """A sheet compared with its own record: same inputs, same calculation."""
@@ -284,6 +323,32 @@ class TestBatch:
         )
         assert (root / "batch" / "summary.html").is_file()
         assert (root / "batch" / "turned-down" / f"{TEMPLATE}.html").is_file()
+
+    def test_summary_not_replaced(self, runs):
+        """A second batch into the same folder is refused before any case runs: exit 2, the summary kept."""
+        root, done, _ = runs
+        assert done["batch"].returncode == 1
+        before = (root / "batch" / "summary.csv").read_bytes()
+        run = calckit(
+            "batch", TEMPLATE, "--cases", "one.csv", "--inputs", str(EXAMPLE), "--out", "batch", cwd=root
+        )
+        _no_traceback(run)
+        assert (run.returncode, run.stdout, run.stderr) == (
+            2,
+            "",
+            "calckit batch: error: batch/summary.csv: the output folder already holds a batch summary "
+            "(summary.csv, summary.html). Batch into another folder, or pass overwrite=True (--overwrite) to "
+            "replace it; no case was run.\n",
+        )
+        assert (root / "batch" / "summary.csv").read_bytes() == before
+        assert not (root / "batch" / "only").exists()
+
+    def test_one_case(self, runs):
+        """A batch of one case says "1 case"."""
+        _, done, _ = runs
+        run = done["one_case"]
+        assert run.returncode == 0, run.stderr
+        assert run.stdout.splitlines()[0] == "1 case: 1 built, 0 failed"
 
     def test_unknown_column_stops_before_running(self, tmp_path):
         """An unknown column is refused before any case runs: exit 2, no output folder."""

@@ -451,7 +451,39 @@ class TestReadInputs:
         """A misspelt title-block field gets a suggestion."""
         assert read_error(tmp_path, '[sheet]\nprojekt = "Harrow Creek"\n') == (
             'FILE, line 2, sheet.projekt: unknown title-block field "projekt". Did you mean "project"? '
-            "The [sheet] table takes project, calculation, revision, author, checker, date."
+            "The [sheet] table takes subject, project, calculation, revision, author, checker, date."
+        )
+
+    def test_subject_in_sheet(self, tmp_path):
+        """The subject may be given in [sheet]; it is a title-block field, not an input."""
+        f = read_inputs(write(tmp_path, 'mass = "250 kg"\n[sheet]\nsubject = "Pump P-101"\nrevision = "B"\n'))
+        assert dict(f.values) == {"mass": "250 kg"}
+        assert f.sheet == TitleBlock(subject="Pump P-101", revision="B")
+        assert f.where("subject") == f"{f.path}, line 3, subject"
+        assert f.assignments(["subject", "mass"]) == {"mass": "250 kg", "subject": "Pump P-101"}
+
+    def test_subject_at_top_level(self, tmp_path):
+        """The subject written at the top level, as older inputs files do, still reads."""
+        f = read_inputs(write(tmp_path, 'subject = "Pump P-101"\nmass = "250 kg"\n[sheet]\nrevision = "B"\n'))
+        assert f.values["subject"] == "Pump P-101" and f.sheet.subject is None
+        assert f.assignments(["subject", "mass", "revision"]) == {
+            "subject": "Pump P-101",
+            "mass": "250 kg",
+            "revision": "B",
+        }
+
+    @pytest.mark.parametrize(
+        ("text", "key", "line", "elsewhere"),
+        [
+            ('subject = "Pump P-101"\n[sheet]\nsubject = "Pump P-102"\n', "subject", 3, "at the top level"),
+            ('[machine]\nrevision = "A"\n[sheet]\nrevision = "B"\n', "revision", 4, "in [machine]"),
+        ],
+    )
+    def test_title_field_given_twice(self, tmp_path, text, key, line, elsewhere):
+        """A title-block field in [sheet] and again outside it is refused: neither silently wins."""
+        assert read_error(tmp_path, text) == (
+            f'FILE, line {line}, sheet.{key}: "{key}" is set in [sheet] and also {elsewhere}. '
+            "Give it once, preferably in [sheet]."
         )
 
     def test_title_field_not_text(self, tmp_path):
@@ -518,6 +550,24 @@ class TestCheckKeys:
         assert message(excinfo) == (
             f'{f.path}: unknown input "mas" on line 4 (did you mean "mass"?); missing input "mass". '
             "The template's inputs are mass."
+        )
+
+    @pytest.mark.parametrize(
+        "text",
+        ['subject = "P-101"\nmass = "1 kg"\n', 'mass = "1 kg"\n[sheet]\nsubject = "P-101"\n'],
+    )
+    def test_subject_given_either_way(self, tmp_path, text):
+        """A template's subject is found at the top level or in [sheet]."""
+        f = read_inputs(write(tmp_path, text))
+        check_keys(f, {"subject": "", "mass": "1 kg", "revision": ""}, path=f.path)
+
+    def test_subject_required(self, tmp_path):
+        """The subject is the one title-block field a template's inputs file must give."""
+        f = read_inputs(write(tmp_path, 'mass = "1 kg"\n[sheet]\nrevision = "B"\n'))
+        with pytest.raises(InputsError) as excinfo:
+            check_keys(f, {"subject": "", "mass": "1 kg", "revision": ""}, path=f.path)
+        assert message(excinfo) == (
+            f'{f.path}: missing input "subject". The template\'s inputs are subject, mass.'
         )
 
     def test_optional_names(self):

@@ -11,6 +11,7 @@ import csv
 import json
 import math
 import multiprocessing
+import shutil
 from pathlib import Path
 
 import nbformat
@@ -20,6 +21,7 @@ from calckit.diffing import Change, diff_records, diff_sheets, read_record
 from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
 from calckit.inputs import TITLE_FIELDS, check_keys, read_inputs
 from calckit.sheet import existing_fingerprint
+from calckit.units import fmt_number
 from calckit.workflow import (
     INPUTS_TAG,
     PARAMETERS_TAG,
@@ -192,11 +194,13 @@ class TestBuildSheet:
         assert check["verdict"] == ("met" if amplitude <= given["amplitude_limit"] else "not met")
 
     def test_same_inputs_rebuild(self, built, tmp_path):
-        """Rebuilding the same inputs over the same sheet is allowed and gives the same fingerprint;
+        """Rebuilding the same inputs over the same sheet is allowed: the same fingerprint, the same bytes;
         other inputs are refused without overwrite, and replace it with overwrite."""
         root, base, moved = built
+        before = {p.name: p.read_bytes() for p in (root / "base").iterdir()}
         again = build_sheet(TEMPLATE, EXAMPLE, root / "base")
         assert again.fingerprint == base.fingerprint
+        assert {p.name: p.read_bytes() for p in (root / "base").iterdir()} == before
         slow_inputs = root / "p101_600rpm.toml"
         with pytest.raises(OverwriteError) as info:
             build_sheet(TEMPLATE, slow_inputs, root / "base")
@@ -206,6 +210,86 @@ class TestBuildSheet:
             "or pass overwrite=True (--overwrite) to replace it."
         )
         assert existing_fingerprint(base.json) == base.fingerprint
+
+    def test_revision_only_rebuild(self, built):
+        """A rebuild with only [sheet] revision changed is refused without overwrite (the sheet says
+        another revision) and replaces the sheet with it."""
+        root, base, _ = built
+        folder = root / "revision"
+        shutil.copytree(root / "base", folder)
+        revised = root / "p101_rev_b.toml"
+        revised.write_text(
+            _changed(EXAMPLE.read_text(encoding="utf-8"), 'revision = "A"', 'revision = "B"'),
+            encoding="utf-8",
+        )
+        before = {p.name: p.read_bytes() for p in folder.iterdir()}
+        with pytest.raises(OverwriteError) as info:
+            build_sheet(TEMPLATE, revised, folder)
+        # the revision is in the fingerprint: the sheet there is another one
+        assert str(info.value) == (
+            f"{folder / TEMPLATE}.json: the output folder already holds a sheet with "
+            f"fingerprint {base.fingerprint[:12]}, built from other inputs. Build into another folder, "
+            "or pass overwrite=True (--overwrite) to replace it."
+        )
+        assert {p.name: p.read_bytes() for p in folder.iterdir()} == before
+        assert not list(root.glob(".calckit-build-*"))
+        replaced = build_sheet(TEMPLATE, revised, folder, overwrite=True)
+        assert json.loads(replaced.json.read_text())["title_block"]["revision"] == "B"
+        assert existing_fingerprint(replaced.html) == replaced.fingerprint
+
+    def test_annotated_notebook_kept(self, built):
+        """An executed notebook annotated since the build is not replaced by a rebuild of the same
+        inputs (same fingerprint) without overwrite; with overwrite it is."""
+        root, base, _ = built
+        folder = root / "annotated"
+        shutil.copytree(root / "base", folder)
+        notebook = nbformat.read(folder / f"{TEMPLATE}.ipynb", as_version=4)
+        notebook.cells.append(nbformat.v4.new_markdown_cell("Checked the isolator data sheet: OK. B.C."))
+        nbformat.write(notebook, folder / f"{TEMPLATE}.ipynb")
+        annotated = (folder / f"{TEMPLATE}.ipynb").read_bytes()
+        with pytest.raises(OverwriteError) as info:
+            build_sheet(TEMPLATE, EXAMPLE, folder)
+        assert str(info.value) == (
+            f"{folder}: the output folder holds this sheet (same fingerprint), but {TEMPLATE}.ipynb "
+            "differs from what this build writes (edited since it was built?). Keep a copy elsewhere, "
+            "build into another folder, or pass overwrite=True (--overwrite) to replace it."
+        )
+        assert (folder / f"{TEMPLATE}.ipynb").read_bytes() == annotated
+        build_sheet(TEMPLATE, EXAMPLE, folder, overwrite=True)
+        assert (folder / f"{TEMPLATE}.ipynb").read_bytes() == base.notebook.read_bytes()
+
+    def test_pdf_print_dates_do_not_count(self, tmp_path):
+        """Two prints of one sheet differ only in their dates and count as the same file; a signed PDF
+        (bytes appended) does not."""
+        from calckit.workflow import _same_file
+
+        head = b"%PDF-1.4\n1 0 obj\n<</Producer (Skia/PDF m156)\n"
+        first, second, signed = tmp_path / "a.pdf", tmp_path / "b.pdf", tmp_path / "c.pdf"
+        first.write_bytes(
+            head + b"/CreationDate (D:20261201223210+00'00')\n/ModDate (D:20261201223210+00'00')>>"
+        )
+        second.write_bytes(
+            head + b"/CreationDate (D:20261202080000+00'00')\n/ModDate (D:20261202080000+00'00')>>"
+        )
+        signed.write_bytes(second.read_bytes() + b"\n% signature\n")
+        assert _same_file(first, second)
+        assert not _same_file(signed, second)
+        (tmp_path / "a.html").write_text("x")
+        (tmp_path / "b.html").write_text("y")
+        assert not _same_file(tmp_path / "a.html", tmp_path / "b.html")
+
+    def test_not_over_the_template(self, tmp_path):
+        """A build into the template's own folder would put the executed notebook over the template:
+        refused, even with overwrite."""
+        notebook, inputs = new_calculation(TEMPLATE, tmp_path / "p102.ipynb")
+        kept = notebook.read_bytes()
+        with pytest.raises(BuildError) as info:
+            build_sheet(notebook, inputs, tmp_path, overwrite=True)
+        assert str(info.value) == (
+            f"{notebook}: the output folder is the template's own folder: the executed notebook would "
+            "replace the template. Give another folder for --out."
+        )
+        assert notebook.read_bytes() == kept
 
     def test_failed_cell(self, tmp_path):
         """An error that is not calckit's names the cell, line and source, and is not a user error."""
@@ -253,6 +337,26 @@ class TestDiff:
             )
         assert [c.verdicts() for c in report.flipped] == ["amplitude: met -> NOT MET"]
         assert [c.name for c in report.margins_moved] == ["speed separation"]
+        names = "mass, stiffness, damping_ratio, force_amplitude, forcing_frequency, forcing"
+        assert report.details == (Change(f"source of {names}", EXAMPLE.name, "p101_600rpm.toml"),)
+        assert (report.bases, report.limits, report.texts, report.caution) == ((), (), (), None)
+
+    def test_results_as_the_sheet_shows_them(self, built):
+        """Results are shown in the sheet's units (amplitude in mm, phase in degrees), not in SI."""
+        _, base, moved = built
+        report = diff_sheets(base.json, moved.json)
+        shown = {m.name: (m.old_shown, m.new_shown) for m in report.results}
+        old, new = _results(base.record), _results(moved.record)
+        assert shown["amplitude"] == (
+            f"{fmt_number(old['amplitude'] * 1000)} mm",
+            f"{fmt_number(new['amplitude'] * 1000)} mm",
+        )
+        assert shown["phase_lag"] == (
+            f"{fmt_number(math.degrees(old['phase_lag']))} deg",
+            f"{fmt_number(math.degrees(new['phase_lag']))} deg",
+        )
+        assert shown["amplitude"][0] == "0.02058 mm"  # as on the sheet: "X = 0.02058 mm"
+        assert "0.02058 mm" in " ".join(base.html.read_text(encoding="utf-8").replace("<", " <").split())
 
     def test_same_sheet(self, built):
         """A sheet compared with itself: same inputs, same calculation, nothing listed."""
@@ -280,6 +384,101 @@ class TestDiff:
         report = diff_records(old, new)
         assert report.results[0].percent is None
         assert report.text() == "Inputs changed (1):\n  k: added, 1 N/m\nResults moved (1):\n  x: 0 m -> 1 m"
+
+    def test_shown_units(self):
+        """Lengths under 0.1 m in mm and angles in degrees, old and new in one unit; a record's own
+        shown text is used as it is; other units as recorded."""
+        old = {
+            "fingerprint": "a",
+            "results": [
+                {"name": "x", "value": 2.058e-5, "unit": "m"},
+                {"name": "gap", "value": 0.05, "unit": "m"},
+                {"name": "phi", "value": 3.129, "unit": "rad"},
+                {"name": "f", "value": 3.14, "unit": "1/s"},
+                {"name": "k", "value": 720000.0, "unit": "N/m", "shown": "720 kN/m"},
+            ],
+        }
+        new = {
+            "fingerprint": "b",
+            "results": [
+                {"name": "x", "value": 4.0e-5, "unit": "m"},
+                {"name": "gap", "value": 0.25, "unit": "m"},
+                {"name": "phi", "value": 1.5708, "unit": "rad"},
+                {"name": "f", "value": 6.28, "unit": "1/s"},
+                {"name": "k", "value": 540000.0, "unit": "N/m"},
+            ],
+        }
+        assert [m.shown() for m in diff_records(old, new).results] == [
+            "x: 0.02058 mm -> 0.04 mm (+94.4 %)",
+            "gap: 0.05 m -> 0.25 m (+400.0 %)",
+            "phi: 179.3 deg -> 90 deg (-49.8 %)",
+            "f: 3.14 Hz -> 6.28 Hz (+100.0 %)",
+            "k: 720 kN/m -> 540000 N/m (-25.0 %)",
+        ]
+
+    def test_texts_bases_sources_caution(self):
+        """Changed input sources, check bases and limits, assumptions, references, notes and the caution
+        are each reported, readably."""
+        old = {
+            "fingerprint": "a",
+            "inputs": [{"name": "mass", "text": "1850 kg", "description": "Moving mass", "source": "p101.toml"}],
+            "checks": [
+                {"name": "amplitude", "verdict": "met", "margin_percent": 50.0, "limit": 0.05,
+                 "relation": "<=", "unit": "mm", "basis": "Pump specification"},
+                {"name": "separation", "verdict": "met", "margin_percent": 10.0, "limit": 20.0,
+                 "relation": ">=", "unit": "percent", "basis": "common practice"},
+            ],
+            "assumptions": ["Rigid base.", "Steady forcing."],
+            "references": ["Book A"],
+            "notes": [],
+            "caution": "Check the inputs.",
+        }  # fmt: skip
+        new = {
+            "fingerprint": "b",
+            "inputs": [{"name": "mass", "text": "1850 kg", "description": "Moving mass", "source": "Weighed"}],
+            "checks": [
+                {"name": "amplitude", "verdict": "met", "margin_percent": 50.0, "limit": 0.05,
+                 "relation": "<=", "unit": "mm", "basis": "ISO 10816-3, zone A"},
+                {"name": "separation", "verdict": "met", "margin_percent": 10.0, "limit": 25.0,
+                 "relation": ">=", "unit": "percent", "basis": "common practice"},
+            ],
+            "assumptions": ["Rigid base.", "Forcing at one frequency."],
+            "references": ["Book A", "Book B"],
+            "notes": ["Site visit 3 May."],
+            "caution": "",
+        }  # fmt: skip
+        report = diff_records(old, new)
+        assert report.text() == (
+            "Input descriptions and sources changed (1):\n"
+            "  source of mass: p101.toml -> Weighed\n"
+            "Check limits changed (1):\n"
+            "  separation: >= 20 % -> >= 25 %\n"
+            "Check bases changed (1):\n"
+            "  amplitude: Pump specification -> ISO 10816-3, zone A\n"
+            "Assumptions (2):\n"
+            "  removed: Steady forcing.\n"
+            "  added: Forcing at one frequency.\n"
+            "References (1):\n"
+            "  added: Book B\n"
+            "Notes (1):\n"
+            "  added: Site visit 3 May.\n"
+            "Caution changed:\n"
+            "  was: Check the inputs.\n"
+            "  now: (none)"
+        )
+        page = report.html()
+        for text in ("ISO 10816-3, zone A", "Weighed", "&gt;= 25 %", "Site visit 3 May.", "Caution changed"):
+            assert text in page
+
+    def test_only_texts_changed(self):
+        """Sheets that differ only in a text are not reported as a template or version change."""
+        old = {"fingerprint": "a", "references": ["Book A"]}
+        new = {"fingerprint": "b", "references": []}
+        assert diff_records(old, new).text() == "References (1):\n  removed: Book A"
+        assert diff_records(old, {**old, "fingerprint": "b"}).text() == (
+            "Nothing shown on the sheets differs, but the fingerprints do: the template or the calckit "
+            "version changed."
+        )
 
     def test_noise_is_not_a_move(self):
         """Results equal to one part in 10^9 do not count as moved."""
@@ -411,6 +610,47 @@ class TestBatch:
         assert rows[1]["message"] == result.cases[1].message
         page = result.summary_html.read_text(encoding="utf-8")
         assert "<strong>failed</strong>" in page and "<script" not in page
+        assert "<h1>Batch of 2 cases: single_mass_harmonic</h1>" in page
+
+    def test_summary_not_replaced(self, batch):
+        """A second batch into the same folder is refused before any case runs: the first batch's
+        summary is kept."""
+        root, result, _, _, _ = batch
+        before = (result.summary_csv.read_bytes(), result.summary_html.read_bytes())
+        executor = CountingExecutor()
+        try:
+            with pytest.raises(OverwriteError) as info:
+                run_batch(TEMPLATE, root / "cases.csv", root / "out", inputs=EXAMPLE, executor=executor)
+        finally:
+            executor.shutdown()
+        assert str(info.value) == (
+            f"{root / 'out' / 'summary.csv'}: the output folder already holds a batch summary (summary.csv, "
+            "summary.html). Batch into another folder, or pass overwrite=True (--overwrite) to replace it; "
+            "no case was run."
+        )
+        assert executor.submitted == 0
+        assert (result.summary_csv.read_bytes(), result.summary_html.read_bytes()) == before
+
+    def test_edited_summary_replaced_with_overwrite(self, tmp_path):
+        """A summary the user edited is refused; with overwrite a one-case batch replaces it (and says
+        "1 case")."""
+        (tmp_path / "out").mkdir()
+        mine = tmp_path / "out" / "summary.csv"
+        mine.write_text("case,status,my remarks\nold,built,checked by B.C.\n", encoding="utf-8")
+        cases = tmp_path / "one.csv"
+        cases.write_text("case,damping_ratio\nlight,0.02\n", encoding="utf-8")
+        with pytest.raises(OverwriteError) as info:
+            run_batch(TEMPLATE, cases, tmp_path / "out", inputs=EXAMPLE, workers=1)
+        assert str(info.value).startswith(
+            f"{mine}: the output folder already holds a batch summary (summary.csv). Batch into another folder"
+        )
+        assert mine.read_text(encoding="utf-8").endswith("checked by B.C.\n")
+        result = run_batch(TEMPLATE, cases, tmp_path / "out", inputs=EXAMPLE, workers=1, overwrite=True)
+        assert [(c.name, c.ok) for c in result.cases] == [("light", True)]
+        assert mine.read_text(encoding="utf-8").startswith("case,status,checks met,")
+        assert "<h1>Batch of 1 case: single_mass_harmonic</h1>" in result.summary_html.read_text(
+            encoding="utf-8"
+        )
 
 
 class TestReadCases:
