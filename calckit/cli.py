@@ -294,6 +294,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print(f"calckit {args.command}: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # the reader went away (calckit ... | head): not an error of ours
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())  # so that Python's exit flush does not fail again
+        return 0
     except Exception as exc:  # never a traceback at the command line
         text = " ".join(str(exc).split()) or "no message"
         print(

@@ -722,7 +722,7 @@ def _exact_text(value: Any) -> str:
 
 def _result_record(name: str, value: Any) -> dict:
     si, unit = _si_of(value, name)
-    out = {"name": name, "value": si, "unit": unit}
+    out = {"name": name, "value": si, "unit": unit, "shown": _shown(value)}
     if si is None:
         out["text"] = str(value)
     return out
