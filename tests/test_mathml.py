@@ -338,3 +338,36 @@ class TestSympyLatex:
         eq = sp.Eq(m * x(_t).diff(_t, 2) + c * x(_t).diff(_t) + k * x(_t), f0 * sp.cos(_w * _t))
         root = _tree(latex_to_mathml(sp.latex(eq)))
         assert len(list(root.iter(NS + "mfrac"))) == 2
+
+
+class TestPrinterComparison:
+    """The two candidates of calckit.render.mathml's docstring, side by side on the same
+    constructs (sympy.printing.mathml's presentation printer against latex2mathml through
+    latex_to_mathml); these are the measured reasons for the choice."""
+
+    def _sympy(self, expr):
+        from sympy.printing.mathml import mathml
+
+        return mathml(expr, printer="presentation")
+
+    def test_both_take_fractions_roots_subscripts_greek(self):
+        k, m = sp.symbols("k m")
+        for expr in (sp.sqrt(k / m), k / m, sp.Symbol("omega_n"), sp.Symbol("zeta")):
+            ours = latex_to_mathml(sp.latex(expr))
+            theirs = self._sympy(expr)
+            for tag in ("mfrac", "msqrt", "msub"):
+                assert (f"<{tag}" in ours) == (f"<{tag}" in theirs), (expr, tag)
+
+    def test_sympy_printer_names_atan2_arctan(self):
+        """sympy's printer writes atan2(y, x) as arctan(y, x): a different function on a sheet."""
+        y, x = sp.symbols("y x")
+        assert "arctan" in self._sympy(sp.atan2(y, x))
+        assert "atan2" in latex_to_mathml(r"\operatorname{atan2}(y, x)")
+
+    def test_sympy_printer_has_no_text_units_or_aligned_systems(self):
+        """Units as text and aligned coefficient systems are LaTeX, not sympy expressions: only
+        the LaTeX route can carry them, so one formatter (LaTeX) feeds both outputs."""
+        ours = latex_to_mathml(r"\begin{aligned} a &= 1\;\mathrm{N/m} \\ b &= 2 \end{aligned}")
+        assert "<mtable" in ours and '<mi mathvariant="normal">N</mi>' in ours
+        with pytest.raises((TypeError, AttributeError)):
+            self._sympy(r"\begin{aligned} a &= 1 \end{aligned}")  # a string is not an expression
