@@ -238,6 +238,22 @@ class LinearODE:
         return f"LinearODE({list(self.coefficients)!r})"
 
     # ---------------------------------------------------------- the method
+    def response(self, f, initial_values, *, t: sp.Symbol | None = None):
+        """Total response meeting ``x(0), x'(0), ..., x^(n-1)(0) = initial_values``.
+
+        Returns a :class:`~calckit.response.Response` (``solution``, ``transient``,
+        ``steady_state``, ``steps``); see :func:`calckit.response.total_response`.
+
+        Examples
+        --------
+        >>> t = sp.Symbol("t", real=True)
+        >>> LinearODE([1, 0, 0]).response(sp.Integer(2), [1, 0], t=t).solution
+        t**2 + 1
+        """
+        from .response import total_response
+
+        return total_response(self, f, initial_values, t=t)
+
     def particular(self, f, *, t: sp.Symbol | None = None) -> Derivation:
         """Particular solution of ``L[x] = f(t)`` by undetermined coefficients.
 

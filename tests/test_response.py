@@ -256,3 +256,14 @@ def test_velocity_for_massless_model():
     assert str(info.value) == (
         "v0: a massless model is first order, so its initial velocity cannot be chosen. Leave v0 out; only x0 is used."
     )
+
+
+def test_linear_ode_response_takes_n_initial_values():
+    """LinearODE.response meets x(0)..x'''(0) for a fourth-order equation, and its total
+    satisfies the equation (checked with sympy.diff and sympy.simplify)."""
+    t = sp.Symbol("t", real=True)
+    ode = LinearODE([1, 0, 2, 0, 1])  # (D^2 + 1)^2: a double complex root pair
+    res = ode.response(sp.cos(2 * t), [0, 1, 0, 0], t=t)
+    assert [sp.simplify(sp.diff(res.solution, t, j).subs(t, 0)) for j in range(4)] == [0, 1, 0, 0]
+    lhs = sum(c * sp.diff(res.solution, t, 4 - i) for i, c in enumerate([1, 0, 2, 0, 1]))
+    assert sp.simplify(lhs - sp.cos(2 * t)) == 0
