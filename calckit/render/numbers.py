@@ -294,8 +294,10 @@ def _as_symbol(symbol, where: str) -> sp.Symbol:
 #: characters of plain text that fit one printed line of a step (A4, 11 pt)
 _ONE_LINE = 60
 
-#: units that count cycles: converted to rad/s before they enter a formula
-_CYCLE_UNITS = frozenset({"hertz", "kilohertz", "megahertz", "cycles_per_minute", "cycle"})
+#: units that count cycles or turns: converted to rad/s before they enter a formula
+_CYCLE_UNITS = frozenset(
+    {"hertz", "kilohertz", "megahertz", "cycles_per_minute", "cycle", "revolutions_per_minute", "turn"}
+)
 
 
 def _unit_names(unit) -> set[str]:
@@ -377,7 +379,8 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
     for s in symbols:
         q = quantity(given[s.name], f"{where}: value of {s.name}")
         if _unit_names(q.units) & _CYCLE_UNITS:
-            # formulas take angular frequencies: 1 Hz is 2 pi rad/s, not 1 rad/s
+            # formulas take angular frequencies: 1 Hz is 2 pi rad/s, not 1 rad/s; speeds in rpm
+            # are shown in rad/s too, so that a checker can redo the arithmetic by hand
             q = Q_(angular_frequency(q, f"{where}: value of {s.name}"), "rad/s")
         inputs.append((s, q))
         exact_si[s] = to_si(q, f"{where}: value of {s.name}").magnitude
