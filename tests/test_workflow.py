@@ -655,7 +655,8 @@ class TestBatch:
 
 class TestReadCases:
     @pytest.fixture(scope="class")
-    def template(self):
+    @classmethod
+    def template(cls):
         return load_template(TEMPLATE)
 
     def test_csv_types(self, template, tmp_path):
