@@ -25,6 +25,19 @@ are dimensionless::
     speed = "1480 rpm"           # its keys are inputs like the top-level ones
     unbalance = "120 g*mm"
 
+Where a value comes from (a vendor drawing, a data sheet, a site measurement)
+may be written with it, as an inline table of ``value`` and ``source``::
+
+    [machine]
+    mass = { value = "1850 kg", source = "Vendor GA drawing P-101-GA-001 rev C" }
+    stiffness = "720 kN/m"       # plain: the sheet names the inputs file as its source
+
+The value goes to the template exactly as if it were written alone; the source
+(non-empty text) is shown in the sheet's Source column in place of the inputs
+file's name (:attr:`InputsFile.sources`). ``value`` and ``source`` are the only
+keys such a table takes. An inline table names one input; a ``[table]``
+header groups inputs. The title-block fields take no source.
+
 Input values are text, integers, finite floats, true/false, or arrays of those.
 Input names are Python names, unique across all groups. The title-block fields
 (:data:`TITLE_FIELDS`) are passed to the template under their own names
@@ -411,6 +424,9 @@ class InputsFile:
         Name of the table each input sits in (``""`` at the top level).
     text : str
         The file's text, kept for line numbers.
+    sources : Mapping[str, str]
+        Where each input written as ``{ value = ..., source = ... }`` comes
+        from, by name, in file order; inputs written plainly are not in it.
     """
 
     path: Path
@@ -418,6 +434,7 @@ class InputsFile:
     sheet: TitleBlock = field(default_factory=TitleBlock)
     groups: Mapping[str, str] = field(default_factory=dict)
     text: str = ""
+    sources: Mapping[str, str] = field(default_factory=dict)
 
     def line_of(self, key: str) -> int | None:
         """Line number (from 1) where *key* is set, best effort; None if not found.
@@ -481,7 +498,9 @@ def read_inputs(path: str | Path) -> InputsFile:
     InputsError
         Missing file, broken TOML (with line and column), a key that is not a
         Python name, a key given twice across groups, a value of a kind that
-        inputs cannot have, a float that is NaN or infinite.
+        inputs cannot have, a float that is NaN or infinite; an input written
+        as an inline table without ``value``, with a key other than ``value``
+        and ``source``, or with a source that is not non-empty text.
 
     Examples
     --------
@@ -492,6 +511,10 @@ def read_inputs(path: str | Path) -> InputsFile:
     >>> f = read_inputs(p)
     >>> dict(f.values), f.sheet.revision
     ({'mass': '250 kg'}, 'A')
+    >>> _ = p.write_text('mass = { value = "250 kg", source = "drawing P-101-GA-001" }\\nzeta = 0.05\\n')
+    >>> f = read_inputs(p)
+    >>> dict(f.values), dict(f.sources)
+    ({'mass': '250 kg', 'zeta': 0.05}, {'mass': 'drawing P-101-GA-001'})
     """
     path = Path(path)
     try:
@@ -520,6 +543,7 @@ def read_inputs(path: str | Path) -> InputsFile:
         ) from exc
     values: dict[str, Any] = {}
     groups: dict[str, str] = {}
+    sources: dict[str, str] = {}
     sheet = TitleBlock()
     text_file = InputsFile(path, {}, text=text)
 
@@ -538,15 +562,19 @@ def read_inputs(path: str | Path) -> InputsFile:
                 where=place,
                 do="Give each input once",
             )
+        if isinstance(value, dict):
+            value, sources[key] = _sourced_value(key, value, place)
         values[key] = _input_value(value, place)
         groups[key] = group
 
     for key, value in data.items():
         if key == "sheet" and isinstance(value, dict):
             sheet = _title_block(value, path, text_file)
+        elif isinstance(value, dict) and _find_line(text, "", key) is not None:
+            add(key, value, "")  # key = { value = ..., source = ... }: one input, not a group
         elif isinstance(value, dict):
             for inner, inner_value in value.items():
-                if isinstance(inner_value, dict):
+                if isinstance(inner_value, dict) and _find_line(text, key, inner) is None:
                     raise InputsError(
                         f'the table "{key}.{inner}" is nested inside "{key}"',
                         where=str(path),
@@ -563,7 +591,74 @@ def read_inputs(path: str | Path) -> InputsFile:
                 where=f"{path}, line {_find_line(text, 'sheet', key) or '?'}, sheet.{key}",
                 do="Give it once, preferably in [sheet]",
             )
-    return InputsFile(path, MappingProxyType(values), sheet, MappingProxyType(groups), text)
+    return InputsFile(
+        path, MappingProxyType(values), sheet, MappingProxyType(groups), text, MappingProxyType(sources)
+    )
+
+
+_SOURCED_KEYS = ("value", "source")
+
+
+def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any, str]:
+    """The value and the source of an input written as ``key = { value = ..., source = ... }``."""
+    example = f'{key} = {{ value = "...", source = "Vendor drawing ..." }}'
+    if key in TITLE_FIELDS:
+        raise InputsError(
+            f'the title-block field "{key}" is written as a table',
+            where=place,
+            do=f'Title-block fields take no source: write {key} = "..."',
+        )
+    for inner in table:
+        if inner not in _SOURCED_KEYS:
+            close = difflib.get_close_matches(inner, _SOURCED_KEYS, n=1)
+            hint = f'Did you mean "{close[0]}"? ' if close else ""
+            raise InputsError(
+                f'unknown key "{inner}" in the table of the input "{key}"',
+                where=place,
+                do=f"{hint}An input written as a table takes only value and source: {example}; "
+                f"to group inputs, put them under a [{key}] header",
+            )
+    if "value" not in table:
+        raise InputsError(
+            f'the input "{key}" is written as a table without a value',
+            where=place,
+            do=f"Give its value in the table: {example}",
+        )
+    if "source" not in table:
+        raise InputsError(
+            f'the input "{key}" is written as a table without a source',
+            where=place,
+            do=f"Give its source in the table: {example}, or write {key} = value alone",
+        )
+    source = table["source"]
+    if not isinstance(source, str):
+        raise InputsError(
+            f"the source must be text, not {_kind(source)}",
+            where=place,
+            do=f"Write where the value comes from in quotes: {example}, or write {key} = value alone",
+        )
+    if not source.strip():
+        raise InputsError(
+            "the source is empty",
+            where=place,
+            do=f"Write where the value comes from: {example}, or write {key} = value alone",
+        )
+    return table["value"], source.strip()
+
+
+def _kind(value: Any) -> str:
+    """``"a number"``, ``"a table"``...: what a TOML value is, in words."""
+    if isinstance(value, bool):
+        return "true/false"
+    if isinstance(value, int | float):
+        return "a number"
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, list):
+        return "a list"
+    if isinstance(value, _dt.date | _dt.time):
+        return "a date or time"
+    return f"a {type(value).__name__}"
 
 
 def _input_value(value: Any, place: str) -> Any:
@@ -595,6 +690,12 @@ def _title_block(table: Mapping[str, Any], path: Path, file: InputsFile) -> Titl
             )
         if isinstance(value, _dt.date | _dt.datetime):
             value = value.isoformat()
+        if isinstance(value, dict):
+            raise InputsError(
+                f'the title-block field "{key}" is written as a table',
+                where=place,
+                do=f'Title-block fields take no source: write {key} = "..."',
+            )
         if not isinstance(value, str):
             raise InputsError(
                 f"expected text, got {value!r}",

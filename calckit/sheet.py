@@ -266,6 +266,9 @@ class Sheet:
     show : bool
         Display each block in Jupyter as it is added (default: when running in
         an IPython kernel).
+    sources : mapping, optional
+        Source of an input by its name (from an inputs file); it wins over the
+        ``source=`` given to :meth:`input`.
     """
 
     def __init__(
@@ -282,7 +285,9 @@ class Sheet:
         template: str = "",
         caution: str = DEFAULT_CAUTION,
         show: bool | None = None,
+        sources: Mapping[str, str] | None = None,
     ):
+        self.sources = dict(sources or {})
         self.title = TitleBlock(subject, project, number, revision, author, checker, date, approver)
         self.template_digest = hashlib.sha256(template.encode()).hexdigest() if template else ""
         if not caution or not str(caution).strip():
@@ -321,7 +326,9 @@ class Sheet:
         ``value`` may be text with a unit ("250 kg", "1480 rpm"), a number, a
         pint Quantity, or a sympy expression (e.g. a forcing). ``expect`` names
         the kind of quantity ("mass", "stiffness", "frequency" ...) to check.
+        A source given for *name* in the sheet's ``sources`` wins over ``source``.
         """
+        source = self.sources.get(name, source)
         _check_name(name, "input name")
         if name in self.inputs:
             raise SheetError(
