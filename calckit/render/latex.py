@@ -329,6 +329,60 @@ def _e(expr, nt: Notation) -> Tex:
     return Tex(expr_latex(expr, nt.name_map), expr_text(expr))
 
 
+#: typeset characters that fit one printed line of a formula (A4, 10-11 pt)
+LINE_TEXT = 80
+
+
+def _width(expr) -> int:
+    """Rough width of *expr* as typeset, in characters: a fraction is as wide as the wider
+    of its numerator and denominator, an exponent adds little."""
+    if isinstance(expr, sp.Add):
+        return sum(_width(a) for a in expr.args) + 3 * (len(expr.args) - 1)
+    if isinstance(expr, sp.Mul):
+        num, den = sp.fraction(expr)
+        if den != 1:
+            return max(_width(num), _width(den)) + 1
+        return sum(_width(a) for a in expr.args) + len(expr.args) - 1
+    if isinstance(expr, sp.Pow):
+        return _width(expr.base) + 2 + (2 if isinstance(expr.base, (sp.Add, sp.Mul)) else 0)
+    if isinstance(expr, sp.Function):
+        return len(type(expr).__name__) + sum(_width(a) for a in expr.args) + 2
+    return len(sp.sstr(expr))
+
+
+def _long_rows(lhs: tuple[Tex, ...], expr, nt: Notation) -> tuple[Row, ...]:
+    """``lhs = expr`` as one row, or, when the sum is too wide for a printed line,
+    as rows of whole terms aligned at the equals sign (``= a + b`` / ``+ c + d``)."""
+    whole = _e(expr, nt)
+    if not isinstance(expr, sp.Add) or _width(expr) <= LINE_TEXT:
+        return (Row(lhs, (EQ, whole)),)
+    rows: list[Row] = []
+    chunk_latex: list[str] = []
+    chunk_text: list[str] = []
+    chunk_width = 0
+    for term in expr.as_ordered_terms():
+        negative = term.could_extract_minus_sign()
+        piece = _e(-term if negative else term, nt)
+        sign = "-" if negative else "+"
+        first = not rows and not chunk_latex
+        latex = (f"{sign} " if (negative or not first) else "") + piece.latex
+        text = (f"{sign} " if (negative or not first) else "") + piece.text
+        if chunk_text and chunk_width + _width(term) > LINE_TEXT:
+            relation = (EQ,) if not rows else ()
+            rows.append(
+                Row(lhs if not rows else (), (*relation, Tex(" ".join(chunk_latex), " ".join(chunk_text))))
+            )
+            chunk_latex, chunk_text, chunk_width = [], [], 0
+            if not latex.startswith(("+", "-")):
+                latex, text = "+ " + latex, "+ " + text
+        chunk_latex.append(latex)
+        chunk_text.append(text)
+        chunk_width += _width(term) + 3
+    relation = (EQ,) if not rows else ()
+    rows.append(Row(lhs if not rows else (), (*relation, Tex(" ".join(chunk_latex), " ".join(chunk_text)))))
+    return tuple(rows)
+
+
 def _words(text: str) -> Tex:
     safe = re.sub(r"([&%#_{}$])", r"\\\1", text)
     return Tex(rf"\text{{{safe}}}", text.strip())
@@ -578,7 +632,7 @@ def _(step: SolvedCoefficientsStep, nt: Notation) -> tuple[Row, ...]:
 
 @step_rows.register
 def _(step: ParticularSolutionStep, nt: Notation) -> tuple[Row, ...]:
-    return (Row((_derivative(nt, 0, "p", "t"),), (EQ, _e(step.solution, nt))),)
+    return _long_rows((_derivative(nt, 0, "p", "t"),), step.solution, nt)
 
 
 @step_rows.register
@@ -592,7 +646,7 @@ def _(step: VerificationStep, nt: Notation) -> tuple[Row, ...]:
 
 @step_rows.register
 def _(step: HomogeneousStep, nt: Notation) -> tuple[Row, ...]:
-    return (Row((_derivative(nt, 0, "h", "t"),), (EQ, _e(step.solution, nt))),)
+    return _long_rows((_derivative(nt, 0, "h", "t"),), step.solution, nt)
 
 
 @step_rows.register
@@ -609,10 +663,11 @@ def _(step: InitialConditionsStep, nt: Notation) -> tuple[Row, ...]:
 def _(step: TotalResponseStep, nt: Notation) -> tuple[Row, ...]:
     x = _derivative(nt, 0, None, "t")
     xh, xp = _derivative(nt, 0, "h", "t"), _derivative(nt, 0, "p", "t")
+    total = _long_rows((), step.solution, nt)
     return (
-        Row((xh,), (EQ, _e(step.transient, nt))),
+        *_long_rows((xh,), step.transient, nt),
         Row((x,), (EQ, Tex(f"{xh.latex} + {xp.latex}", f"{xh.text} + {xp.text}"))),
-        Row((), (EQ, _e(step.solution, nt))),
+        *total,
     )
 
 

@@ -81,6 +81,9 @@ table { border-collapse: collapse; width: 100%; margin: 0.6em 0; font-size: 0.95
 th, td { border: 0.5pt solid #000; padding: 0.25em 0.5em; text-align: left; vertical-align: top; }
 th { font-weight: bold; background: #f2f2f2; }
 td.number, th.number { text-align: right; font-variant-numeric: tabular-nums; }
+/* values, limits and margins stay on one line */
+table.inputs td:nth-child(3), table.checks td:nth-child(3), table.checks td:nth-child(4),
+table.checks td:nth-child(5) { white-space: nowrap; }
 thead { display: table-header-group; }
 tr, figure, .step, .check, .caution, .signoff, .math { break-inside: avoid; page-break-inside: avoid; }
 h1, h2, h3 { break-after: avoid; page-break-after: avoid; }
@@ -128,6 +131,7 @@ figcaption { font-size: 0.9em; margin-top: 0.3em; }
   body { max-width: none; margin: 0; padding: 0; font-size: 10pt; }
   .running { display: none; }
   .math { overflow: visible; }
+  .math math { font-size: 0.95em; }
   a { color: inherit; text-decoration: none; }
   th { background: none; }
 }

@@ -278,7 +278,7 @@ def sheet_page(sheet: Sheet) -> str:
         _body(sheet),
         header_left=tb.project,
         header_right=ident,
-        footer_left=f"{ident} · {tb.subject}" if ident else tb.subject,
+        footer_left=ident or tb.subject[:60],
         footer_right=f"fingerprint {sheet.fingerprint[:12]}",
     )
 
