@@ -1730,7 +1730,13 @@ class Explorer:
         return "\n".join(lines)
 
     def __repr__(self) -> str:
-        return self.text()
+        text = self.text()
+        if not _in_kernel():  # a plain Python session: say how to move the values here
+            text += (
+                "\n(The sliders need Jupyter with ipywidgets. Here, move values with "
+                ".set(name=value) and write them with .keep(path).)"
+            )
+        return text
 
     def _repr_mimebundle_(self, include=None, exclude=None):
         if self.widget is not None and _in_kernel():
