@@ -29,6 +29,7 @@ import math
 import os
 import re
 import tempfile
+from collections.abc import Mapping
 from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any
@@ -644,22 +645,30 @@ class Sheet:
         }
 
     # -------------------------------------------------------------- output
-    def to_html(self) -> str:
-        """The whole sheet as one self-contained HTML page."""
+    def to_html(self, *, paper: str | None = None) -> str:
+        """The whole sheet as one self-contained HTML page (``paper`` fixes the printed size)."""
         from .render.sheet_html import sheet_page
 
-        return sheet_page(self)
+        if paper not in (None, "A4", "Letter"):
+            raise SheetError(f"unknown paper size {paper!r}", where="paper", do='Use "A4" or "Letter"')
+        page = sheet_page(self)
+        if paper:
+            page = page.replace("</style>", f"@page {{ size: {paper}; }}\n</style>", 1)
+        return page
 
     def to_json(self) -> str:
         return json.dumps(self.record(), indent=2, sort_keys=False, ensure_ascii=False) + "\n"
 
-    def save(self, path: str | os.PathLike, *, overwrite: bool = False, keep_both: bool = False) -> Path:
+    def save(
+        self, path: str | os.PathLike, *, overwrite: bool = False, keep_both: bool = False, paper: str = "A4"
+    ) -> Path:
         """Write the sheet to ``.html``, ``.pdf`` or ``.json``; return the path written.
 
         A file that already holds a sheet with a different fingerprint is not
         replaced unless ``overwrite=True``; with ``keep_both=True`` the new sheet
         is written alongside as ``name-2.html`` (``-3`` ...). Writes are atomic:
-        a failed save never leaves a file that looks complete.
+        a failed save never leaves a file that looks complete. ``paper`` ("A4" or
+        "Letter") sets the page size of a PDF; the HTML prints on either.
         """
         path = Path(path)
         suffix = path.suffix.lower()
@@ -677,7 +686,7 @@ class Sheet:
         else:
             from .render.printing import html_to_pdf
 
-            html_to_pdf(self.to_html(), path)
+            html_to_pdf(self.to_html(paper=paper), path)
         return path
 
     def _target(self, path: Path, *, overwrite: bool, keep_both: bool) -> Path:
