@@ -16,18 +16,29 @@ A template is a Jupyter notebook that builds one calculation sheet.
    the template uses these values.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
-   fingerprint covers the template. A cell *before* the parameters cell sets
-   the defaults ``template_text = ""`` and ``inputs_file = "..."`` (used as the
-   inputs' source), so that the template also runs by hand. Inputs go on the
-   sheet under their parameter names (``sheet.input("mass", mass, ...)``), so
-   that an error about an input is reported at its line in the inputs file.
+   fingerprint covers the template, and with ``sources=input_sources``. A cell
+   *before* the parameters cell sets the defaults ``template_text = ""``,
+   ``inputs_file = "..."`` (used as the inputs' source) and
+   ``input_sources = {}``, so that the template also runs by hand. Inputs go on
+   the sheet under their parameter names (``sheet.input("mass", mass, ...,
+   source=inputs_file)``), so that an error about an input is reported at its
+   line in the inputs file, and so that a source the inputs file gives for an
+   input (``mass = { value = "1850 kg", source = "Vendor drawing ..." }``, see
+   :mod:`calckit.inputs`) takes the place of ``inputs_file`` in the sheet's
+   Source column.
 3. **The build** (:func:`build_sheet`, ``calckit build``) reads and checks the
    inputs file against the parameters (unknown names with the closest known
    one, missing names), then puts a new code cell tagged ``inputs-from-file``
-   right after the parameters cell. That cell assigns every input, the
-   title-block fields the template declares, ``inputs_file`` (the inputs file's
-   name) and ``template_text`` (a SHA-256 of the template's cell sources, so
-   that metadata Jupyter rewrites on save does not count). The notebook runs in
+   right after the parameters cell. That cell assigns every input (the value
+   alone, also for an input written with a source), the title-block fields the
+   template declares, ``inputs_file`` (the inputs file's name),
+   ``template_text`` (a SHA-256 of the template's cell sources, so that
+   metadata Jupyter rewrites on save does not count) and, when the inputs file
+   gives sources, ``input_sources`` (input name -> source, for those inputs
+   only). A source given for an input that the built sheet does not show, or
+   not shown as its source (a template that does not pass ``input_sources`` to
+   its sheet), stops the build before anything is written: no source is
+   dropped without a word. The notebook runs in
    a new ``python3`` kernel of the interpreter calckit runs in (see "Kernels"
    below), with a temporary folder as its working folder. The kernel is started
    first; the template and the inputs are read and checked while it starts and
@@ -474,13 +485,51 @@ def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -
         sheet.save(base.with_suffix(".pdf"), overwrite=True)
 
 
-def _inputs_cell_source(assignments: Mapping[str, Any], inputs_label: str, digest: str) -> str:
+def _inputs_cell_source(
+    assignments: Mapping[str, Any],
+    inputs_label: str,
+    digest: str,
+    sources: Mapping[str, str] | None = None,
+) -> str:
     from .inputs import injected_source
 
     text = injected_source(assignments)
     label = f"# Inputs set by calckit build from {inputs_label}\n"
     text = label + text.split("\n", 1)[1] if text.startswith("# Inputs set by calckit build") else text
-    return text + f"inputs_file = {inputs_label!r}\ntemplate_text = {f'calckit template sha256 {digest}'!r}\n"
+    text += f"inputs_file = {inputs_label!r}\ntemplate_text = {f'calckit template sha256 {digest}'!r}\n"
+    if sources:  # left out when there are none: the template's default input_sources = {} holds
+        for name, source in sources.items():
+            if not isinstance(name, str) or not isinstance(source, str):
+                raise InputsError(
+                    f"the source {source!r} of {name!r} is not text",
+                    where="input sources",
+                    do="Give each source as text, by the input's name",
+                )
+        text += "input_sources = {\n" + "".join(f"    {n!r}: {s!r},\n" for n, s in sources.items()) + "}\n"
+    return text
+
+
+def _check_sources(
+    template: Template, record: Mapping[str, Any], sources: Mapping[str, str], wheres: Mapping[str, str]
+) -> None:
+    """Refuse a built sheet that does not show a source the inputs file gives, where it gives it."""
+    shown = {item.get("name"): item.get("source") for item in record.get("inputs", [])}
+    for name in sources:
+        if name not in shown:
+            raise InputsError(
+                f'the template puts no input "{name}" on the sheet, so its source would not be shown',
+                where=wheres.get(name, name),
+                do=f"Write {name} = value without a source; nothing was written",
+            )
+    for name, source in sources.items():
+        if shown[name] != source:
+            raise BuildError(
+                f'the sheet shows "{shown[name]}" as the source of "{name}", not the inputs file\'s '
+                f'"{source}": the template does not pass input_sources to its sheet',
+                where=str(template.path),
+                do="Set input_sources = {} in the cell before the parameters cell and create the sheet "
+                "with ck.Sheet(..., sources=input_sources); nothing was written",
+            )
 
 
 def _kernel_env() -> dict[str, str]:
@@ -1080,8 +1129,13 @@ async def _build_in(
     overwrite: bool,
     timeout: int,
     started: float,
+    sources: Mapping[str, str] | None = None,
 ) -> BuildResult:
-    """Build one sheet in *kernel* (warmed up), which is reset first."""
+    """Build one sheet in *kernel* (warmed up), which is reset first.
+
+    *sources* (input name -> source, from the inputs file) go to the template
+    as ``input_sources``; the built sheet must show each of them.
+    """
     import copy
 
     import nbformat
@@ -1093,7 +1147,9 @@ async def _build_in(
         raise _refuse(out, stem, held_print)
 
     notebook = copy.deepcopy(template.notebook)
-    injected = nbformat.v4.new_code_cell(_inputs_cell_source(assignments, inputs_label, template.digest))
+    injected = nbformat.v4.new_code_cell(
+        _inputs_cell_source(assignments, inputs_label, template.digest, sources)
+    )
     injected.metadata["tags"] = [INPUTS_TAG]
     if "id" in injected and INPUTS_TAG not in {cell.get("id") for cell in notebook.cells}:
         injected.id = INPUTS_TAG  # not a random one: the same inputs give the same notebook
@@ -1133,6 +1189,8 @@ async def _build_in(
         nbformat.write(notebook, work / f"{stem}.ipynb")
         record_path = work / f"{stem}.json"
         record = json.loads(record_path.read_text(encoding="utf-8"))
+        if sources:
+            _check_sources(template, record, sources, wheres)
         fingerprint = record["fingerprint"]
         if held_any and not overwrite and held_print != fingerprint:
             raise _refuse(out, stem, held_print)
@@ -1170,7 +1228,7 @@ async def _build_in(
 
 def _prepare_build(
     path: Path, inputs: str | os.PathLike, out: Path
-) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None]]:
+) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str]]:
     """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
     from .inputs import check_keys, read_inputs
 
@@ -1178,7 +1236,8 @@ def _prepare_build(
     file = read_inputs(inputs)
     check_keys(file, tmpl.parameters, path=file.path)
     wheres = {name: file.where(name) for name in tmpl.parameters}
-    return tmpl, _prepared(tmpl, file), wheres, file.path.name, _held_fingerprint(out, tmpl.name)
+    held = _held_fingerprint(out, tmpl.name)
+    return tmpl, _prepared(tmpl, file), wheres, file.path.name, held, dict(file.sources)
 
 
 async def _build_alone(
@@ -1199,11 +1258,11 @@ async def _build_alone(
         await asyncio.wait({prepare, warm}, return_when=asyncio.FIRST_EXCEPTION)
         if prepare.done() and prepare.exception() is not None:
             warm.cancel()  # bad inputs: no need to wait for the kernel
-        template, assignments, wheres, label, held = await prepare
+        template, assignments, wheres, label, held, sources = await prepare
         await warm
         return await _build_in(
             kernel, template, assignments, wheres, label, out, held,
-            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started,
+            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
         )  # fmt: skip
     finally:
         if not warm.done():
@@ -1594,6 +1653,7 @@ def _run_case(
     name: str,
     pdf: bool,
     overwrite: bool,
+    sources: dict[str, str] | None = None,
 ) -> CaseResult:
     """Build one case; never raises for a case that fails (runs in a worker)."""
     started = time.monotonic()
@@ -1603,6 +1663,7 @@ def _run_case(
         _check_out_folder(out)
         held = _held_fingerprint(out, template.name)
         options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
+        options["sources"] = sources
         options["once"] = _loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
         result = _run_sync(
             lambda: _build_kept(template, assignments, wheres, inputs_label, out, held, **options)
@@ -1691,6 +1752,7 @@ def run_batch(
     _check_summaries(out, overwrite)
     base_values = _prepared(tmpl, base) if base is not None else dict(tmpl.parameters)
     base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
+    base_sources = dict(base.sources) if base is not None else {}
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
     cases_label = Path(cases).name
@@ -1710,7 +1772,11 @@ def run_batch(
             if base
             else f"case {case.name} of {cases_label}"
         )
-        jobs.append((str(tmpl.path), values, wheres, label, str(out / case.name), case.name, pdf, overwrite))
+        # a source of the base file stays with its value: an input the case changes has none
+        sources = {n: s for n, s in base_sources.items() if n not in case.values}
+        jobs.append(
+            (str(tmpl.path), values, wheres, label, str(out / case.name), case.name, pdf, overwrite, sources)
+        )
 
     own = executor is None
     if own:

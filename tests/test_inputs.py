@@ -508,6 +508,159 @@ class TestReadInputs:
         assert message(excinfo) == f"{path}: the inputs file is not UTF-8 text. Save it as UTF-8."
 
 
+SOURCED_TOML = """\
+# P-101: two inputs with their sources, the others plain
+mass = { value = "1850 kg", source = "Vendor GA drawing P-101-GA-001 rev C (invented)" }
+zeta = 0.05
+
+[machine]
+speed = "1480 rpm"
+unbalance = {value="120 g*mm",source="  Pump data sheet P-101-DS-001  "}  # padding is trimmed
+speeds = { source = "Motor data sheet M-101-DS-001 (invented)", value = ["1400 rpm", "1480 rpm"] }
+"""
+
+INLINE_EXAMPLE = '{ value = "...", source = "Vendor drawing ..." }'
+
+
+class TestInputSources:
+    """An input written as { value = ..., source = ... } carries where its value comes from."""
+
+    def test_mixed_plain_and_sourced(self, tmp_path):
+        """The values read as if written alone; only the inputs written with a source have one."""
+        f = read_inputs(write(tmp_path, SOURCED_TOML))
+        assert dict(f.values) == {
+            "mass": "1850 kg",
+            "zeta": 0.05,
+            "speed": "1480 rpm",
+            "unbalance": "120 g*mm",
+            "speeds": ("1400 rpm", "1480 rpm"),
+        }
+        assert dict(f.sources) == {
+            "mass": "Vendor GA drawing P-101-GA-001 rev C (invented)",
+            "unbalance": "Pump data sheet P-101-DS-001",
+            "speeds": "Motor data sheet M-101-DS-001 (invented)",
+        }
+        assert list(f.sources) == ["mass", "unbalance", "speeds"]
+        assert dict(f.groups) == {
+            "mass": "",
+            "zeta": "",
+            "speed": "machine",
+            "unbalance": "machine",
+            "speeds": "machine",
+        }
+        assert [f.line_of(k) for k in ("mass", "zeta", "unbalance")] == [2, 3, 7]
+        assert f.assignments() == dict(f.values)
+        with pytest.raises(TypeError):
+            f.sources["zeta"] = "mine"
+
+    def test_same_values_as_plain(self, tmp_path):
+        """Writing a source changes no value: the plain file reads to the same inputs."""
+        plain = (
+            'mass = "1850 kg"\nzeta = 0.05\n[machine]\nspeed = "1480 rpm"\nunbalance = "120 g*mm"\n'
+            'speeds = ["1400 rpm", "1480 rpm"]\n'
+        )
+        sourced = read_inputs(write(tmp_path, SOURCED_TOML))
+        alone = read_inputs(write(tmp_path, plain, "plain.toml"))
+        assert dict(sourced.values) == dict(alone.values) and dict(alone.sources) == {}
+        check_keys(sourced, dict.fromkeys(alone.values, ""), path=sourced.path)
+
+    def test_a_header_still_groups(self, tmp_path):
+        """Under a [mass] header, value and source are two inputs of the group "mass", as before."""
+        f = read_inputs(write(tmp_path, '[mass]\nvalue = "1 kg"\nsource = "x"\n'))
+        assert dict(f.values) == {"value": "1 kg", "source": "x"} and dict(f.sources) == {}
+        assert f.groups["value"] == "mass"
+
+    def test_nested_header_still_refused(self, tmp_path):
+        """[machine.speed] is a nested table, not an input with a source."""
+        assert read_error(tmp_path, '[machine.speed]\nvalue = "1480 rpm"\nsource = "x"\n') == (
+            'FILE: the table "machine.speed" is nested inside "machine". Use one level of tables to group inputs.'
+        )
+
+    @pytest.mark.parametrize(
+        ("text", "expected"),
+        [
+            (
+                'mass = { source = "Vendor drawing" }\n',
+                'FILE, line 1, mass: the input "mass" is written as a table without a value. '
+                f"Give its value in the table: mass = {INLINE_EXAMPLE}.",
+            ),
+            (
+                '[machine]\nspeed = { value = "1480 rpm" }\n',
+                'FILE, line 2, speed: the input "speed" is written as a table without a source. '
+                f"Give its source in the table: speed = {INLINE_EXAMPLE}, or write speed = value alone.",
+            ),
+            (
+                'mass = { value = "1850 kg", sorce = "Vendor drawing" }\n',
+                'FILE, line 1, mass: unknown key "sorce" in the table of the input "mass". Did you mean "source"? '
+                f"An input written as a table takes only value and source: mass = {INLINE_EXAMPLE}; "
+                "to group inputs, put them under a [mass] header.",
+            ),
+            (
+                'machine = { speed = "1480 rpm" }\n',
+                'FILE, line 1, machine: unknown key "speed" in the table of the input "machine". '
+                f"An input written as a table takes only value and source: machine = {INLINE_EXAMPLE}; "
+                "to group inputs, put them under a [machine] header.",
+            ),
+            (
+                'mass = { value = "1850 kg", source = 101 }\n',
+                "FILE, line 1, mass: the source must be text, not a number. Write where the value comes from "
+                f"in quotes: mass = {INLINE_EXAMPLE}, or write mass = value alone.",
+            ),
+            (
+                'mass = { value = "1850 kg", source = 2024-05-02 }\n',
+                "FILE, line 1, mass: the source must be text, not a date or time. Write where the value comes "
+                f"from in quotes: mass = {INLINE_EXAMPLE}, or write mass = value alone.",
+            ),
+            (
+                'mass = { value = "1850 kg", source = { drawing = "P-101-GA-001" } }\n',
+                "FILE, line 1, mass: the source must be text, not a table. Write where the value comes from "
+                f"in quotes: mass = {INLINE_EXAMPLE}, or write mass = value alone.",
+            ),
+            (
+                'mass = { value = "1850 kg", source = "  " }\n',
+                "FILE, line 1, mass: the source is empty. Write where the value comes from: "
+                f"mass = {INLINE_EXAMPLE}, or write mass = value alone.",
+            ),
+            (
+                'mass = { value = 2024-05-02, source = "Vendor drawing" }\n',
+                'FILE, line 1, mass: a date value cannot be an input. Give text with a unit ("250 kg"), '
+                "a number or true/false.",
+            ),
+            (
+                'mass = { value = nan, source = "Vendor drawing" }\n',
+                "FILE, line 1, mass: the value nan is not a finite number. Give a finite number.",
+            ),
+            (
+                'subject = { value = "Pump P-101", source = "Vendor drawing" }\n',
+                'FILE, line 1, subject: the title-block field "subject" is written as a table. '
+                'Title-block fields take no source: write subject = "...".',
+            ),
+            (
+                '[sheet]\nrevision = { value = "B", source = "Vendor drawing" }\n',
+                'FILE, line 2, sheet.revision: the title-block field "revision" is written as a table. '
+                'Title-block fields take no source: write revision = "...".',
+            ),
+        ],
+        ids=[
+            "no-value",
+            "no-source",
+            "unknown-key",
+            "group-as-inline-table",
+            "number-source",
+            "date-source",
+            "table-source",
+            "empty-source",
+            "date-value",
+            "nan-value",
+            "title-field",
+            "title-field-in-sheet",
+        ],
+    )
+    def test_refused(self, tmp_path, text, expected):
+        """A malformed input table is refused at its line with what to write instead."""
+        assert read_error(tmp_path, text) == expected
+
+
 class TestCheckKeys:
     EXPECTED = {"mass": "1 kg", "stiffness": "1 N/m", "zeta": 0.0, "project": "", "revision": ""}
 

@@ -337,7 +337,8 @@ class TestDiff:
             )
         assert [c.verdicts() for c in report.flipped] == ["amplitude: met -> NOT MET"]
         assert [c.name for c in report.margins_moved] == ["speed separation"]
-        names = "mass, stiffness, damping_ratio, force_amplitude, forcing_frequency, forcing"
+        # the inputs whose source is the inputs file's name; the two with their own source keep it
+        names = "mass, stiffness, forcing_frequency, forcing"
         assert report.details == (Change(f"source of {names}", EXAMPLE.name, "p101_600rpm.toml"),)
         assert (report.bases, report.limits, report.texts, report.caution) == ((), (), (), None)
 
@@ -706,6 +707,162 @@ class TestReadCases:
         with pytest.raises(InputsError) as info:
             read_cases(path, template)
         assert str(info.value).startswith(f"{path}, {message}")
+
+
+PUMP_SHEET = "Pump data sheet P-101-DS-001 rev B (invented)"
+ISOLATOR_SHEET = "Isolator data sheet ISO-SP-40 rev A (invented)"
+PUMP_SPEC = "Harrow Creek pump specification (invented for the demonstration)"
+
+
+def _plain(text: str) -> str:
+    """The example with its inputs written without sources."""
+    text = _changed(text, f'{{ value = "0.9 kN", source = "{PUMP_SHEET}" }}', '"0.9 kN"')
+    return _changed(text, f'{{ value = 0.05, source = "{ISOLATOR_SHEET}" }}', "0.05")
+
+
+class TestSources:
+    """Sources written in the inputs file reach the sheet's Source column and its record."""
+
+    def test_sheet_sources_win(self):
+        """Sheet(sources=...) wins over input(source=...) for the inputs it names, and enters the fingerprint."""
+        from calckit.sheet import Sheet
+
+        def sheet(sources):
+            s = Sheet("P-101", sources=sources, show=False)
+            s.input("mass", "1850 kg", source="p101.toml")
+            s.input("stiffness", "720 kN/m", source="p101.toml")
+            return s
+
+        sourced, plain = sheet({"mass": "Vendor GA drawing P-101-GA-001 rev C"}), sheet(None)
+        assert [(r.name, r.source) for r in sourced.inputs.values()] == [
+            ("mass", "Vendor GA drawing P-101-GA-001 rev C"),
+            ("stiffness", "p101.toml"),
+        ]
+        assert {r.source for r in plain.inputs.values()} == {"p101.toml"}
+        assert sourced.fingerprint != plain.fingerprint
+
+    def test_example_sources_in_record_and_html(self, built):
+        """The example's two inputs with sources show them; the other inputs show the inputs file, the
+        limit its basis; the HTML sheet's Source column says the same."""
+        _, base, _ = built
+        assert dict(read_inputs(EXAMPLE).sources) == {
+            "force_amplitude": PUMP_SHEET,
+            "damping_ratio": ISOLATOR_SHEET,
+        }
+        assert {i["name"]: i["source"] for i in base.record["inputs"]} == {
+            "mass": EXAMPLE.name,
+            "stiffness": EXAMPLE.name,
+            "damping_ratio": ISOLATOR_SHEET,
+            "force_amplitude": PUMP_SHEET,
+            "forcing_frequency": EXAMPLE.name,
+            "amplitude_limit": PUMP_SPEC,
+            "forcing": EXAMPLE.name,
+        }
+        page = base.html.read_text(encoding="utf-8")
+        assert (
+            "<td>Force amplitude</td><td>0.9 kN</td><td>Pump data sheet P-101-DS-001 rev B (invented)</td>"
+            in page
+        )
+        assert (
+            "<td>Damping ratio</td><td>0.05</td><td>Isolator data sheet ISO-SP-40 rev A (invented)</td>"
+            in page
+        )
+
+    def test_injected_cell(self, built):
+        """The template gets the values alone, and the sources as input_sources, in the file's order."""
+        _, base, _ = built
+        notebook = nbformat.read(base.notebook, as_version=4)
+        injected = notebook.cells[load_template(TEMPLATE).parameters_cell + 1].source
+        assert "force_amplitude = '0.9 kN'\n" in injected and "damping_ratio = 0.05\n" in injected
+        assert injected.endswith(
+            "input_sources = {\n"
+            f"    'force_amplitude': {PUMP_SHEET!r},\n"
+            f"    'damping_ratio': {ISOLATOR_SHEET!r},\n"
+            "}\n"
+        )
+
+    def test_plain_file_same_numbers_other_fingerprint(self, built, tmp_path):
+        """The same values without sources: the same inputs and results, the file's name as every
+        source, no input_sources in the injected cell, and another fingerprint (sources are covered)."""
+        _, base, _ = built
+        plain_inputs = tmp_path / EXAMPLE.name
+        plain_inputs.write_text(_plain(EXAMPLE.read_text(encoding="utf-8")), encoding="utf-8")
+        plain = build_sheet(TEMPLATE, plain_inputs, tmp_path / "plain")
+        assert [(i["name"], i["text"], i["value"]) for i in plain.record["inputs"]] == [
+            (i["name"], i["text"], i["value"]) for i in base.record["inputs"]
+        ]
+        assert plain.record["results"] == base.record["results"]
+        assert {i["name"]: i["source"] for i in plain.record["inputs"]}["force_amplitude"] == EXAMPLE.name
+        assert plain.fingerprint != base.fingerprint
+        notebook = nbformat.read(plain.notebook, as_version=4)
+        assert "input_sources" not in notebook.cells[load_template(TEMPLATE).parameters_cell + 1].source
+
+    def test_source_the_sheet_does_not_show(self, tmp_path):
+        """A source for a parameter the template does not put on the sheet (a limit's basis) is refused
+        at its line once the sheet is built, and nothing is written."""
+        text = _changed(
+            EXAMPLE.read_text(encoding="utf-8"),
+            f'amplitude_limit_basis = "{PUMP_SPEC}"',
+            f'amplitude_limit_basis = {{ value = "{PUMP_SPEC}", source = "HC-SPEC-M-004 (invented)" }}',
+        )
+        inputs = tmp_path / "basis.toml"
+        inputs.write_text(text, encoding="utf-8")
+        line = read_inputs(inputs).line_of("amplitude_limit_basis")
+        with pytest.raises(InputsError) as info:
+            build_sheet(TEMPLATE, inputs, tmp_path / "out")
+        assert str(info.value) == (
+            f"{inputs}, line {line}, amplitude_limit_basis: the template puts no input "
+            '"amplitude_limit_basis" on the sheet, so its source would not be shown. Write '
+            "amplitude_limit_basis = value without a source; nothing was written."
+        )
+        assert not (tmp_path / "out").exists() and not list(tmp_path.glob(".calckit-build-*"))
+
+    def test_template_without_sources(self, tmp_path):
+        """A template that does not pass input_sources to its sheet would drop the sources: refused,
+        nothing written; the same template builds a file without sources as before."""
+        notebook = nbformat.read(bundled_templates()[TEMPLATE], as_version=4)
+        for cell in notebook.cells:
+            cell.source = cell.source.replace("    sources=input_sources,\n", "")
+        template = tmp_path / "older.ipynb"
+        nbformat.write(notebook, template)
+        with pytest.raises(BuildError) as info:
+            build_sheet(template, EXAMPLE, tmp_path / "out")
+        assert str(info.value) == (
+            f'{template}: the sheet shows "{EXAMPLE.name}" as the source of "force_amplitude", not the '
+            f'inputs file\'s "{PUMP_SHEET}": the template does not pass input_sources to its sheet. Set '
+            "input_sources = {} in the cell before the parameters cell and create the sheet with "
+            "ck.Sheet(..., sources=input_sources); nothing was written."
+        )
+        assert not (tmp_path / "out").exists()
+
+    def test_malformed_refused_before_running(self, tmp_path):
+        """A malformed input table stops the build before any cell runs, at its line."""
+        text = _changed(
+            EXAMPLE.read_text(encoding="utf-8"), f'source = "{PUMP_SHEET}"', 'sourse = "P-101-DS-001"'
+        )
+        inputs = tmp_path / "typo.toml"
+        inputs.write_text(text, encoding="utf-8")
+        with pytest.raises(InputsError) as info:
+            build_sheet(TEMPLATE, inputs, tmp_path / "out")
+        assert str(info.value) == (
+            f'{inputs}, line 17, force_amplitude: unknown key "sourse" in the table of the input '
+            '"force_amplitude". Did you mean "source"? An input written as a table takes only value and '
+            'source: force_amplitude = { value = "...", source = "Vendor drawing ..." }; to group inputs, '
+            "put them under a [force_amplitude] header."
+        )
+        assert not (tmp_path / "out").exists()
+
+    def test_batch_case_drops_the_source_of_what_it_changes(self, batch):
+        """A case that changes a sourced input shows the case as its source; the base file's other
+        sources stay."""
+        root, result, _, _, _ = batch
+        shown = {i["name"]: i["source"] for i in result.cases[0].record["inputs"]}
+        label = f"{EXAMPLE.name} with case stiff-isolators of cases.csv"
+        assert (shown["damping_ratio"], shown["stiffness"], shown["force_amplitude"]) == (
+            label,
+            label,
+            PUMP_SHEET,
+        )
 
 
 class TestNewCalculation:
