@@ -1826,7 +1826,8 @@ class Explorer:
             title = {n: v for n, v in self._values.items() if n in TITLE_FIELDS}
         for item in self._inputs.values():
             values[item.name] = item.text() if item.from_text else float(item.value)
-        return header + _document(values, groups, title, self.template)
+        sources = dict(getattr(self._file, "sources", {}) or {}) if self._file is not None else {}
+        return header + _document(values, groups, title, self.template, sources)
 
 
 def _as_display(item: _Input, raw: Any) -> float | None:
@@ -1922,6 +1923,11 @@ _VALUE = re.compile(
 )
 
 
+_INLINE = re.compile(
+    r"""^(?P<lead>\s*(?P<key>[A-Za-z0-9_-]+|"[^"]*"|'[^']*')\s*=\s*)\{(?P<body>[^{}]*)\}(?P<tail>\s*(?:#.*)?)$"""
+)
+
+
 def _replace_lines(file: Any, new: Mapping[str, str]) -> str | None:
     """The inputs file's text with the values of *new* replaced in place, or None if a line
     cannot be placed safely (then the caller writes the file afresh)."""
@@ -1933,9 +1939,24 @@ def _replace_lines(file: Any, new: Mapping[str, str]) -> str | None:
         line = lines[number - 1]
         ending = line[len(line.rstrip("\r\n")) :]
         found = _VALUE.match(line.rstrip("\r\n"))
-        if not found or found.group("key").strip("\"'") != name:
+        inline = _INLINE.match(line.rstrip("\r\n")) if not found else None
+        if found and found.group("key").strip("\"'") == name:
+            lines[number - 1] = found.group("lead") + toml + found.group("tail") + ending
+        elif inline and inline.group("key").strip("\"'") == name:
+            # { value = ..., source = ... }: the new value keeps its provenance in the source
+            try:
+                old = tomllib.loads(f"x = {{{inline.group('body')}}}")["x"]
+            except tomllib.TOMLDecodeError:
+                return None
+            source = f"{old.get('source', '')}; moved in the what-if explorer from {old.get('value', '')}"
+            lines[number - 1] = (
+                inline.group("lead")
+                + f"{{ value = {toml}, source = {_toml_value(source.lstrip('; '))} }}"
+                + inline.group("tail")
+                + ending
+            )
+        else:
             return None
-        lines[number - 1] = found.group("lead") + toml + found.group("tail") + ending
     text = "".join(lines)
     try:
         data = tomllib.loads(text)
@@ -1944,20 +1965,31 @@ def _replace_lines(file: Any, new: Mapping[str, str]) -> str | None:
     for name, toml in new.items():
         group = file.groups.get(name, "")
         table = data.get(group, {}) if group else data
-        if table.get(name) != tomllib.loads(f"x = {toml}")["x"]:  # pragma: no cover
+        got = table.get(name)
+        if isinstance(got, dict):
+            got = got.get("value")
+        if got != tomllib.loads(f"x = {toml}")["x"]:  # pragma: no cover
             return None
     return text
 
 
 def _document(
-    values: Mapping[str, Any], groups: Mapping[str, str], title: Mapping[str, Any], template: str
+    values: Mapping[str, Any],
+    groups: Mapping[str, str],
+    title: Mapping[str, Any],
+    template: str,
+    sources: Mapping[str, str] | None = None,
 ) -> str:
-    """An inputs file written afresh: top-level inputs, then each table, then ``[sheet]``."""
+    """An inputs file written afresh: top-level inputs, then each table, then ``[sheet]``;
+    inputs with a source are written ``{ value = ..., source = ... }``."""
     lines = [f"# Inputs for the template {template}.", ""]
     tables: dict[str, list[str]] = {}
+    sources = sources or {}
     for name, value in values.items():
         group = groups.get(name, "")
         entry = f"{name} = {_toml_value(value)}"
+        if name in sources:
+            entry = f"{name} = {{ value = {_toml_value(value)}, source = {_toml_value(sources[name])} }}"
         if group:
             tables.setdefault(group, []).append(entry)
         else:

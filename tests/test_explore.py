@@ -684,3 +684,21 @@ def test_example_notebook_runs():
     )
     assert done.returncode == 0, done.stderr[-3000:]
     assert "ran" in done.stdout
+
+
+def test_keep_moves_an_input_written_with_its_source(tmp_path):
+    """An input written { value = ..., source = ... } keeps its line, its comment and its
+    source (with a note that the value was moved); other lines stay as they were."""
+    original = EXAMPLE.read_text()
+    assert 'force_amplitude = { value = "0.9 kN"' in original  # the example gives this source
+    explorer = explore(EXAMPLE, widgets=False)
+    explorer.set(force_amplitude="1.5 kN")
+    kept = tmp_path / "kept.toml"
+    explorer.keep(kept)
+    text = kept.read_text()
+    assert (
+        'force_amplitude = { value = "1.5 kN", source = "Pump data sheet P-101-DS-001 rev B (invented); '
+        'moved in the what-if explorer from 0.9 kN" }' in text
+    )
+    unchanged = [line for line in original.splitlines() if "force_amplitude" not in line]
+    assert all(line in text.splitlines() for line in unchanged)
