@@ -73,9 +73,8 @@ from .steps import (
     SubstitutionStep,
     TotalResponseStep,
     TrialFormStep,
-    VerificationStep,
 )
-from .undetermined import LAMBDA, Derivation, LinearODE, _Form, _is_zero, _tidy, vanishes
+from .undetermined import LAMBDA, Derivation, LinearODE, _Form, _is_zero, _tidy, vanishes, verification_step
 
 __all__ = [
     "MultiMass",
@@ -914,21 +913,7 @@ def _derive(model: MultiMass, F, t) -> Derivation:
     residual = _residual(model, solution, split.forcing, t)
     verified = all(vanishes(row, t) for row in residual)
     shown = sp.ImmutableMatrix.zeros(n, 1) if verified else residual.applyfunc(sp.simplify)
-    steps.append(
-        VerificationStep(
-            "Check by substitution",
-            "Substituting the particular solution back into every row of the equations leaves a residual "
-            + ("of exactly zero, so the solution is verified." if verified else "that is not zero."),
-            shown,
-            verified,
-        )
-    )
-    if not verified:  # a failure here is a bug in calckit, never the user's
-        raise ForcingError(
-            f"the derived particular solution does not satisfy the equations (residual {list(shown)})",
-            where=f"forcing {list(split.forcing)}",
-            do="Please report this forcing and model to the calckit maintainers",
-        )
+    steps.append(verification_step(shown, verified, "every row of the equations", list(split.forcing)))
     return Derivation(model, split.forcing, t, split, solution, tuple(steps), verified, tuple(conditions))
 
 

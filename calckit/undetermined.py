@@ -643,22 +643,26 @@ def _derive(ode: LinearODE, f, t) -> Derivation:
     )
     verified = _satisfies(ode, solution, split.forcing, t)
     residual = sp.S.Zero if verified else sp.simplify(ode.apply(solution, t) - split.forcing)
-    steps.append(
-        VerificationStep(
-            "Check by substitution",
-            "Substituting the particular solution back into the equation leaves a residual "
-            + ("of exactly zero, so the solution is verified." if verified else "that is not zero."),
-            residual,
-            verified,
-        )
-    )
-    if not verified:  # a failure here is a bug in calckit, never the user's
+    steps.append(verification_step(residual, verified, "the equation", split.forcing))
+    return Derivation(ode, split.forcing, t, split, solution, tuple(steps), verified, tuple(conditions))
+
+
+def verification_step(residual, verified: bool, what: str, forcing) -> VerificationStep:
+    """The check-by-substitution step; an unverified solution raises, since that is a bug
+    in calckit, never the user's. *what* is "the equation" or "every row of the equations"."""
+    if not verified:
         raise ForcingError(
-            f"the derived particular solution does not satisfy the equation (residual {residual})",
-            where=f"forcing {split.forcing}",
+            f"the derived particular solution does not satisfy {what} (residual {residual})",
+            where=f"forcing {forcing}",
             do="Please report this forcing and model to the calckit maintainers",
         )
-    return Derivation(ode, split.forcing, t, split, solution, tuple(steps), verified, tuple(conditions))
+    return VerificationStep(
+        "Check by substitution",
+        f"Substituting the particular solution back into {what} leaves a residual of exactly zero, "
+        "so the solution is verified.",
+        residual,
+        verified,
+    )
 
 
 def _split_sentence(split: ForcingSplit) -> str:
