@@ -181,10 +181,16 @@ def blocks(
         )
     steps = tuple(steps)
     nt = notation(steps, names=names, derivatives=derivatives)
-    out = [
-        Block(n, step.title, _sentence(step.explanation), step_rows(step, nt), _braced(step))
-        for n, step in steps_at(steps, level)
-    ]
+    out = []
+    previous = 0
+    for n, step in steps_at(steps, level):
+        if n > previous + 1:  # say where the summary leaves steps out
+            left_out = f"step {previous + 1}" if n == previous + 2 else f"steps {previous + 1} to {n - 1}"
+            out.append(
+                Block(None, f"({left_out.capitalize()} are shown at the full level.)", "", (), role="note")
+            )
+        out.append(Block(n, step.title, _sentence(step.explanation), step_rows(step, nt), _braced(step)))
+        previous = n
     trailer = _conditions_block(obj, nt)
     if trailer is not None:
         out.append(trailer)
@@ -285,8 +291,11 @@ def html_fragment(obj: Any, level: str = "full", **options) -> Html:
         if block.role == "formula":
             parts.append(math)
         elif block.role == "note":
-            inline = _mathml(math_inline(block.latex)) if block.rows else ""
-            parts.append(f'<p class="note"><strong>{escape(block.title)}:</strong> {inline}</p>')
+            if block.rows:
+                inline = _mathml(math_inline(block.latex))
+                parts.append(f'<p class="note"><strong>{escape(block.title)}:</strong> {inline}</p>')
+            else:
+                parts.append(f'<p class="note"><em>{escape(block.title)}</em></p>')
         else:
             number = "" if block.number is None else f'<span class="number">{block.number}</span> '
             data = "" if block.number is None else f' data-step="{block.number}"'
