@@ -1,7 +1,7 @@
 """Headless Chromium checks of exported pages, for the whole test-suite.
 
 Every run starts Debian's ``chromium`` with a fresh profile, no sandbox (CI runs
-as root), no GPU, and everything that would talk to the network switched off;
+as root), no GPU, and everything that would reach the network switched off;
 host names resolve to nothing, so a page that asks for a remote file gets an
 error instead of the file, and the request is still recorded.
 
@@ -118,7 +118,7 @@ function references() {
   document.querySelectorAll("[src]").forEach((e) => add(e.getAttribute("src")));
   document.querySelectorAll("link[href]").forEach((e) => add(e.getAttribute("href")));
   document.querySelectorAll("object[data]").forEach((e) => add(e.getAttribute("data")));
-  document.querySelectorAll("video[poster]").forEach((e) => add(e.getAttribute("poster")));
+  document.querySelectorAll("[poster]").forEach((e) => add(e.getAttribute("poster")));
   document.querySelectorAll("[srcset]").forEach((e) => e.getAttribute("srcset").split(",")
       .forEach((part) => add(part.trim().split(/\\s+/)[0])));
   document.querySelectorAll("image, use, feImage").forEach((e) =>
