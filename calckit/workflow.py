@@ -806,10 +806,15 @@ class _Kernel:
             extra_arguments=["--HistoryManager.hist_file=:memory:"],
         )
         self.kc = self.km.client()
-        self.kc.start_channels()
 
     async def warm_up(self) -> None:
-        """Wait for the kernel, ask for its language (for the notebook), run the warm-up."""
+        """Wait for the kernel, ask for its language (for the notebook), run the warm-up.
+
+        The client's channels (and its heartbeat thread) start here, not in :meth:`start`:
+        a build refused while the kernel starts then never has a heartbeat thread racing
+        the teardown of its sockets.
+        """
+        self.kc.start_channels()
         await self.kc.wait_for_ready(timeout=KERNEL_START_TIMEOUT_S)
         reply = await self.kc.kernel_info(reply=True, timeout=KERNEL_START_TIMEOUT_S)
         self.language_info = reply["content"].get("language_info", {})
@@ -887,6 +892,8 @@ class _Kernel:
         try:
             if self.kc is not None:
                 self.kc.stop_channels()
+                if getattr(self.kc, "_created_context", False) and not self.kc.context.closed:
+                    self.kc.context.destroy(linger=0)
             process = getattr(getattr(self.km, "provisioner", None), "process", None)
             if process is not None and process.poll() is None:
                 process.kill()
