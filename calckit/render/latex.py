@@ -299,7 +299,10 @@ def expr_latex(expr, names: Mapping[str, str] | None = None, **settings) -> str:
     """
     expr = sp.sympify(expr)
     symbols = {s: symbol_latex(s.name, names) for s in expr.free_symbols if isinstance(s, sp.Symbol)}
-    return sp.latex(expr, symbol_names=symbols, **settings)
+    # sympy writes atan2 as "atan" with a subscript 2; an engineer reads the function atan2
+    return sp.latex(expr, symbol_names=symbols, **settings).replace(
+        r"\operatorname{atan}_{2}", r"\operatorname{atan2}"
+    )
 
 
 def expr_text(expr) -> str:

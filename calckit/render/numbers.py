@@ -405,7 +405,9 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
     if isinstance(formula, sp.Symbol):  # a value shown alone needs no brackets
         substituted_latex, substituted_text = shown[formula.name][0], _quantity_pieces(inputs[0][1], sig)[1]
     else:
-        substituted_latex = _ValueLatex(shown).doprint(shape)
+        substituted_latex = (
+            _ValueLatex(shown).doprint(shape).replace(r"\operatorname{atan}_{2}", r"\operatorname{atan2}")
+        )
         substituted_text = _ValueText(shown_text).doprint(shape)
     return Substitution(
         name, formula, tuple(inputs), substituted_latex, substituted_text, value, unit_text, sig
