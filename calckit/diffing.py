@@ -112,6 +112,7 @@ class CheckChange:
     new_verdict: str | None
     old_margin: float | None
     new_margin: float | None
+    margin_suffix: str = "%"  # "points" where the checked value is itself a percentage
 
     @property
     def flipped(self) -> bool:
@@ -125,7 +126,7 @@ class CheckChange:
 
     def margins(self) -> str:
         def pct(margin: float | None) -> str:
-            return "absent" if margin is None else f"{margin:+.1f} %"
+            return "absent" if margin is None else f"{margin:+.1f} {self.margin_suffix}"
 
         return f"{self.name}: margin {pct(self.old_margin)} -> {pct(self.new_margin)}"
 
@@ -278,16 +279,16 @@ class SheetDiff:
                     return "met"
                 return Html('<strong class="verdict verdict-not-met">NOT MET</strong>')
 
-            def margin(v: float | None) -> str:
-                return "absent" if v is None else f"{v:+.1f} %"
+            def margin(v: float | None, suffix: str) -> str:
+                return "absent" if v is None else f"{v:+.1f} {suffix}"
 
             rows = [
                 [
                     Html(f"<strong>{escape(c.name)}</strong>") if c.flipped else c.name,
                     verdict(c.old_verdict),
                     verdict(c.new_verdict),
-                    margin(c.old_margin),
-                    margin(c.new_margin),
+                    margin(c.old_margin, c.margin_suffix),
+                    margin(c.new_margin, c.margin_suffix),
                 ]
                 for c in self.checks
             ]
@@ -482,6 +483,7 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
             b.get("verdict") if b else None,
             a.get("margin_percent") if a else None,
             b.get("margin_percent") if b else None,
+            "points" if (b or a or {}).get("margin_unit") == "percentage points" else "%",
         )
         if change.flipped or _moved(change.old_margin, change.new_margin):
             checks.append(change)

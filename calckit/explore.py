@@ -105,7 +105,7 @@ from .forcing import split_forcing
 from .inputs import TITLE_FIELDS, check_keys, non_negative, parse_expression, positive, read_inputs
 from .numeric import Compiled, compile_expr
 from .oscillator import Oscillator
-from .sheet import Check
+from .sheet import Check, check_margin
 from .units import Q_, angular_frequency, fmt, fmt_number, quantity, to_si
 from .workflow import load_template
 
@@ -599,10 +599,8 @@ _RESULT_SETS = {"single mass": _single_mass_results, "isolators": _isolator_resu
 
 def _judge(name: str, value: float, limit: float, relation: str, unit: str, basis: str) -> Check:
     """A check made as :meth:`calckit.Sheet.check` makes it: margin in percent of the limit."""
-    if relation == "<=":
-        margin, met = (limit - value) / abs(limit) * 100, value <= limit
-    else:
-        margin, met = (value - limit) / abs(limit) * 100, value >= limit
+    margin = check_margin(value, limit, relation, unit)
+    met = value <= limit if relation == "<=" else value >= limit
     shown = (lambda x: fmt(Q_(x, unit))) if unit else fmt_number
     return Check(
         name, float(value), float(limit), relation, unit, margin, bool(met), basis, shown(value), shown(limit)
@@ -1725,7 +1723,7 @@ class Explorer:
         for c in self.results.checks:
             lines.append(
                 f"  {c.name}: {c.shown_value} {c.relation} {c.shown_limit}: {c.verdict} "
-                f"(margin {fmt_number(c.margin_percent, 3)} %)"
+                f"(margin {c.margin_text})"
             )
         return "\n".join(lines)
 
@@ -1852,7 +1850,7 @@ def _check_row(c: Check) -> str:
         f'<tr data-check="{html.escape(c.name)}" data-verdict="{c.verdict}" data-margin="{c.margin_percent!r}">'
         f"<td>{html.escape(c.name)}</td><td>{html.escape(c.shown_value)}</td>"
         f"<td>{c.relation} {html.escape(c.shown_limit)}</td><td>{verdict}</td>"
-        f"<td>{fmt_number(c.margin_percent, 3)} %</td></tr>"
+        f"<td>{html.escape(c.margin_text)}</td></tr>"
     )
 
 

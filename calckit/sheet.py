@@ -52,6 +52,7 @@ __all__ = [
     "TextBlock",
     "TableBlock",
     "DEFAULT_CAUTION",
+    "check_margin",
 ]
 
 DEFAULT_CAUTION = (
@@ -143,6 +144,27 @@ class Check:
     def verdict(self) -> str:
         """``"met"`` or ``"not met"``."""
         return "met" if self.met else "not met"
+
+    @property
+    def margin_unit(self) -> str:
+        """What the margin is measured in (see :func:`check_margin`)."""
+        return "percentage points" if self.unit == "percent" else "percent of the limit"
+
+    @property
+    def margin_text(self) -> str:
+        """The margin as shown: ``+58.8 %`` of the limit, or ``+665.6 points`` for a percentage."""
+        return f"{self.margin_percent:+.1f} {'points' if self.unit == 'percent' else '%'}"
+
+
+def check_margin(value: float, limit: float, relation: str, unit: str) -> float:
+    """Distance from *value* to *limit*, positive when ``value relation limit`` holds.
+
+    In percent of the limit; for a value that is itself a percentage (``unit ==
+    "percent"``, e.g. a speed separation), in percentage points, so that a margin is
+    never a percent of a percent.
+    """
+    gap = (limit - value) if relation in ("<=", "<") else (value - limit)
+    return gap if unit == "percent" else gap / abs(limit) * 100
 
 
 @dataclass(frozen=True)
@@ -435,8 +457,9 @@ class Sheet:
     ) -> Check:
         """Add an acceptance check ``value relation limit`` with its margin and verdict.
 
-        The margin is the distance to the limit in percent of the limit,
-        positive when the criterion is met. ``basis`` says where the criterion
+        The margin is the distance to the limit in percent of the limit (in
+        percentage points when the value is itself a percentage), positive when the
+        criterion is met; see :func:`check_margin`. ``basis`` says where the criterion
         comes from (a specification, a standard clause, or "common practice,
         no source").
         """
@@ -463,11 +486,10 @@ class Sheet:
                 where=f"check {name}",
                 do="Give a non-zero limit",
             )
+        margin = check_margin(v, lim, relation, unit_text)
         if relation in ("<=", "<"):
-            margin = (lim - v) / abs(lim) * 100
             met = v <= lim if relation == "<=" else v < lim
         else:
-            margin = (v - lim) / abs(lim) * 100
             met = v >= lim if relation == ">=" else v > lim
         shown_v = _shown(Q_(v, unit_text) if unit_text else v)
         shown_l = _shown(Q_(lim, unit_text) if unit_text else lim)
@@ -620,6 +642,7 @@ class Sheet:
                     "relation": c.relation,
                     "unit": c.unit,
                     "margin_percent": round(c.margin_percent, 6),
+                    "margin_unit": c.margin_unit,
                     "verdict": c.verdict,
                     "basis": c.basis,
                 }

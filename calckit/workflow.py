@@ -1954,8 +1954,8 @@ def _write_summary(
     body = (
         f"<h1>Batch of {_count(len(results), 'case')}: {escape(template.name)}</h1>"
         f"<p>{built} built, {len(results) - built} failed. Each case's sheet is in its own folder; "
-        "margins are in percent of the limit, positive when the check is met.</p>"
-        + table(header, html_rows, cls="checks")
+        "margins are in percent of the limit (in percentage points where the checked value is "
+        "itself a percentage), positive when the check is met.</p>" + table(header, html_rows, cls="checks")
     )
     page = html_page(f"Batch summary: {template.name}", body, footer_left=template.name)
     html_path = write_text_file(out / "summary.html", page, overwrite=overwrite)

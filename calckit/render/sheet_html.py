@@ -72,7 +72,7 @@ def _check_rows(checks: list[Check]) -> list[list[Any]]:
                 criterion,
                 check.shown_value,
                 check.shown_limit,
-                f"{check.margin_percent:+.1f} %",
+                check.margin_text,
                 verdict,
                 check.basis or "not given",
             ]
@@ -248,7 +248,8 @@ def _body(sheet: Sheet) -> Html:
             )
             + Html(
                 '<p class="note">Margin: the distance from the value to the limit, in percent of the '
-                "limit; positive when the criterion is met.</p>"
+                "limit (in percentage points where the value is itself a percentage); positive when "
+                "the criterion is met.</p>"
             ),
         )
     references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
