@@ -66,7 +66,6 @@ from .steps import (
     DerivativesStep,
     HomogeneousStep,
     InitialConditionsStep,
-    ParticularSolutionStep,
     ResonanceStep,
     SolvedCoefficientsStep,
     Step,
@@ -74,7 +73,17 @@ from .steps import (
     TotalResponseStep,
     TrialFormStep,
 )
-from .undetermined import LAMBDA, Derivation, LinearODE, _Form, _is_zero, _tidy, vanishes, verification_step
+from .undetermined import (
+    LAMBDA,
+    Derivation,
+    LinearODE,
+    _Form,
+    _is_zero,
+    _tidy,
+    particular_step,
+    vanishes,
+    verification_step,
+)
 
 __all__ = [
     "MultiMass",
@@ -900,16 +909,7 @@ def _derive(model: MultiMass, F, t) -> Derivation:
     for part in parts:
         solution = solution + part
     solution = sp.ImmutableMatrix(solution)
-    steps.append(
-        ParticularSolutionStep(
-            "Particular solution",
-            "The particular solution is the sum of the parts found for each exponent group."
-            if many
-            else "The solved coefficients put back into the trial form give the particular solution.",
-            solution,
-            t,
-        )
-    )
+    steps.append(particular_step(solution, t, many))
     residual = _residual(model, solution, split.forcing, t)
     verified = all(vanishes(row, t) for row in residual)
     shown = sp.ImmutableMatrix.zeros(n, 1) if verified else residual.applyfunc(sp.simplify)

@@ -631,20 +631,23 @@ def _derive(ode: LinearODE, f, t) -> Derivation:
             if cond not in conditions:
                 conditions.append(cond)
     solution = sp.Add(*parts)
-    steps.append(
-        ParticularSolutionStep(
-            "Particular solution",
-            "The particular solution is the sum of the parts found for each exponent group."
-            if many
-            else "The solved coefficients put back into the trial form give the particular solution.",
-            solution,
-            t,
-        )
-    )
+    steps.append(particular_step(solution, t, many))
     verified = _satisfies(ode, solution, split.forcing, t)
     residual = sp.S.Zero if verified else sp.simplify(ode.apply(solution, t) - split.forcing)
     steps.append(verification_step(residual, verified, "the equation", split.forcing))
     return Derivation(ode, split.forcing, t, split, solution, tuple(steps), verified, tuple(conditions))
+
+
+def particular_step(solution, t: sp.Symbol, many: bool) -> ParticularSolutionStep:
+    """The step that states the particular solution (one group, or the sum of several)."""
+    return ParticularSolutionStep(
+        "Particular solution",
+        "The particular solution is the sum of the parts found for each exponent group."
+        if many
+        else "The solved coefficients put back into the trial form give the particular solution.",
+        solution,
+        t,
+    )
 
 
 def verification_step(residual, verified: bool, what: str, forcing) -> VerificationStep:
