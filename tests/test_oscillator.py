@@ -20,6 +20,7 @@ from calckit import REGIMES, HarmonicLine, Oscillator
 from calckit.errors import CalcError, ModelError, UnitsError
 from calckit.harmonic import magnification, phase_angle
 from calckit.units import Q_
+from tests.reference import steady_state
 
 t = sp.Symbol("t", real=True)
 m, c, k = sp.symbols("m c k", positive=True)
@@ -57,28 +58,9 @@ def free_decay_peaks(mass, damping, stiffness, x0, t_end):
 
 
 def steady_state_by_ivp(mass, damping, stiffness, force, w, periods=4):
-    """Amplitude and lag of x under force cos(w t), by scipy.integrate.solve_ivp from rest.
-
-    Integrates until the transient has decayed by e^-16, then fits a cos + b sin over
-    the last *periods* forcing periods by least squares.
-    """
-    wn = math.sqrt(stiffness / mass)
-    zeta = damping / (2 * math.sqrt(stiffness * mass))
-    period = 2 * math.pi / w
-    t_end = math.ceil(16.0 / (zeta * wn) / period) * period + periods * period
-    sol = solve_ivp(
-        lambda s, y: [y[1], (force * math.cos(w * s) - damping * y[1] - stiffness * y[0]) / mass],
-        (0.0, t_end),
-        [0.0, 0.0],
-        method="DOP853",
-        rtol=1e-10,
-        atol=1e-13,
-        dense_output=True,
-    )
-    tt = np.linspace(t_end - periods * period, t_end, 200 * periods)
-    x = sol.sol(tt)[0]
-    (a, b), *_ = np.linalg.lstsq(np.column_stack([np.cos(w * tt), np.sin(w * tt)]), x, rcond=None)
-    return math.hypot(a, b), math.atan2(b, a)
+    """Amplitude and lag of x under force cos(w t), by scipy.integrate.solve_ivp from rest
+    (tests.reference.steady_state)."""
+    return steady_state(mass, damping, stiffness, force, w, periods=periods)
 
 
 class TestClosedForms:
