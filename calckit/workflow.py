@@ -1274,6 +1274,9 @@ async def _build_alone(
     finally:
         if not warm.done():
             warm.cancel()
+            # let the cancelled warm-up unwind (its channels started) before the kernel closes
+            with contextlib.suppress(asyncio.CancelledError, Exception):
+                await warm
         elif not warm.cancelled():
             warm.exception()  # seen: the error raised is the inputs' (asyncio would log this one)
         await kernel.aclose()
