@@ -105,7 +105,7 @@ from .forcing import split_forcing
 from .inputs import TITLE_FIELDS, check_keys, non_negative, parse_expression, positive, read_inputs
 from .numeric import Compiled, compile_expr
 from .oscillator import Oscillator
-from .sheet import Check, check_margin
+from .sheet import Check, _in_kernel, check_margin
 from .units import Q_, angular_frequency, fmt, fmt_number, quantity, to_si
 from .workflow import load_template
 
@@ -855,19 +855,6 @@ def _toml_value(value: Any) -> str:
     if isinstance(value, tuple | list):
         return "[" + ", ".join(_toml_value(v) for v in value) + "]"
     return json.dumps(str(value), ensure_ascii=False)
-
-
-def _in_kernel() -> bool:
-    import sys
-
-    ipython = sys.modules.get("IPython")
-    if ipython is None:
-        return False
-    try:
-        shell = ipython.get_ipython()
-    except AttributeError:  # pragma: no cover
-        return False
-    return shell is not None and getattr(shell, "kernel", None) is not None
 
 
 def _widgets_module():

@@ -174,6 +174,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from . import errors
 from .errors import BuildError, CalcError, InputsError, OverwriteError
 
 if TYPE_CHECKING:  # the real imports are inside the functions: sympy and pint stay out of the CLI's start
@@ -209,19 +210,7 @@ SAVE_TAG = "save-sheet"
 #: Seconds one cell may run before the build gives up.
 CELL_TIMEOUT_S = 600
 _SHEET_SUFFIXES = (".ipynb", ".html", ".json", ".pdf")
-_CALCKIT_ERRORS = frozenset(
-    {
-        "CalcError",
-        "ForcingError",
-        "ModelError",
-        "UnitsError",
-        "InputsError",
-        "SheetError",
-        "BuildError",
-        "OverwriteError",
-        "CellError",
-    }
-)
+_CALCKIT_ERRORS = frozenset({*errors.__all__, "CellError"})  # the names of calckit's own errors
 
 
 # ---------------------------------------------------------------------------

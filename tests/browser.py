@@ -23,7 +23,6 @@ from __future__ import annotations
 import json
 import os
 import re
-import shutil
 import subprocess
 import tempfile
 import zlib
@@ -31,6 +30,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
+
+from calckit.render.printing import find_chromium
 
 __all__ = [
     "ARTIFACTS",
@@ -52,18 +53,9 @@ _SKIP_REASON = "Debian's chromium is not installed; .ci/run installs it"
 
 
 def chromium_path() -> str | None:
-    """Path of the Chromium binary, or None when it is not installed.
-
-    ``CALCKIT_CHROMIUM`` overrides the search.
-    """
-    override = os.environ.get("CALCKIT_CHROMIUM")
-    if override:
-        return override if Path(override).is_file() else None
-    for name in ("chromium", "chromium-browser"):
-        found = shutil.which(name)
-        if found:
-            return found
-    return "/usr/bin/chromium" if Path("/usr/bin/chromium").is_file() else None
+    """Path of the Chromium binary, or None when it is not installed (the kit's own search,
+    :func:`calckit.render.printing.find_chromium`; ``CALCKIT_CHROMIUM`` overrides it)."""
+    return find_chromium()
 
 
 needs_chromium = pytest.mark.skipif(chromium_path() is None, reason=_SKIP_REASON)

@@ -31,31 +31,15 @@ from calckit.harmonic import (
     transmissibility_phase,
     zeta_from_log_decrement,
 )
-from tests.reference import steady_state
+from tests.reference import harmonic_fit, last_periods, steady_state
 
 r_sym, z_sym = sp.symbols("r zeta", positive=True)
 
 
 def force_transmitted(m, c, k, F0, w, *, decay=16.0, periods=4):
-    """Amplitude of k x + c x' at steady state, by scipy.integrate.solve_ivp."""
-    wn = math.sqrt(k / m)
-    zeta = c / (2 * math.sqrt(k * m))
-    T = 2 * math.pi / w
-    t_end = math.ceil(decay / (zeta * wn) / T) * T + periods * T
-    sol = solve_ivp(
-        lambda t, y: [y[1], (F0 * math.cos(w * t) - c * y[1] - k * y[0]) / m],
-        (0.0, t_end),
-        [0.0, 0.0],
-        method="DOP853",
-        rtol=1e-10,
-        atol=1e-13,
-        dense_output=True,
-    )
-    tt = np.linspace(t_end - periods * T, t_end, 400 * periods)
-    x, v = sol.sol(tt)
-    ft = k * x + c * v
-    (a, b), *_ = np.linalg.lstsq(np.column_stack([np.cos(w * tt), np.sin(w * tt)]), ft, rcond=None)
-    return math.hypot(a, b), math.atan2(b, a)
+    """Amplitude and lag of k x + c x' at steady state, by scipy.integrate.solve_ivp."""
+    tt, x, v = last_periods(m, c, k, F0, w, decay=decay, periods=periods)
+    return harmonic_fit(tt, k * x + c * v, w)
 
 
 # Invented rig: a 420 kg pump skid on springs, k chosen for omega_n = 20 rad/s.
