@@ -25,7 +25,7 @@ Sections
 2. Sheet build: ``calckit build`` of a bundled template against executing the
    same template with nbclient and exporting it with nbconvert's HTMLExporter.
 3. Batch: ``calckit batch`` of 50 cases on the machine's cores.
-4. Numbers: the compiled closed form (``calckit.numeric``) at 100,000 points
+4. Numbers: the compiled closed form (``calckit.engine.numeric``) at 100,000 points
    against ``scipy.integrate.solve_ivp`` at rtol 1e-8.
 """
 
@@ -401,7 +401,7 @@ def bench_numbers(repeats: int) -> dict:
     from scipy.integrate import solve_ivp
 
     import calckit as ck
-    from calckit import numeric
+    from calckit.engine import numeric
 
     t = sp.Symbol("t", real=True)
     m, c, k, F0, w = 1850, 3650, 720_000, 900, 155  # P-101 demo machine, zeta ~ 0.05, 1480 rpm

@@ -1,217 +1,73 @@
 """calckit: derive, check and publish forced-vibration calculations.
 
-The public API is listed in ``__all__``; see ``shared/DESIGN.md`` for the contract.
+The public API is the one table below (``_PUBLIC``: module -> the names it gives);
+``__all__`` is made from it. See ``shared/DESIGN.md`` for the contract and
+``DEVELOPERS.md`` for the layer folders.
 
-The names load on first use (PEP 562), so that ``python -m calckit`` and
-``import calckit.workflow`` start without sympy, pint and matplotlib; every name
-in ``__all__`` is there as before (``ck.Sheet``, ``from calckit import Sheet``).
+The names load on first use (PEP 562), so that ``python -m calckit`` and the
+command line start without sympy, pint and matplotlib; every name in ``__all__``
+is there as before (``ck.Sheet``, ``from calckit import Sheet``).
 """
 
-import sys
-import types
-from typing import TYPE_CHECKING
+import importlib
 
-from ._version import __version__
+from calckit._version import __version__
 
-_MODULES = frozenset({"excitation", "fourier", "harmonic", "units"})
-
-# the module each exported name comes from
-_LAZY = {
-    **{name: f".{name}" for name in _MODULES},
-    "diff_sheets": ".diffing",
-    **{
-        name: ".errors"
-        for name in (
-            "BuildError", "CalcError", "ForcingError", "InputsError",
-            "ModelError", "OverwriteError", "SheetError", "UnitsError",
-        )
-    },
-    **{
-        name: ".excitation"
-        for name in (
-            "base_excitation", "eccentricity_from_grade",
-            "transmitted_force_amplitude", "unbalance_force_amplitude",
-        )
-    },
-    "Explorer": ".explore",
-    "explore": ".explore",
-    **{name: ".forcing" for name in ("ExponentGroup", "ForcingSplit", "ForcingTerm", "split_forcing")},
-    **{
-        name: ".fourier"
-        for name in ("FourierSeries", "fourier_series", "fourier_series_from_samples")
-    },
-    **{
-        name: ".harmonic"
-        for name in (
-            "half_power_bandwidth", "isolation_efficiency", "magnification", "peak_frequency_ratio",
-            "peak_magnification", "phase_angle", "transmissibility",
-        )
-    },
-    "Modes": ".multimass",
-    "MultiMass": ".multimass",
-    **{
-        name: ".numeric"
-        for name in ("Compiled", "FrequencyResponse", "compile_expr", "frequency_response", "time_history")
-    },
-    **{name: ".oscillator" for name in ("REGIMES", "HarmonicLine", "Oscillator")},
-    "show": ".render.display",
-    "Substitution": ".render.numbers",
-    "put_through": ".render.numbers",
-    "Response": ".response",
-    **{name: ".sheet" for name in ("DEFAULT_CAUTION", "Check", "Sheet")},
-    "Derivation": ".undetermined",
-    "LinearODE": ".undetermined",
-    **{
-        name: ".units"
-        for name in ("Q_", "angular_frequency", "cyclic_frequency", "fmt", "quantity", "to_si", "ureg")
-    },
-    "build_sheet": ".workflow",
-    "run_batch": ".workflow",
+# where each public name is defined
+_PUBLIC = {
+    "calckit.errors": (
+        "BuildError", "CalcError", "CellError", "ForcingError", "InputsError", "InternalError", "ModelError",
+        "OverwriteError", "SheetError", "UnitsError",
+    ),
+    "calckit.core.exact": ("exact",),
+    "calckit.core.checks": ("finite", "non_negative", "positive"),
+    "calckit.core.expressions": ("parse_expression",),
+    "calckit.core.units": ("angular_frequency", "cyclic_frequency", "fmt", "Q_", "quantity", "to_si", "ureg"),
+    "calckit.engine": (
+        "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
+        "frequency_response", "FrequencyResponse", "LinearODE", "Response", "split_forcing", "time_history",
+    ),
+    "calckit.physics": (
+        "base_excitation", "eccentricity_from_grade", "fourier_series", "fourier_series_from_samples",
+        "FourierSeries", "half_power_bandwidth", "HarmonicLine", "isolation_efficiency", "magnification",
+        "Modes", "MultiMass", "Oscillator", "peak_frequency_ratio", "peak_magnification", "phase_angle",
+        "REGIMES", "transmissibility", "transmitted_force_amplitude", "unbalance_force_amplitude",
+    ),
+    "calckit.render.display": ("show",),
+    "calckit.render.numbers": ("put_through", "Substitution"),
+    "calckit.sheet": ("Check", "DEFAULT_CAUTION", "Sheet"),
+    "calckit.workflow": ("build_sheet", "diff_sheets", "run_batch"),
+    "calckit.explore.explorer": ("Explorer",),
 }  # fmt: skip
+
+# modules exported by name (``ck.harmonic.magnification``)
+_MODULES = {
+    "units": "calckit.core.units",
+    "harmonic": "calckit.physics.harmonic",
+    "excitation": "calckit.physics.excitation",
+    "fourier": "calckit.physics.fourier",
+}
+
+_HOME = {name: module for module, names in _PUBLIC.items() for name in names}
+
+# ``explore`` is the function, although the folder calckit/explore has that name:
+# importing it here binds the function after the package (whose import is light).
+from calckit.explore import explore  # noqa: E402
 
 
 def __getattr__(name: str):
-    try:
-        module = _LAZY[name]
-    except KeyError:
-        raise AttributeError(f"module 'calckit' has no attribute {name!r}") from None
-    import importlib
-
-    loaded = importlib.import_module(module, __name__)
-    value = loaded if name in _MODULES else getattr(loaded, name)
+    if name in _MODULES:
+        value = importlib.import_module(_MODULES[name])
+    elif name in _HOME:
+        value = getattr(importlib.import_module(_HOME[name]), name)
+    else:
+        raise AttributeError(f"module 'calckit' has no attribute {name!r}")
     globals()[name] = value
     return value
-
-
-class _Package(types.ModuleType):
-    """calckit's module type: ``calckit.explore`` is the function, though a submodule has that name.
-
-    Importing the submodule ``calckit.explore`` sets the package's attribute of
-    that name; this property keeps it the function, as the eager imports did.
-    """
-
-    @property
-    def explore(self):
-        from .explore import explore
-
-        return explore
-
-    @explore.setter
-    def explore(self, value) -> None:
-        pass
-
-
-sys.modules[__name__].__class__ = _Package
 
 
 def __dir__():
     return sorted(set(globals()) | set(__all__))
 
 
-if TYPE_CHECKING:  # what the lazy loading gives, for type checkers and editors
-    from . import excitation, fourier, harmonic, units
-    from ._version import __version__
-    from .diffing import diff_sheets
-    from .errors import (
-        BuildError,
-        CalcError,
-        ForcingError,
-        InputsError,
-        ModelError,
-        OverwriteError,
-        SheetError,
-        UnitsError,
-    )
-    from .excitation import (
-        base_excitation,
-        eccentricity_from_grade,
-        transmitted_force_amplitude,
-        unbalance_force_amplitude,
-    )
-    from .explore import Explorer, explore
-    from .forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
-    from .fourier import FourierSeries, fourier_series, fourier_series_from_samples
-    from .harmonic import (
-        half_power_bandwidth,
-        isolation_efficiency,
-        magnification,
-        peak_frequency_ratio,
-        peak_magnification,
-        phase_angle,
-        transmissibility,
-    )
-    from .multimass import Modes, MultiMass
-    from .numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
-    from .oscillator import REGIMES, HarmonicLine, Oscillator
-    from .render.display import show
-    from .render.numbers import Substitution, put_through
-    from .response import Response
-    from .sheet import DEFAULT_CAUTION, Check, Sheet
-    from .undetermined import Derivation, LinearODE
-    from .units import Q_, angular_frequency, cyclic_frequency, fmt, quantity, to_si, ureg
-    from .workflow import build_sheet, run_batch
-
-__all__ = [
-    "__version__",
-    "BuildError",
-    "CalcError",
-    "Derivation",
-    "ExponentGroup",
-    "ForcingError",
-    "ForcingSplit",
-    "ForcingTerm",
-    "InputsError",
-    "HarmonicLine",
-    "LinearODE",
-    "Oscillator",
-    "MultiMass",
-    "Modes",
-    "REGIMES",
-    "Response",
-    "show",
-    "put_through",
-    "Substitution",
-    "Sheet",
-    "build_sheet",
-    "run_batch",
-    "diff_sheets",
-    "explore",
-    "Explorer",
-    "Check",
-    "DEFAULT_CAUTION",
-    "ModelError",
-    "OverwriteError",
-    "SheetError",
-    "UnitsError",
-    "split_forcing",
-    "units",
-    "harmonic",
-    "excitation",
-    "fourier",
-    "magnification",
-    "transmissibility",
-    "phase_angle",
-    "peak_frequency_ratio",
-    "peak_magnification",
-    "half_power_bandwidth",
-    "isolation_efficiency",
-    "unbalance_force_amplitude",
-    "eccentricity_from_grade",
-    "base_excitation",
-    "transmitted_force_amplitude",
-    "FourierSeries",
-    "fourier_series",
-    "fourier_series_from_samples",
-    "compile_expr",
-    "Compiled",
-    "time_history",
-    "frequency_response",
-    "FrequencyResponse",
-    "ureg",
-    "Q_",
-    "quantity",
-    "to_si",
-    "angular_frequency",
-    "cyclic_frequency",
-    "fmt",
-]
+__all__ = ["__version__", "explore", *_MODULES, *_HOME]

@@ -17,6 +17,8 @@ __all__ = [
     "SheetError",
     "BuildError",
     "OverwriteError",
+    "CellError",
+    "InternalError",
 ]
 
 
@@ -80,3 +82,76 @@ class BuildError(CalcError, RuntimeError):
 
 class OverwriteError(CalcError, FileExistsError):
     """Writing would replace a file built from other inputs."""
+
+
+class CellError(BuildError):
+    """A cell of a template failed while building a sheet.
+
+    The message names the template, the cell (counted from 1 over all the
+    template's cells), the line and its source, the error's type and message.
+    ``user_error`` is true when the error is one of calckit's own (bad input, a
+    model calckit refuses): a command line exits with 2 then, and with 1 for any
+    other error, which points at the template (or, for an :class:`InternalError`
+    inside the kernel, at calckit).
+    """
+
+    def __init__(
+        self,
+        what: str,
+        *,
+        where: str | None = None,
+        do: str | None = None,
+        ename: str = "",
+        cell: int | None = None,
+        line: int | None = None,
+        user_error: bool = True,
+    ):
+        super().__init__(what, where=where, do=do)
+        self.ename = ename
+        self.cell = cell
+        self.line = line
+        self.user_error = user_error
+
+    def __str__(self) -> str:
+        return f"{self.where}: {self.what}" if self.where else self.what
+
+    def __reduce__(self):
+        fields = {"ename": self.ename, "cell": self.cell, "line": self.line, "user_error": self.user_error}
+        return (_rebuild_cell_error, (type(self), self.what, self.where, self.do, fields))
+
+
+def _rebuild_cell_error(cls, what, where, do, fields):
+    return cls(what, where=where, do=do, **fields)
+
+
+class InternalError(CalcError, RuntimeError):
+    """A defect of calckit, not of the input: an engine self-check failed.
+
+    The message says so and carries a line that reproduces the case, so that
+    it can be reported as it is; the command line exits with 1 for it, never
+    with 2 ("bad input").
+
+    Parameters
+    ----------
+    what : str
+        What went wrong inside calckit.
+    reproduce : str
+        Python that reproduces the failure (``import calckit as ck; ...``).
+    where : str, optional
+        The method or step that failed.
+    """
+
+    def __init__(self, what: str, *, reproduce: str = "", where: str | None = None, do: str | None = None):
+        self.reproduce = reproduce
+        if do is None:
+            do = "This is a defect of calckit, not of your input; please report it with this line: " + (
+                reproduce or "(no reproducer was recorded)"
+            )
+        super().__init__(what, where=where, do=do)
+
+    def __reduce__(self):
+        return (_rebuild_internal, (type(self), self.what, self.where, self.do, self.reproduce))
+
+
+def _rebuild_internal(cls, what, where, do, reproduce):
+    return cls(what, where=where, do=do, reproduce=reproduce)

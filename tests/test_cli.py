@@ -17,7 +17,9 @@ from pathlib import Path
 
 import pytest
 
-from calckit import cli, diffing, workflow
+from calckit.workflow import build as workflow
+from calckit.workflow import cli
+from calckit.workflow import diff as diffing
 
 ROOT = Path(__file__).parent.parent
 EXAMPLE = ROOT / "examples" / "harrow_creek_p101.toml"
@@ -420,7 +422,7 @@ class TestLightStart:
     def test_no_heavy_imports_before_the_kernel(self):
         """The command line starts without sympy, pint, numpy or matplotlib: a build starts its kernel first."""
         code = (
-            "import sys; from calckit import cli; cli.parser(); "
+            "import sys; from calckit.workflow import cli; cli.parser(); "
             "print(sorted(m for m in ('sympy', 'pint', 'numpy', 'matplotlib') if m in sys.modules))"
         )
         done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
@@ -431,9 +433,9 @@ class TestLightStart:
         import inspect
 
         code = (
-            "import inspect, sys; from calckit import cli; "
-            "d = cli._documented('calckit.diffing', 'diff_sheets'); "
-            "print('calckit.diffing' in sys.modules); print(inspect.getdoc(d))"
+            "import inspect, sys; from calckit.workflow import cli; "
+            "d = cli._documented('calckit.workflow.diff', 'diff_sheets'); "
+            "print('calckit.workflow.diff' in sys.modules); print(inspect.getdoc(d))"
         )
         done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
         loaded, doc = done.stdout.split("\n", 1)

@@ -160,7 +160,7 @@ class TestHtml:
 
     def test_text_is_escaped(self):
         """A title with < and & is escaped."""
-        from calckit.steps import HomogeneousStep
+        from calckit.engine.steps import HomogeneousStep
 
         step = HomogeneousStep("a < b & c", "x > 0.", sp.Symbol("C_1"), (sp.Symbol("C_1"),), "")
         html = display.step_html(step)

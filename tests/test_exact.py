@@ -1,4 +1,4 @@
-"""Exact numbers from what a user types (calckit.exact)."""
+"""Exact numbers from what a user types (calckit.core.exact)."""
 
 from __future__ import annotations
 
@@ -8,7 +8,7 @@ import pytest
 import sympy as sp
 
 import calckit as ck
-from calckit.exact import exact
+from calckit.core.exact import exact
 
 
 @pytest.mark.parametrize(

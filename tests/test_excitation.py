@@ -1,4 +1,4 @@
-"""Tests for calckit.excitation: rotating unbalance, balance grades, base motion."""
+"""Tests for calckit.physics.excitation: rotating unbalance, balance grades, base motion."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ import sympy as sp
 from scipy.integrate import solve_ivp
 
 from calckit.errors import ModelError
-from calckit.excitation import (
+from calckit.physics.excitation import (
     BALANCE_QUALITY_GRADES,
     BaseExcitation,
     base_excitation,
@@ -20,7 +20,7 @@ from calckit.excitation import (
     transmitted_force_amplitude,
     unbalance_force_amplitude,
 )
-from calckit.harmonic import magnification, transmissibility
+from calckit.physics.harmonic import magnification, transmissibility
 
 r_sym, z_sym = sp.symbols("r zeta", positive=True)
 

@@ -1,8 +1,8 @@
-"""Tests of calckit.explore: the what-if explorer, driven through the ipywidgets API without a browser.
+"""Tests of calckit.explore.explorer: the what-if explorer, driven through the ipywidgets API without a browser.
 
 Closed forms used as references (independent of the explorer's compiled derivation):
 omega_n = sqrt(k/m), S. S. Rao, Mechanical Vibrations, 5th ed., sec. 2.2, from memory;
-X = (F0/k) M(r, zeta) and phi, ibid. eqs. (3.30)-(3.31), through calckit.harmonic;
+X = (F0/k) M(r, zeta) and phi, ibid. eqs. (3.30)-(3.31), through calckit.physics.harmonic;
 T and F_T = T F0, ibid. sec. 9.10, through calckit.harmonic.transmissibility.
 
 For machine_on_isolators the references are written out here, not taken from calckit:
@@ -27,8 +27,8 @@ import pytest
 
 from calckit import harmonic
 from calckit.errors import CalcError, InputsError, OverwriteError, UnitsError
-from calckit.explore import SEPARATION_BASIS, Explorer, explore
-from calckit.oscillator import Oscillator
+from calckit.explore.explorer import SEPARATION_BASIS, Explorer, explore
+from calckit.physics.oscillator import Oscillator
 
 ROOT = Path(__file__).parent.parent
 EXAMPLE = ROOT / "examples" / "harrow_creek_p101.toml"
@@ -230,8 +230,8 @@ class TestKeep:
         assert "<td>mass</td><td>1850 kg</td><td>2000 kg</td>" in status
 
     def test_direct_values_give_a_full_inputs_file(self, tmp_path):
-        from calckit.inputs import check_keys, read_inputs
-        from calckit.workflow import load_template
+        from calckit.workflow.build import load_template
+        from calckit.workflow.inputs import check_keys, read_inputs
 
         ex = explore(
             mass="2 t",
@@ -258,7 +258,7 @@ class TestKeep:
             f"""
             import json, sys, warnings
             warnings.simplefilter("ignore")
-            from calckit.workflow import build_sheet
+            from calckit.workflow.build import build_sheet
             result = build_sheet("single_mass_harmonic", {str(kept.path)!r}, {str(tmp_path / "built")!r})
             sys.stdout.write(json.dumps(result.record))
             """
@@ -650,7 +650,7 @@ def build_in_child(template: str, inputs: Path, out: Path) -> dict:
         f"""
         import json, sys, warnings
         warnings.simplefilter("ignore")
-        from calckit.workflow import build_sheet
+        from calckit.workflow.build import build_sheet
         result = build_sheet({template!r}, {str(inputs)!r}, {str(out)!r})
         sys.stdout.write(json.dumps(result.record))
         """
@@ -671,7 +671,7 @@ def test_example_notebook_runs():
         warnings.simplefilter("ignore")
         import nbformat
         from nbclient import NotebookClient
-        from calckit.workflow import _kernel_env, _kernel_manager
+        from calckit.workflow.build import _kernel_env, _kernel_manager
         nb = nbformat.read({str(NOTEBOOK)!r}, as_version=4)
         NotebookClient(nb, timeout=300, kernel_name="python3", km=_kernel_manager(),
                        resources={{"metadata": {{"path": {str(NOTEBOOK.parent)!r}}}}}).execute(env=_kernel_env())

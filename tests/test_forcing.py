@@ -78,19 +78,19 @@ REFUSED = [
         "forcing term tan(t): the method of undetermined coefficients does not apply: tan is not a "
         "polynomial, exponential, sine, cosine, sinh or cosh of t, so its derivatives do not stay in a "
         "finite family and no trial form with finitely many coefficients exists. Approximate it by a finite "
-        "Fourier series over the interval of interest (calckit.fourier) or integrate numerically.",
+        "Fourier series over the interval of interest (calckit.physics.fourier) or integrate numerically.",
     ),
     (
         1 / t,
         "forcing term 1/t: the method of undetermined coefficients does not apply: t appears raised to the "
         "power -1; only whole powers t**0, t**1, t**2, ... keep the trial form finite. Approximate it by a "
-        "finite Fourier series over the interval of interest (calckit.fourier) or integrate numerically.",
+        "finite Fourier series over the interval of interest (calckit.physics.fourier) or integrate numerically.",
     ),
     (
         sp.sqrt(t),
         "forcing term sqrt(t): the method of undetermined coefficients does not apply: t appears raised to "
         "the power 1/2; only whole powers t**0, t**1, t**2, ... keep the trial form finite. Approximate it "
-        "by a finite Fourier series over the interval of interest (calckit.fourier) or integrate numerically.",
+        "by a finite Fourier series over the interval of interest (calckit.physics.fourier) or integrate numerically.",
     ),
     (
         sp.Abs(t - 1),
@@ -109,14 +109,14 @@ REFUSED = [
         "forcing term exp(t**2): the method of undetermined coefficients does not apply: its argument t**2 "
         "is not of the form a*t + b, so its derivatives do not stay in a finite family and no trial form "
         "with finitely many coefficients exists. Approximate it by a finite Fourier series over the interval "
-        "of interest (calckit.fourier) or integrate numerically.",
+        "of interest (calckit.physics.fourier) or integrate numerically.",
     ),
     (
         3 * sp.cos(t) + sp.log(t) * sp.cos(t),
         "forcing term log(t)*cos(t), in log(t): the method of undetermined coefficients does not apply: log "
         "is not a polynomial, exponential, sine, cosine, sinh or cosh of t, so its derivatives do not stay "
         "in a finite family and no trial form with finitely many coefficients exists. Approximate it by a "
-        "finite Fourier series over the interval of interest (calckit.fourier) or integrate numerically.",
+        "finite Fourier series over the interval of interest (calckit.physics.fourier) or integrate numerically.",
     ),
     (
         sp.DiracDelta(t),

@@ -1,4 +1,4 @@
-"""Tests for calckit.fourier: periodic loads as Fourier series."""
+"""Tests for calckit.physics.fourier: periodic loads as Fourier series."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from scipy.integrate import quad
 
 from calckit import fourier
 from calckit.errors import CalcError, ForcingError
-from calckit.fourier import FourierSeries, Harmonic, fourier_series, fourier_series_from_samples
+from calckit.physics.fourier import FourierSeries, Harmonic, fourier_series, fourier_series_from_samples
 
 t = sp.Symbol("t", real=True)
 A = sp.Symbol("A", positive=True)
@@ -378,7 +378,7 @@ class TestValidation:
         )
 
     def test_period_nan(self):
-        """A NaN period is a ForcingError too (from calckit.exact)."""
+        """A NaN period is a ForcingError too (from calckit.core.exact)."""
         with pytest.raises(
             ForcingError, match=r"fourier_series\(period\): the value nan is not a finite number"
         ):
@@ -443,8 +443,8 @@ class TestWithOscillator:
     def test_series_feeds_the_derivation_engine(self):
         """The press series, fed to Oscillator.particular, is verified by back substitution, and each
         harmonic's steady amplitude is |c_n| M(n r_1, zeta) / k with calckit.harmonic.magnification."""
-        from calckit.harmonic import magnification
-        from calckit.oscillator import Oscillator
+        from calckit.physics.harmonic import magnification
+        from calckit.physics.oscillator import Oscillator
 
         m, c, k = 800, 2400, 320_000  # invented compactor frame: omega_n = 20 rad/s, zeta = 3/40
         s = press_series().truncated(3)

@@ -1,4 +1,4 @@
-"""Tests for calckit.harmonic: SDOF closed forms under harmonic load."""
+"""Tests for calckit.physics.harmonic: SDOF closed forms under harmonic load."""
 
 from __future__ import annotations
 
@@ -14,7 +14,7 @@ from scipy.integrate import solve_ivp
 from scipy.optimize import brentq, minimize_scalar
 
 from calckit.errors import CalcError, ModelError
-from calckit.harmonic import (
+from calckit.physics.harmonic import (
     HalfPowerPoints,
     frequency_ratio,
     half_power_bandwidth,

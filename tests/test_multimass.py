@@ -1,4 +1,4 @@
-"""Tests of calckit.multimass: vector undetermined coefficients, modes, receptances, total response."""
+"""Tests of calckit.physics.multimass: vector undetermined coefficients, modes, receptances, total response."""
 
 from __future__ import annotations
 
@@ -10,9 +10,9 @@ import scipy.integrate
 import scipy.linalg
 import sympy as sp
 
+from calckit.engine.forcing import quasi_polynomial
 from calckit.errors import CalcError, ForcingError, ModelError
-from calckit.forcing import quasi_polynomial
-from calckit.multimass import MultiMass
+from calckit.physics.multimass import MultiMass
 
 t = sp.Symbol("t", real=True)
 R = sp.Rational
@@ -458,7 +458,7 @@ ERRORS = [
         "F row 2, forcing term tan(t): the method of undetermined coefficients does not apply: tan is not a "
         "polynomial, exponential, sine, cosine, sinh or cosh of t, so its derivatives do not stay in a finite "
         "family and no trial form with finitely many coefficients exists. Approximate it by a finite Fourier "
-        "series over the interval of interest (calckit.fourier) or integrate numerically.",
+        "series over the interval of interest (calckit.physics.fourier) or integrate numerically.",
     ),
     (
         lambda: MultiMass([[1, 0], [0, 1]], None, [[2, -1], [-1, 2]]).frequency_response([1.0]),
@@ -520,7 +520,7 @@ def test_tuned_absorber_template_builds(tmp_path):
     inputs = root / "examples" / "harrow_creek_b201_absorber.toml"
     out = tmp_path / "b201"
     code = (
-        "import sys; from calckit.workflow import build_sheet; "
+        "import sys; from calckit.workflow.build import build_sheet; "
         "print(build_sheet('tuned_absorber', sys.argv[1], sys.argv[2]).json)"
     )
     done = subprocess.run(

@@ -9,9 +9,9 @@ from decimal import Decimal
 import pytest
 import sympy as sp
 
+from calckit.core.units import Q_
 from calckit.errors import CalcError, InputsError, UnitsError
 from calckit.render.numbers import Substitution, number_latex, put_through, round_sig, unit_latex
-from calckit.units import Q_
 
 K, M, C, X = sp.symbols("k m c x")
 SI = {"k": "180 kN/m", "m": "250 kg"}

@@ -1,8 +1,8 @@
-"""calckit.numeric: compiled expressions, time histories and frequency response curves.
+"""calckit.engine.numeric: compiled expressions, time histories and frequency response curves.
 
 Reference values come from numpy formulas written out here, from sympy's own
 ``evalf`` of the derived expression, and from the closed forms of
-:mod:`calckit.harmonic`.
+:mod:`calckit.physics.harmonic`.
 """
 
 from __future__ import annotations
@@ -16,10 +16,10 @@ import pytest
 import sympy as sp
 
 from calckit import LinearODE, Oscillator
+from calckit.core.units import Q_
+from calckit.engine.numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
 from calckit.errors import CalcError, ModelError, UnitsError
-from calckit.harmonic import magnification, phase_angle
-from calckit.numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
-from calckit.units import Q_
+from calckit.physics.harmonic import magnification, phase_angle
 
 t = sp.Symbol("t", real=True)
 m, c, k, w = sp.symbols("m c k omega", positive=True)

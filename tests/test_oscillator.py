@@ -17,9 +17,9 @@ import sympy as sp
 from scipy.integrate import solve_ivp
 
 from calckit import REGIMES, HarmonicLine, Oscillator
+from calckit.core.units import Q_
 from calckit.errors import CalcError, ModelError, UnitsError
-from calckit.harmonic import magnification, phase_angle
-from calckit.units import Q_
+from calckit.physics.harmonic import magnification, phase_angle
 from tests.reference import steady_state
 
 t = sp.Symbol("t", real=True)
@@ -435,7 +435,7 @@ class TestModelErrors:
         assert str(info.value) == "quality_factor: an undamped system has an unbounded quality factor."
 
     def test_not_a_number(self):
-        """Text where a number belongs is refused (quantities in text go through calckit.units)."""
+        """Text where a number belongs is refused (quantities in text go through calckit.core.units)."""
         with pytest.raises(ModelError) as info:
             Oscillator("250 kg", 0, 180_000)
         assert str(info.value) == (
@@ -458,6 +458,6 @@ def test_frequency_response_matches_closed_form():
 
 
 def test_frequency_response_at_undamped_resonance():
-    """At an undamped resonance the receptance is infinite, quietly (as in calckit.harmonic)."""
+    """At an undamped resonance the receptance is infinite, quietly (as in calckit.physics.harmonic)."""
     h = Oscillator(1, 0, 4).frequency_response([2.0])
     assert np.isinf(np.abs(h[0]))

@@ -12,6 +12,7 @@ import sympy as sp
 from matplotlib.mathtext import MathTextParser
 
 from calckit import LinearODE, Oscillator
+from calckit.engine.steps import _KINDS, Step
 from calckit.errors import CalcError, SheetError
 from calckit.render.latex import (
     Notation,
@@ -24,7 +25,6 @@ from calckit.render.latex import (
     symbol_latex,
 )
 from calckit.render.mathml import latex_to_mathml
-from calckit.steps import _KINDS, Step
 
 T = sp.Symbol("t", real=True)
 M, C, K, A, R = sp.symbols("m c k A r", positive=True)

@@ -17,8 +17,8 @@ import sympy as sp
 from scipy.integrate import solve_ivp
 
 from calckit import LinearODE, Oscillator
+from calckit.engine.response import total_response
 from calckit.errors import ModelError
-from calckit.response import total_response
 
 t = sp.Symbol("t", real=True)
 R = sp.Rational

@@ -14,7 +14,7 @@ import pytest
 import sympy as sp
 
 import calckit as ck
-from calckit.sheet import DerivationBlock, Figure, Sheet
+from calckit.sheet.sheet import DerivationBlock, Figure, Sheet
 from tests.browser import ARTIFACTS, inspect_page, needs_chromium, pdf_page_count, screenshot
 
 matplotlib.use("Agg")

@@ -20,10 +20,10 @@ import numpy as np
 import pytest
 import sympy as sp
 
+from calckit.core.units import angular_frequency, quantity, to_si
 from calckit.errors import CalcError
-from calckit.inputs import read_inputs
-from calckit.units import angular_frequency, quantity, to_si
-from calckit.workflow import CellError, build_sheet, bundled_templates, demos
+from calckit.workflow.build import CellError, build_sheet, bundled_templates, demos
+from calckit.workflow.inputs import read_inputs
 
 pytestmark = pytest.mark.slow
 

@@ -17,7 +17,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import calckit as ck
-from calckit import steps as S
+from calckit.engine import steps as S
 
 t = sp.Symbol("t", real=True)
 m, c, k, A, r, w, a, P, tau = sp.symbols("m c k A r omega a P tau", positive=True)

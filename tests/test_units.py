@@ -1,4 +1,4 @@
-"""Tests for calckit.units: reading quantities, SI conversion, frequencies, formatting."""
+"""Tests for calckit.core.units: reading quantities, SI conversion, frequencies, formatting."""
 
 from __future__ import annotations
 
@@ -12,9 +12,8 @@ import sympy as sp
 from hypothesis import given
 from hypothesis import strategies as st
 
-from calckit.errors import CalcError, UnitsError
-from calckit.exact import exact
-from calckit.units import (
+from calckit.core.exact import exact
+from calckit.core.units import (
     KINDS,
     Q_,
     SIValue,
@@ -27,6 +26,7 @@ from calckit.units import (
     to_si,
     ureg,
 )
+from calckit.errors import CalcError, UnitsError
 
 # Exact definitions (NIST SP 811 (2008 ed.), Appendix B.8 and B.9, from memory):
 # 1 lb = 0.45359237 kg, 1 in = 0.0254 m, standard gravity g_n = 9.80665 m/s**2,

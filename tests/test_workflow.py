@@ -1,4 +1,4 @@
-"""Tests of calckit.workflow and calckit.diffing: build, diff, batch, new.
+"""Tests of calckit.workflow.build and calckit.workflow.diff: build, diff, batch, new.
 
 Kernels take a second or two to start, so the sheets are built once per module
 (fixtures ``built`` and ``batch``) and shared by the tests that read them.
@@ -17,12 +17,10 @@ from pathlib import Path
 import nbformat
 import pytest
 
-from calckit.diffing import Change, diff_records, diff_sheets, read_record
+from calckit.core.units import fmt_number
 from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
-from calckit.inputs import TITLE_FIELDS, check_keys, read_inputs
-from calckit.sheet import existing_fingerprint
-from calckit.units import fmt_number
-from calckit.workflow import (
+from calckit.sheet.sheet import existing_fingerprint
+from calckit.workflow.build import (
     INPUTS_TAG,
     PARAMETERS_TAG,
     SAVE_TAG,
@@ -35,6 +33,8 @@ from calckit.workflow import (
     read_cases,
     run_batch,
 )
+from calckit.workflow.diff import Change, diff_records, diff_sheets, read_record
+from calckit.workflow.inputs import TITLE_FIELDS, check_keys, read_inputs
 
 DATA = Path(__file__).parent / "data"
 EXAMPLE = Path(__file__).parent.parent / "examples" / "harrow_creek_p101.toml"
@@ -261,7 +261,7 @@ class TestBuildSheet:
     def test_pdf_print_dates_do_not_count(self, tmp_path):
         """Two prints of one sheet differ only in their dates and count as the same file; a signed PDF
         (bytes appended) does not."""
-        from calckit.workflow import _same_file
+        from calckit.workflow.build import _same_file
 
         head = b"%PDF-1.4\n1 0 obj\n<</Producer (Skia/PDF m156)\n"
         first, second, signed = tmp_path / "a.pdf", tmp_path / "b.pdf", tmp_path / "c.pdf"
@@ -725,7 +725,7 @@ class TestSources:
 
     def test_sheet_sources_win(self):
         """Sheet(sources=...) wins over input(source=...) for the inputs it names, and enters the fingerprint."""
-        from calckit.sheet import Sheet
+        from calckit.sheet.sheet import Sheet
 
         def sheet(sources):
             s = Sheet("P-101", sources=sources, show=False)

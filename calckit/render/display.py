@@ -50,6 +50,7 @@ from typing import Any
 
 import sympy as sp
 
+from calckit.engine.steps import CoefficientEquationsStep, Step
 from calckit.errors import SheetError
 from calckit.render.latex import (
     Notation,
@@ -65,7 +66,6 @@ from calckit.render.latex import (
     steps_at,
 )
 from calckit.render.page import Html, escape, math_block, math_inline
-from calckit.steps import CoefficientEquationsStep, Step
 
 __all__ = [
     "Block",
@@ -215,7 +215,7 @@ def latex_document(obj: Any, level: str = "full", **options) -> str:
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import HomogeneousStep
+    >>> from calckit.engine.steps import HomogeneousStep
     >>> C1, t = sp.symbols("C_1 t")
     >>> print(latex_document(HomogeneousStep("Transient", "Free motion", C1 * sp.exp(-t), (C1,), "")))
     Transient. Free motion.
@@ -247,7 +247,7 @@ def markdown_document(obj: Any, level: str = "full", **options) -> str:
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import HomogeneousStep
+    >>> from calckit.engine.steps import HomogeneousStep
     >>> C1, t = sp.symbols("C_1 t")
     >>> print(markdown_document(HomogeneousStep("Transient", "Free motion", C1 * sp.exp(-t), (C1,), "")))
     **Transient.** Free motion.
@@ -279,7 +279,7 @@ def html_fragment(obj: Any, level: str = "full", **options) -> Html:
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import HomogeneousStep
+    >>> from calckit.engine.steps import HomogeneousStep
     >>> C1, t = sp.symbols("C_1 t")
     >>> html = html_fragment(HomogeneousStep("Transient", "Free motion", C1 * sp.exp(-t), (C1,), ""))
     >>> html.startswith('<div class="calckit-display">') and "<math" in html and "<script" not in html
@@ -313,7 +313,7 @@ def plain_text(obj: Any, level: str = "full", *, width: int = 88, **options) -> 
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import HomogeneousStep
+    >>> from calckit.engine.steps import HomogeneousStep
     >>> C1, t = sp.symbols("C_1 t")
     >>> print(plain_text(HomogeneousStep("Transient", "Free motion", C1 * sp.exp(-t), (C1,), "")))
     Transient

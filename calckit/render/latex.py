@@ -1,6 +1,6 @@
 r"""Formulas of derivation steps, in hand-calculation reading order.
 
-Each step record (:mod:`calckit.steps`) becomes a few *rows*: an aligned
+Each step record (:mod:`calckit.engine.steps`) becomes a few *rows*: an aligned
 left side, a right side starting with a relation, and an optional note, each
 piece spelled twice, once in LaTeX and once in plain text. The rows are the one
 formatter behind every output: :func:`rows_latex` prints them for the notebook
@@ -55,8 +55,7 @@ import sympy as sp
 from sympy.printing.conventions import split_super_sub
 from sympy.printing.latex import translate
 
-from calckit.errors import SheetError
-from calckit.steps import (
+from calckit.engine.steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
     DerivativesStep,
@@ -73,6 +72,7 @@ from calckit.steps import (
     TrialFormStep,
     VerificationStep,
 )
+from calckit.errors import SheetError
 
 __all__ = [
     "LEVELS",
@@ -501,7 +501,7 @@ def step_rows(step: Step, nt: Notation) -> tuple[Row, ...]:
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import ParticularSolutionStep
+    >>> from calckit.engine.steps import ParticularSolutionStep
     >>> t = sp.Symbol("t")
     >>> step = ParticularSolutionStep("Particular solution", "It is.", sp.cos(t) / 2, t)
     >>> rows_text(step_rows(step, Notation()))
@@ -753,7 +753,7 @@ def step_latex(step: Step, nt: Notation | None = None, *, names: Mapping | None 
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import HomogeneousStep
+    >>> from calckit.engine.steps import HomogeneousStep
     >>> C1, t = sp.symbols("C_1 t")
     >>> step_latex(HomogeneousStep("Transient", "Free motion.", C1 * sp.exp(-t), (C1,), "overdamped"))
     'x_{h}(t) = C_{1} e^{- t}'
@@ -770,7 +770,7 @@ def step_plain(
     Examples
     --------
     >>> import sympy as sp
-    >>> from calckit.steps import HomogeneousStep
+    >>> from calckit.engine.steps import HomogeneousStep
     >>> C1, t = sp.symbols("C_1 t")
     >>> step_plain(HomogeneousStep("Transient", "Free motion.", C1 * sp.exp(-t), (C1,), "overdamped"))
     'x_h(t) = C_1*exp(-t)'

@@ -38,9 +38,9 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.precedence import PRECEDENCE
 from sympy.printing.str import StrPrinter
 
+from calckit.core.units import KINDS, Q_, angular_frequency, fmt_number, kind_of, quantity, to_si, ureg
 from calckit.errors import InputsError, UnitsError
 from calckit.render.latex import EQ, Row, Tex, expr_latex, expr_text, symbol_latex
-from calckit.units import KINDS, Q_, angular_frequency, fmt_number, kind_of, quantity, to_si, ureg
 
 __all__ = ["Substitution", "put_through", "round_sig", "number_latex", "unit_latex"]
 

@@ -13,7 +13,7 @@ import subprocess
 import tempfile
 from pathlib import Path
 
-from ..errors import SheetError
+from calckit.errors import SheetError
 
 __all__ = ["find_chromium", "html_to_pdf", "CHROMIUM_FLAGS"]
 

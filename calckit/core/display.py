@@ -17,26 +17,26 @@ class Displayable:
     __slots__ = ()
 
     def _repr_latex_(self) -> str:
-        from .render.display import latex_document
+        from calckit.render.display import latex_document
 
         return latex_document(self)
 
     def _repr_markdown_(self) -> str:
-        from .render.display import markdown_document
+        from calckit.render.display import markdown_document
 
         return markdown_document(self)
 
     def _repr_html_(self) -> str:
-        from .render.display import html_fragment
+        from calckit.render.display import html_fragment
 
         return html_fragment(self)
 
     def _repr_pretty_(self, printer, cycle: bool) -> None:
-        from .render.display import plain_text
+        from calckit.render.display import plain_text
 
         printer.text("..." if cycle else plain_text(self))
 
     def __str__(self) -> str:
-        from .render.display import plain_text
+        from calckit.render.display import plain_text
 
         return plain_text(self)

@@ -99,15 +99,16 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from .errors import CalcError, InputsError, OverwriteError
-from .excitation import BALANCE_QUALITY_GRADES
-from .forcing import split_forcing
-from .inputs import TITLE_FIELDS, check_keys, non_negative, parse_expression, positive, read_inputs
-from .numeric import Compiled, compile_expr
-from .oscillator import Oscillator
-from .sheet import Check, _in_kernel, check_margin
-from .units import Q_, angular_frequency, fmt, fmt_number, quantity, to_si
-from .workflow import load_template
+from calckit.core.checks import non_negative, positive
+from calckit.core.expressions import parse_expression
+from calckit.core.units import Q_, angular_frequency, fmt, fmt_number, quantity, to_si
+from calckit.engine.forcing import split_forcing
+from calckit.engine.numeric import Compiled, compile_expr
+from calckit.errors import CalcError, InputsError, OverwriteError
+from calckit.physics.excitation import BALANCE_QUALITY_GRADES
+from calckit.physics.oscillator import Oscillator
+from calckit.sheet import Check, check_margin, in_kernel
+from calckit.workflow import TITLE_FIELDS, check_keys, load_template, read_inputs
 
 __all__ = ["explore", "Explorer", "WhatIf", "Kept", "Plan", "PLANS", "ROLES", "SEPARATION_BASIS"]
 
@@ -1716,7 +1717,7 @@ class Explorer:
 
     def __repr__(self) -> str:
         text = self.text()
-        if not _in_kernel():  # a plain Python session: say how to move the values here
+        if not in_kernel():  # a plain Python session: say how to move the values here
             text += (
                 "\n(The sliders need Jupyter with ipywidgets. Here, move values with "
                 ".set(name=value) and write them with .keep(path).)"
@@ -1724,7 +1725,7 @@ class Explorer:
         return text
 
     def _repr_mimebundle_(self, include=None, exclude=None):
-        if self.widget is not None and _in_kernel():
+        if self.widget is not None and in_kernel():
             data = dict(self.widget._repr_mimebundle_())
             data["text/html"] = self.static_html()
         else:

@@ -31,8 +31,8 @@ from dataclasses import dataclass
 import numpy as np
 import sympy as sp
 
-from .errors import ModelError
-from .exact import exact
+from calckit.core.exact import exact
+from calckit.errors import ModelError
 
 __all__ = [
     "HalfPowerPoints",
@@ -58,7 +58,7 @@ _MEANING = {
     "delta": "logarithmic decrement",
     "omega": "forcing frequency",
     "omega_n": "natural frequency",
-    # used by calckit.excitation
+    # used by calckit.physics.excitation
     "m_u": "unbalanced mass",
     "e": "eccentricity",
     "G": "balance quality grade",
@@ -72,7 +72,7 @@ Value = sp.Expr | np.ndarray | np.floating
 
 
 # --------------------------------------------------------------------------- input handling
-# Shared with calckit.excitation (same layer, same rules).
+# Shared with calckit.physics.excitation (same layer, same rules).
 
 
 def _is_exact(*values) -> bool:

@@ -37,8 +37,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .errors import InputsError
-from .units import fmt, fmt_number
+from calckit.core.units import fmt, fmt_number
+from calckit.errors import InputsError
 
 __all__ = [
     "Change",
@@ -237,7 +237,7 @@ class SheetDiff:
 
     def html(self) -> str:
         """The report as a small self-contained HTML page."""
-        from .render.page import Html, escape, html_page, table
+        from calckit.render.page import Html, escape, html_page, table
 
         parts = [
             f"<h1>What changed</h1><p>From <code>{escape(self.old)}</code><br>"
@@ -404,7 +404,7 @@ def read_record(path: str | os.PathLike) -> dict:
             do="Give a record written by calckit build or Sheet.save",
         )
     if path.suffix.lower() == ".html":
-        from .sheet import existing_fingerprint
+        from calckit.sheet.sheet import existing_fingerprint
 
         shown = existing_fingerprint(path)
         if shown and shown != data["fingerprint"]:
@@ -576,7 +576,7 @@ def _shown_one(item: dict | None, unit: str, target: str | None) -> str:
     if not unit:
         return fmt_number(value, 4)
     try:
-        from .units import Q_
+        from calckit.core.units import Q_
 
         quantity = Q_(float(value), unit)
         return fmt(quantity.to(target) if target else quantity, 4)

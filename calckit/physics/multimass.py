@@ -56,12 +56,10 @@ from numbers import Number
 import numpy as np
 import sympy as sp
 
-from .errors import ForcingError, ModelError
-from .exact import exact
-from .forcing import COS, SIN, ExponentGroup, ForcingSplit, resolve_time, split_forcing
-from .oscillator import Oscillator
-from .response import Response
-from .steps import (
+from calckit.core.exact import exact
+from calckit.engine.forcing import COS, SIN, ExponentGroup, ForcingSplit, resolve_time, split_forcing
+from calckit.engine.response import Response
+from calckit.engine.steps import (
     CharacteristicStep,
     DerivativesStep,
     HomogeneousStep,
@@ -73,7 +71,7 @@ from .steps import (
     TotalResponseStep,
     TrialFormStep,
 )
-from .undetermined import (
+from calckit.engine.undetermined import (
     LAMBDA,
     Derivation,
     LinearODE,
@@ -84,6 +82,8 @@ from .undetermined import (
     vanishes,
     verification_step,
 )
+from calckit.errors import ForcingError, ModelError
+from calckit.physics.oscillator import Oscillator
 
 __all__ = [
     "MultiMass",
@@ -838,7 +838,7 @@ def _real_imag(expr: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
 
 
 def _plain(expr) -> str:
-    from .undetermined import _plain as scalar_plain
+    from calckit.engine.undetermined import _plain as scalar_plain
 
     return scalar_plain(expr)
 
@@ -1387,7 +1387,7 @@ def _ratios(modes: Modes, cm) -> tuple:
 
 
 def _register_rows() -> None:
-    from .render.latex import Row, Tex, expr_latex, expr_text, step_rows
+    from calckit.render.latex import Row, Tex, expr_latex, expr_text, step_rows
 
     eq = Tex("=", "=")
 

@@ -50,8 +50,8 @@ import numpy as np
 import pint
 import sympy as sp
 
-from .errors import UnitsError
-from .exact import exact as _exact
+from calckit.core.exact import exact as _exact
+from calckit.errors import UnitsError
 
 __all__ = [
     "ureg",

@@ -27,8 +27,8 @@ from fractions import Fraction
 
 import sympy as sp
 
-from .errors import CalcError, ForcingError
-from .exact import exact
+from calckit.core.exact import exact
+from calckit.errors import CalcError, ForcingError
 
 __all__ = [
     "ForcingTerm",
@@ -200,7 +200,7 @@ _SPLIT_PIECES = (
 )
 _NUMERIC = (
     "Approximate it by a finite Fourier series over the interval of interest "
-    "(calckit.fourier) or integrate numerically"
+    "(calckit.physics.fourier) or integrate numerically"
 )
 
 

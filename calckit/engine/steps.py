@@ -14,8 +14,8 @@ from dataclasses import dataclass
 
 import sympy as sp
 
-from .displayable import Displayable
-from .forcing import ExponentGroup
+from calckit.core.display import Displayable
+from calckit.engine.forcing import ExponentGroup
 
 __all__ = [
     "Deferred",

@@ -36,9 +36,9 @@ from typing import Any
 
 import sympy as sp
 
-from ._version import __version__
-from .errors import OverwriteError, SheetError
-from .units import Q_, fmt, quantity, to_si
+from calckit._version import __version__
+from calckit.core.units import Q_, fmt, quantity, to_si
+from calckit.errors import OverwriteError, SheetError
 
 __all__ = [
     "Sheet",
@@ -229,7 +229,7 @@ def _shown(value: Any, sig: int = 4) -> str:
         return fmt(value, sig)
     if isinstance(value, (int, float, sp.Basic)) and not isinstance(value, bool):
         try:
-            from .units import fmt_number
+            from calckit.core.units import fmt_number
 
             return fmt_number(float(value), sig)
         except (TypeError, ValueError):
@@ -323,13 +323,13 @@ class Sheet:
         self.blocks: list[Any] = []
         self.inputs: dict[str, SheetInput] = {}
         self.results: dict[str, Any] = {}
-        self._show = _in_kernel() if show is None else show
+        self._show = in_kernel() if show is None else show
 
     # -------------------------------------------------------------- adding
     def _add(self, block):
         self.blocks.append(block)
         if self._show:
-            from .render.sheet_html import show_block
+            from calckit.sheet.html import show_block
 
             show_block(self, block)
         return block
@@ -387,7 +387,7 @@ class Sheet:
         results (or given in ``values``). The step shows the formula, the values
         with units substituted, and the result in ``unit``.
         """
-        from .render.numbers import put_through
+        from calckit.render.numbers import put_through
 
         _check_name(name, "result name")
         known = {key: rec.value for key, rec in self.inputs.items()}
@@ -395,7 +395,7 @@ class Sheet:
         if values:
             known.update(values)
         if isinstance(formula, str):  # read by the whitelist parser: text is never run
-            from .inputs import parse_expression
+            from calckit.core.expressions import parse_expression
 
             expr = parse_expression(formula, {key: sp.Symbol(key) for key in known}, where=f"step {name}")
         elif isinstance(formula, sp.Expr):
@@ -511,7 +511,7 @@ class Sheet:
 
         The value is ``|f_op / f_n - 1|`` (as a percentage), the limit ``band``.
         """
-        from .units import angular_frequency
+        from calckit.core.units import angular_frequency
 
         def rad_per_s(given, label):
             _require_real(given, f"check {name}", label)
@@ -670,7 +670,7 @@ class Sheet:
     # -------------------------------------------------------------- output
     def to_html(self, *, paper: str | None = None) -> str:
         """The whole sheet as one self-contained HTML page (``paper`` fixes the printed size)."""
-        from .render.sheet_html import sheet_page
+        from calckit.sheet.html import sheet_page
 
         if paper not in (None, "A4", "Letter"):
             raise SheetError(f"unknown paper size {paper!r}", where="paper", do='Use "A4" or "Letter"')
@@ -707,7 +707,7 @@ class Sheet:
         elif suffix == ".html":
             _atomic_write(path, self.to_html().encode())
         else:
-            from .render.printing import html_to_pdf
+            from calckit.render.printing import html_to_pdf
 
             html_to_pdf(self.to_html(paper=paper), path)
         return path
@@ -739,7 +739,7 @@ class Sheet:
 
     # -------------------------------------------------------------- display
     def _repr_html_(self) -> str:
-        from .render.sheet_html import sheet_fragment
+        from calckit.sheet.html import sheet_fragment
 
         return sheet_fragment(self)
 
@@ -811,7 +811,7 @@ def _same_unit(value: Any, limit: Any, unit: str | None, name: str) -> tuple[flo
         try:
             return float(value.to(target).magnitude), float(limit.to(target).magnitude), target
         except Exception as exc:  # pint DimensionalityError
-            from .errors import UnitsError
+            from calckit.errors import UnitsError
 
             raise UnitsError(
                 f"cannot compare {fmt(value)} with {fmt(limit)}: the dimensions differ",
@@ -821,7 +821,7 @@ def _same_unit(value: Any, limit: Any, unit: str | None, name: str) -> tuple[flo
     return float(value), float(limit), unit or ""
 
 
-def _in_kernel() -> bool:
+def in_kernel() -> bool:
     import sys
 
     ipython = sys.modules.get("IPython")

@@ -33,8 +33,8 @@ from dataclasses import dataclass, replace
 import numpy as np
 import sympy as sp
 
-from .errors import CalcError, ForcingError
-from .exact import exact
+from calckit.core.exact import exact
+from calckit.errors import CalcError, ForcingError
 
 __all__ = ["FourierSeries", "Harmonic", "fourier_series", "fourier_series_from_samples"]
 
@@ -390,11 +390,11 @@ def fourier_series(f, t: sp.Symbol, period, n_harmonics: int, *, method: str = "
         )
     T = _check_period(period, f"{where}(period)")
     N = _check_count(n_harmonics, f"{where}(n_harmonics)")
-    if isinstance(f, str):  # text is never run: read it with calckit.inputs.parse_expression
+    if isinstance(f, str):  # text is never run: read it with calckit.parse_expression
         raise ForcingError(
             f"got text {f!r}, which is not read here",
             where=f"{where}(f)",
-            do="Give a sympy expression in t, or read the text with calckit.inputs.parse_expression first",
+            do="Give a sympy expression in t, or read the text with calckit.parse_expression first",
         )
     try:
         f = exact(f if isinstance(f, sp.Basic) else sp.sympify(f, strict=True), where=f"{where}(f)")

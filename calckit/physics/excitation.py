@@ -1,6 +1,6 @@
 """Excitations an engineer actually has: rotating unbalance and base motion.
 
-Same two paths as :mod:`calckit.harmonic`: any sympy argument gives an exact sympy
+Same two paths as :mod:`calckit.physics.harmonic`: any sympy argument gives an exact sympy
 result (floats read as the decimals they show), plain numbers and numpy arrays give
 numpy results, broadcast together. Bad values raise :class:`~calckit.errors.ModelError`
 naming the function and the argument.
@@ -24,8 +24,8 @@ from dataclasses import dataclass
 import numpy as np
 import sympy as sp
 
-from . import harmonic as _h
-from .harmonic import _args, _out
+from calckit.physics import harmonic as _h
+from calckit.physics.harmonic import _args, _out
 
 __all__ = [
     "BALANCE_QUALITY_GRADES",

@@ -17,7 +17,7 @@ from numbers import Number
 
 import sympy as sp
 
-from .errors import ModelError
+from calckit.errors import ModelError
 
 __all__ = ["exact", "exact_expr"]
 

@@ -37,11 +37,18 @@ from dataclasses import dataclass, field
 
 import sympy as sp
 
-from .displayable import Displayable
-from .errors import ForcingError, ModelError
-from .exact import exact
-from .forcing import COS, SIN, ExponentGroup, ForcingSplit, _add_into, quasi_polynomial, split_forcing
-from .steps import (
+from calckit.core.display import Displayable
+from calckit.core.exact import exact
+from calckit.engine.forcing import (
+    COS,
+    SIN,
+    ExponentGroup,
+    ForcingSplit,
+    _add_into,
+    quasi_polynomial,
+    split_forcing,
+)
+from calckit.engine.steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
     Deferred,
@@ -56,6 +63,7 @@ from .steps import (
     TrialFormStep,
     VerificationStep,
 )
+from calckit.errors import ForcingError, ModelError
 
 __all__ = ["LinearODE", "Derivation", "vanishes", "LAMBDA"]
 
@@ -100,9 +108,9 @@ class Derivation(Displayable):
     def evaluate(self, times, **values):
         """``x_p`` at numeric *times* (numpy array); symbols given as keyword values.
 
-        The expression is compiled once (see :mod:`calckit.numeric`).
+        The expression is compiled once (see :mod:`calckit.engine.numeric`).
         """
-        from .numeric import time_history
+        from calckit.engine.numeric import time_history
 
         return time_history(self, times, **values)
 
@@ -250,7 +258,7 @@ class LinearODE:
         >>> LinearODE([1, 0, 0]).response(sp.Integer(2), [1, 0], t=t).solution
         t**2 + 1
         """
-        from .response import total_response
+        from calckit.engine.response import total_response
 
         return total_response(self, f, initial_values, t=t)
 

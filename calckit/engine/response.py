@@ -14,11 +14,11 @@ from dataclasses import dataclass
 
 import sympy as sp
 
-from .displayable import Displayable
-from .errors import ModelError
-from .exact import exact
-from .steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
-from .undetermined import Derivation, LinearODE, _is_zero, _tidy
+from calckit.core.display import Displayable
+from calckit.core.exact import exact
+from calckit.engine.steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
+from calckit.engine.undetermined import Derivation, LinearODE, _is_zero, _tidy
+from calckit.errors import ModelError
 
 __all__ = ["Response", "homogeneous_basis", "total_response"]
 
@@ -50,7 +50,7 @@ class Response(Displayable):
 
     def evaluate(self, times, part: str = "solution", **values):
         """The response (or its ``"transient"`` / ``"steady_state"`` part) at numeric *times*."""
-        from .numeric import time_history
+        from calckit.engine.numeric import time_history
 
         return time_history(self, times, part=part, **values)
 

@@ -13,7 +13,8 @@ from typing import Any
 
 import sympy as sp
 
-from ..sheet import (
+from calckit.render.page import SHEET_CSS, Html, escape, html_page, math_block, math_inline, section, table
+from calckit.sheet.sheet import (
     RELATIONS,
     CalcStep,
     Check,
@@ -26,7 +27,6 @@ from ..sheet import (
     TextBlock,
     _shown,
 )
-from .page import SHEET_CSS, Html, escape, html_page, math_block, math_inline, section, table
 
 __all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block"]
 
@@ -105,7 +105,7 @@ def block_html(block: Any, number: str = "") -> Html:
         latex = f"{block.symbol} = {_value_latex(value)}"
         return _step_html(number, block.title or block.name, latex, block.reference)
     if isinstance(block, DerivationBlock):
-        from .display import derivation_html
+        from calckit.render.display import derivation_html
 
         inner = derivation_html(block.derivation, level=block.level)
         # the derivation's steps are sub-steps of this sheet step: 3.2.1, 3.2.2, ...
@@ -141,7 +141,7 @@ def block_html(block: Any, number: str = "") -> Html:
 
 def _value_latex(value: Any) -> str:
     """LaTeX of a result: rounded number and upright unit (``5.191\\;\\mathrm{mm}``)."""
-    from .numbers import number_latex, unit_latex
+    from calckit.render.numbers import number_latex, unit_latex
 
     if hasattr(value, "units") or isinstance(value, (int, float)):
         number, _, unit = _shown(value).partition(" ")

@@ -19,7 +19,7 @@ Evaluation rules
   largest magnitude) is returned as real. Results that are truly complex (a
   receptance) are returned complex.
 - Division by zero gives ``inf`` quietly, as in the closed forms of
-  :mod:`calckit.harmonic`.
+  :mod:`calckit.physics.harmonic`.
 
 Examples
 --------
@@ -40,8 +40,8 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
-from .errors import ModelError, UnitsError
-from .exact import exact
+from calckit.core.exact import exact
+from calckit.errors import ModelError, UnitsError
 
 __all__ = ["Compiled", "FrequencyResponse", "compile_expr", "time_history", "frequency_response"]
 
@@ -116,7 +116,7 @@ class Compiled:
 
 def _times_array(times, name: str) -> np.ndarray:
     if _is_quantity(times):
-        from .units import ureg
+        from calckit.core.units import ureg
 
         try:
             times = times.to(ureg.second).magnitude
@@ -216,7 +216,7 @@ def compile_expr(expr, t: sp.Symbol, parameters: Iterable[sp.Symbol | str] = ())
         raise ModelError(
             f"got text {expr!r}, which is not read here",
             where="compile_expr",
-            do="Give a sympy expression, or read the text with calckit.inputs.parse_expression first",
+            do="Give a sympy expression, or read the text with calckit.parse_expression first",
         )
     expr = exact(sp.sympify(expr, strict=True), where="compile_expr")
     free = expr.free_symbols - {t}
@@ -419,7 +419,7 @@ def frequency_response(osc, omegas, **values) -> FrequencyResponse:
 
 
 def _omega_array(omegas) -> np.ndarray:
-    from .units import ureg
+    from calckit.core.units import ureg
 
     if omegas.check("[frequency]") and "hertz" in str(omegas.units):
         raise UnitsError(

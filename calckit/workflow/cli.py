@@ -1,4 +1,4 @@
-"""The ``calckit`` command line: a thin layer over :mod:`calckit.workflow` and :mod:`calckit.diffing`.
+"""The ``calckit`` command line: a thin layer over :mod:`calckit.workflow.build` and :mod:`calckit.workflow.diff`.
 
 Commands
 --------
@@ -35,9 +35,9 @@ import types
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-from . import workflow
-from ._version import __version__
-from .errors import CalcError
+from calckit._version import __version__
+from calckit.errors import CalcError
+from calckit.workflow import build as workflow
 
 __all__ = ["main", "parser"]
 
@@ -126,7 +126,7 @@ def parser() -> argparse.ArgumentParser:
     build.add_argument("--pdf", action="store_true", help=_param(workflow.build_sheet, "pdf"))
     build.add_argument("--overwrite", action="store_true", help=_param(workflow.build_sheet, "overwrite"))
 
-    diff_sheets = _documented("calckit.diffing", "diff_sheets")
+    diff_sheets = _documented("calckit.workflow.diff", "diff_sheets")
     diff = command("diff", diff_sheets)
     diff.add_argument("old", metavar="OLD", help=_param(diff_sheets, "old"))
     diff.add_argument("new", metavar="NEW", help=_param(diff_sheets, "new"))
@@ -198,7 +198,7 @@ def _run_build(args: argparse.Namespace) -> int:
 
 
 def _run_diff(args: argparse.Namespace) -> int:
-    from . import diffing
+    from calckit.workflow import diff as diffing
 
     report = diffing.diff_sheets(args.old, args.new)
     path = Path(args.html) if args.html else None
@@ -216,7 +216,7 @@ def _run_diff(args: argparse.Namespace) -> int:
 
 def _check_report_target(path: Path, report, *, overwrite: bool) -> None:
     """The --html file of diff: not a folder, not a file of the sheets compared, new unless --overwrite."""
-    from .errors import OverwriteError
+    from calckit.errors import OverwriteError
 
     if path.is_dir():
         raise OverwriteError(

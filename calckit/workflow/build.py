@@ -8,7 +8,7 @@ A template is a Jupyter notebook that builds one calculation sheet.
    plain assignments of literals, one per line: text with units
    (``mass = "250 kg"``), numbers (``damping_ratio = 0.05``), true/false, and
    expressions as text (``forcing = "F0*cos(w*t)"``, read later with
-   :func:`calckit.inputs.parse_expression`, never run). The title-block fields
+   :func:`calckit.parse_expression`, never run). The title-block fields
    ``subject``, ``project``, ``calculation``, ``revision``, ``author``,
    ``checker`` and ``date`` may be declared there too; an inputs file sets
    them from its ``[sheet]`` table (or at its top level); ``subject`` it must
@@ -24,7 +24,7 @@ A template is a Jupyter notebook that builds one calculation sheet.
    source=inputs_file)``), so that an error about an input is reported at its
    line in the inputs file, and so that a source the inputs file gives for an
    input (``mass = { value = "1850 kg", source = "Vendor drawing ..." }``, see
-   :mod:`calckit.inputs`) takes the place of ``inputs_file`` in the sheet's
+   :mod:`calckit.workflow.inputs`) takes the place of ``inputs_file`` in the sheet's
    Source column.
 3. **The build** (:func:`build_sheet`, ``calckit build``) reads and checks the
    inputs file against the parameters (unknown names with the closest known
@@ -174,11 +174,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from . import errors
-from .errors import BuildError, CalcError, InputsError, OverwriteError
+from calckit import errors
+from calckit.errors import BuildError, CalcError, CellError, InputsError, OverwriteError
 
 if TYPE_CHECKING:  # the real imports are inside the functions: sympy and pint stay out of the CLI's start
-    from .inputs import InputsFile
+    from calckit.workflow.inputs import InputsFile
 
 __all__ = [
     "PARAMETERS_TAG",
@@ -217,43 +217,6 @@ _CALCKIT_ERRORS = frozenset({*errors.__all__, "CellError"})  # the names of calc
 # Errors
 
 
-class CellError(BuildError):
-    """A cell of a template failed while building a sheet.
-
-    The message names the template, the cell (counted from 1 over all the
-    template's cells), the line and its source, the error's type and message.
-    ``user_error`` is true when the error is one of calckit's own (bad input, a
-    model calckit refuses): a command line exits with 2 then, and with 1 for any
-    other error, which points at the template.
-    """
-
-    def __init__(
-        self,
-        what: str,
-        *,
-        where: str | None = None,
-        do: str | None = None,
-        ename: str = "",
-        cell: int | None = None,
-        line: int | None = None,
-        user_error: bool = True,
-    ):
-        super().__init__(what, where=where, do=do)
-        self.ename = ename
-        self.cell = cell
-        self.line = line
-        self.user_error = user_error
-
-    def __str__(self) -> str:
-        return f"{self.where}: {self.what}" if self.where else self.what
-
-    def __reduce__(self):
-        fields = {"ename": self.ename, "cell": self.cell, "line": self.line, "user_error": self.user_error}
-        return (_rebuild_cell_error, (type(self), self.what, self.where, self.do, fields))
-
-
-def _rebuild_cell_error(cls, what, where, do, fields):
-    return cls(what, where=where, do=do, **fields)
 
 
 # ---------------------------------------------------------------------------
@@ -289,7 +252,7 @@ class Template:
     @property
     def inputs(self) -> list[str]:
         """Parameter names an inputs file must give (all but the optional title-block fields)."""
-        from .inputs import OPTIONAL_TITLE_FIELDS
+        from calckit.workflow.inputs import OPTIONAL_TITLE_FIELDS
 
         return [name for name in self.parameters if name not in OPTIONAL_TITLE_FIELDS]
 
@@ -301,7 +264,7 @@ def _resource_folder(package: str, fallback: str) -> Path:
 
         return Path(str(files(package)))
     except ModuleNotFoundError:
-        return Path(__file__).resolve().parent.parent / fallback
+        return Path(__file__).resolve().parents[2] / fallback  # the repository
 
 
 def _templates_folder() -> Path:
@@ -373,7 +336,7 @@ def load_template(template: str | os.PathLike) -> Template:
     """
     import nbformat
 
-    from .inputs import parameters_from_source
+    from calckit.workflow.inputs import parameters_from_source
 
     path = _find_template(template)
     try:
@@ -458,7 +421,7 @@ def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -
     BuildError
         The template made no :class:`calckit.Sheet` named ``sheet``.
     """
-    from .sheet import Sheet
+    from calckit.sheet.sheet import Sheet
 
     if not isinstance(sheet, Sheet):
         got = "nothing" if sheet is None else f"a {type(sheet).__name__}"
@@ -480,7 +443,7 @@ def _inputs_cell_source(
     digest: str,
     sources: Mapping[str, str] | None = None,
 ) -> str:
-    from .inputs import injected_source
+    from calckit.workflow.inputs import injected_source
 
     text = injected_source(assignments)
     label = f"# Inputs set by calckit build from {inputs_label}\n"
@@ -524,7 +487,7 @@ def _check_sources(
 def _kernel_env() -> dict[str, str]:
     """Environment of the kernel: this one, with calckit importable and quiet debugger checks."""
     env = dict(os.environ)
-    root = str(Path(__file__).resolve().parent.parent)
+    root = str(Path(__file__).resolve().parents[2])  # the folder that holds calckit/
     installed = {str(Path(p).resolve()) for p in [*site.getsitepackages(), site.getusersitepackages()]}
     if root not in installed:
         env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
@@ -640,7 +603,7 @@ def _kernel_warm_up() -> None:
 
 def _units_state() -> tuple:
     """calckit's unit registry: its units (bar the prefixed ones pint adds as they are used) and defaults."""
-    from .units import ureg
+    from calckit.core.units import ureg
 
     units = set(ureg._units)
     prefixes = [p for p in ureg._prefixes if p]
@@ -654,7 +617,7 @@ def _installed_module(module: Any) -> bool:
     where = getattr(module, "__file__", None)
     if not where:
         return True
-    roots = {sys.prefix, sys.base_prefix, sys.exec_prefix, str(Path(__file__).resolve().parent)}
+    roots = {sys.prefix, sys.base_prefix, sys.exec_prefix, str(Path(__file__).resolve().parents[1])}  # calckit/
     roots.update(site.getsitepackages(), [site.getusersitepackages()])
     where = os.path.realpath(where)
     return any(where.startswith(os.path.realpath(root) + os.sep) for root in roots)
@@ -769,7 +732,7 @@ class _ResetError(BuildError):
     """The kernel could not be put back to its warmed-up state (a kept kernel is then replaced)."""
 
 
-_IN_KERNEL = "__import__('calckit.workflow', fromlist=['_'])."
+_IN_KERNEL = "__import__('calckit.workflow.build', fromlist=['_'])."
 
 
 class _Kernel:
@@ -1063,7 +1026,7 @@ def _held_fingerprint(out: Path, stem: str) -> tuple[bool, str | None]:
     present = [out / f"{stem}{suffix}" for suffix in _SHEET_SUFFIXES if (out / f"{stem}{suffix}").exists()]
     if not present:
         return False, None
-    from .sheet import existing_fingerprint
+    from calckit.sheet.sheet import existing_fingerprint
 
     for suffix in (".json", ".html"):
         found = existing_fingerprint(out / f"{stem}{suffix}")
@@ -1156,7 +1119,7 @@ async def _build_in(
     try:
         saver = nbformat.v4.new_code_cell(
             "# calckit build: save the sheet\n"
-            "from calckit.workflow import save_built_sheet\n\n"
+            "from calckit.workflow.build import save_built_sheet\n\n"
             f"save_built_sheet(globals().get('sheet'), {str(work)!r}, {stem!r}, pdf={pdf!r})\n"
         )
         saver.metadata["tags"] = [SAVE_TAG]
@@ -1226,7 +1189,7 @@ def _prepare_build(
     path: Path, inputs: str | os.PathLike, out: Path
 ) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str]]:
     """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
-    from .inputs import check_keys, read_inputs
+    from calckit.workflow.inputs import check_keys, read_inputs
 
     tmpl = load_template(path)
     file = read_inputs(inputs)
@@ -1465,7 +1428,7 @@ def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
         Unreadable file, no cases, a bad or repeated case name, a name that is
         not one of the template's parameters.
     """
-    from .inputs import TITLE_FIELDS
+    from calckit.workflow.inputs import TITLE_FIELDS
 
     path = Path(path)
     try:
@@ -1578,7 +1541,7 @@ def _line_after(lines: Sequence[str], start: int | None, key: str) -> int | None
 def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, line_of: Callable) -> None:
     import difflib
 
-    from .inputs import OPTIONAL_TITLE_FIELDS
+    from calckit.workflow.inputs import OPTIONAL_TITLE_FIELDS
 
     for name in names:
         if name not in known:
@@ -1739,7 +1702,7 @@ def run_batch(
         The output folder holds a summary already (checked before any case
         runs).
     """
-    from .inputs import check_keys, read_inputs
+    from calckit.workflow.inputs import check_keys, read_inputs
 
     tmpl = load_template(template)
     base = read_inputs(inputs) if inputs is not None else None
@@ -1919,8 +1882,8 @@ def _write_file(path: Path, data: bytes, *, overwrite: bool) -> Path:
 def _write_summary(
     out: Path, template: Template, results: Sequence[CaseResult], *, overwrite: bool = False
 ) -> tuple[Path, Path]:
-    from .render.page import Html, escape, html_page, table
-    from .units import fmt_number
+    from calckit.core.units import fmt_number
+    from calckit.render.page import Html, escape, html_page, table
 
     out.mkdir(parents=True, exist_ok=True)
     header, rows = _summary_rows(results)
@@ -1973,7 +1936,7 @@ def _toml_value(value: Any) -> str:
 
 def inputs_text(template: Template) -> str:
     """An inputs file (TOML) holding the template's own values, to start from."""
-    from .inputs import TITLE_FIELDS
+    from calckit.workflow.inputs import TITLE_FIELDS
 
     lines = [f"# Inputs for {template.path.name}: change the values, keep the names.", ""]
     lines += [

@@ -22,11 +22,11 @@ from dataclasses import dataclass
 import numpy as np
 import sympy as sp
 
-from .errors import ModelError
-from .exact import exact
-from .forcing import split_forcing
-from .response import Response, total_response
-from .undetermined import Derivation, LinearODE
+from calckit.core.exact import exact
+from calckit.engine.forcing import split_forcing
+from calckit.engine.response import Response, total_response
+from calckit.engine.undetermined import Derivation, LinearODE
+from calckit.errors import ModelError
 
 __all__ = ["Oscillator", "HarmonicLine", "REGIMES"]
 
@@ -111,7 +111,7 @@ class Oscillator(LinearODE):
     @staticmethod
     def _si(value, label: str, kind: str) -> sp.Expr:
         if _is_quantity(value):
-            from .units import quantity, to_si
+            from calckit.core.units import quantity, to_si
 
             q = quantity(value, label, expect=kind)
             return exact(to_si(q, label).magnitude, where=label)
@@ -120,7 +120,7 @@ class Oscillator(LinearODE):
     def _with_unit(self, value: sp.Expr, unit: str):
         if not self.units or not value.is_number:
             return value
-        from .units import Q_
+        from calckit.core.units import Q_
 
         return Q_(float(value), unit)
 
@@ -261,7 +261,7 @@ class Oscillator(LinearODE):
 
     def _forcing_si(self, f):
         if _is_quantity(f):
-            from .units import Q_, quantity, to_si
+            from calckit.core.units import Q_, quantity, to_si
 
             # check the unit on a unit quantity: the magnitude may be an expression in t
             scale = to_si(quantity(Q_(1, f.units), "forcing", expect="force"), "forcing").magnitude
@@ -292,7 +292,7 @@ class Oscillator(LinearODE):
 
     def _initial(self, value, label, kind):
         if _is_quantity(value):
-            from .units import quantity, to_si
+            from calckit.core.units import quantity, to_si
 
             return exact(to_si(quantity(value, label, expect=kind), label).magnitude, where=label)
         return exact(value, where=label)

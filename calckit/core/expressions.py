@@ -1,0 +1,311 @@
+"""A safe reader of expressions written as text (forcing functions, formulas).
+
+:func:`parse_expression` reads a forcing expression such as ``"F0*cos(w*t)"``
+without running it: Python's parser builds a syntax tree, and only numbers, the
+declared names, ``t``, ``pi``, ``+ - * / **``, parentheses and the functions
+``sin cos exp sinh cosh sqrt`` are turned into sympy objects. Numbers are taken
+as the exact decimal written. Nothing is ever passed to ``eval``.
+
+Examples
+--------
+>>> import sympy as sp
+>>> F0, w = sp.symbols("F0 w", positive=True)
+>>> parse_expression("F0*cos(w*t) + 2.5", {"F0": F0, "w": w}, where="forcing")
+F0*cos(t*w) + 5/2
+"""
+
+from __future__ import annotations
+
+import ast
+import difflib
+import math
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
+from fractions import Fraction
+from types import MappingProxyType
+from typing import Any
+
+import sympy as sp
+
+from calckit.core.exact import exact
+from calckit.errors import InputsError
+
+__all__ = ["FUNCTIONS", "parse_expression"]
+
+#: Functions an expression may call.
+FUNCTIONS: Mapping[str, Any] = MappingProxyType(
+    {"sin": sp.sin, "cos": sp.cos, "exp": sp.exp, "sinh": sp.sinh, "cosh": sp.cosh, "sqrt": sp.sqrt}
+)
+
+_MAX_LENGTH = 2000
+_MAX_EXPONENT = 100  # largest power of a number in an expression
+_MAX_DECIMAL_EXPONENT = 300  # largest e-exponent in a number written
+_MAX_DIGITS = 10_000  # largest number of digits a power of a number may have
+_OPERATORS = {ast.Add: "+", ast.Sub: "-", ast.Mult: "*", ast.Div: "/", ast.Pow: "**"}
+_REFUSED_OPERATORS = {
+    ast.Mod: "%",
+    ast.FloorDiv: "//",
+    ast.MatMult: "@",
+    ast.LShift: "<<",
+    ast.RShift: ">>",
+    ast.BitOr: "|",
+    ast.BitAnd: "&",
+}
+_NODE_NAMES = {
+    ast.Attribute: "attribute access",
+    ast.Subscript: "indexing",
+    ast.Lambda: "a lambda",
+    ast.ListComp: "a comprehension",
+    ast.SetComp: "a comprehension",
+    ast.DictComp: "a comprehension",
+    ast.GeneratorExp: "a comprehension",
+    ast.List: "a list",
+    ast.Tuple: "a tuple",
+    ast.Set: "a set",
+    ast.Dict: "a dict",
+    ast.Compare: "a comparison",
+    ast.BoolOp: "and/or",
+    ast.IfExp: "a conditional",
+    ast.NamedExpr: "an assignment",
+    ast.JoinedStr: "a string",
+    ast.Starred: "unpacking",
+    ast.Slice: "a slice",
+}
+
+
+# ---------------------------------------------------------------------------
+# Expressions
+
+
+@dataclass(frozen=True)
+class _Reader:
+    """Walks a syntax tree of an expression and builds the sympy object."""
+
+    text: str
+    names: Mapping[str, sp.Basic]
+    where: str
+
+    def allowed(self) -> str:
+        inputs = ", ".join(n for n in self.names if n not in ("t", "pi"))
+        inputs = f"the inputs {inputs}, " if inputs else ""
+        return (
+            f"Allowed: numbers, {inputs}the time t, pi, + - * / ** and parentheses, "
+            f"and the functions {', '.join(FUNCTIONS)}"
+        )
+
+    def segment(self, node: ast.AST) -> str:
+        return ast.get_source_segment(self.text, node) or type(node).__name__
+
+    def refuse(self, what: str, do: str | None = None) -> InputsError:
+        if self.text not in what:  # say where the piece sits, unless it is the whole text
+            what = f'{what} in "{self.text}"'
+        return InputsError(what, where=self.where, do=do or self.allowed())
+
+    def read(self, node: ast.AST) -> sp.Expr:
+        if isinstance(node, ast.Constant):
+            return self.number(node)
+        if isinstance(node, ast.Name):
+            return self.name(node)
+        if isinstance(node, ast.BinOp):
+            return self.binary(node)
+        if isinstance(node, ast.UnaryOp):
+            return self.unary(node)
+        if isinstance(node, ast.Call):
+            return self.call(node)
+        kind = _NODE_NAMES.get(type(node), "this construct")
+        raise self.refuse(f'{kind} "{self.segment(node)}" is not allowed')
+
+    def number(self, node: ast.Constant) -> sp.Expr:
+        value = node.value
+        piece = self.segment(node)
+        if isinstance(value, str | bytes):
+            raise self.refuse(f"a string {piece} is not allowed")
+        if isinstance(value, bool) or value is None or value is Ellipsis:
+            raise self.refuse(f'"{piece}" is not allowed')
+        if isinstance(value, complex):
+            raise self.refuse(
+                f'the imaginary number "{piece}" is not allowed', do="Write real expressions only"
+            )
+        if isinstance(value, int):
+            return sp.Integer(value)
+        digits = piece.replace("_", "")
+        exponent = re.search(r"[eE]([+-]?\d+)$", digits)
+        if not math.isfinite(value) or (exponent and abs(int(exponent.group(1))) > _MAX_DECIMAL_EXPONENT):
+            raise self.refuse(f'the number "{piece}" is out of range', do="Give a finite number")
+        try:
+            return sp.Rational(Fraction(digits))
+        except ValueError:  # pragma: no cover - every float literal Python accepts reads as a Fraction
+            return exact(value, self.where)
+
+    def name(self, node: ast.Name) -> sp.Expr:
+        if node.id in self.names:
+            return self.names[node.id]
+        if node.id in FUNCTIONS:
+            raise self.refuse(
+                f'the function "{node.id}" is used without an argument',
+                do=f"Call it with its argument in parentheses, for example {node.id}(w*t)",
+            )
+        close = difflib.get_close_matches(node.id, list(self.names), n=1)
+        hint = f'Did you mean "{close[0]}"? ' if close else ""
+        raise self.refuse(f'unknown name "{node.id}"', do=hint + self.allowed())
+
+    def binary(self, node: ast.BinOp) -> sp.Expr:
+        op = type(node.op)
+        if op is ast.BitXor:
+            raise self.refuse('the operator "^" is not a power', do="Use ** for powers, for example t**2")
+        if op not in _OPERATORS:
+            raise self.refuse(f'the operator "{_REFUSED_OPERATORS.get(op, op.__name__)}" is not allowed')
+        left, right = self.read(node.left), self.read(node.right)
+        if op is ast.Add:
+            return left + right
+        if op is ast.Sub:
+            return left - right
+        if op is ast.Mult:
+            return left * right
+        if op is ast.Div:
+            if right == 0:
+                raise self.refuse(f'division by zero "{self.segment(node)}"', do="Check the divisor")
+            return left / right
+        if right.is_number and (right.is_real is not True or abs(right) > _MAX_EXPONENT):
+            raise self.refuse(
+                f'the power "{self.segment(node)}" is too large',
+                do=f"Use real exponents between -{_MAX_EXPONENT} and {_MAX_EXPONENT}",
+            )
+        if left.is_Rational and right.is_number and _digits(left) * abs(right) > _MAX_DIGITS:
+            raise self.refuse(
+                f'the power "{self.segment(node)}" is too large',
+                do=f"Keep numbers under {_MAX_DIGITS} digits",
+            )
+        if left == 0 and right.is_number and right.is_negative:
+            raise self.refuse(f'division by zero "{self.segment(node)}"', do="Check the divisor")
+        return left**right
+
+    def unary(self, node: ast.UnaryOp) -> sp.Expr:
+        if isinstance(node.op, ast.USub):
+            return -self.read(node.operand)
+        if isinstance(node.op, ast.UAdd):
+            return self.read(node.operand)
+        word = "not" if isinstance(node.op, ast.Not) else "~"
+        raise self.refuse(f'the operator "{word}" is not allowed')
+
+    def call(self, node: ast.Call) -> sp.Expr:
+        func = node.func
+        if not isinstance(func, ast.Name):
+            if type(func) in _NODE_NAMES:  # obj.attr(...), obj[0](...), (lambda: 1)()
+                return self.read(func)
+            raise self.refuse(f'calling "{self.segment(func)}" is not allowed')
+        if func.id not in FUNCTIONS:
+            raise self.refuse(f'the function "{func.id}" is not allowed')
+        if node.keywords:
+            raise self.refuse(f'the keyword argument "{self.segment(node.keywords[0])}" is not allowed')
+        if len(node.args) != 1:
+            raise self.refuse(
+                f'"{self.segment(node)}" gives {func.id} {len(node.args)} arguments',
+                do=f"Give {func.id} one argument, for example {func.id}(w*t)",
+            )
+        return FUNCTIONS[func.id](self.read(node.args[0]))
+
+
+def _digits(r: sp.Rational) -> int:
+    return len(str(abs(r.p))) + len(str(r.q))
+
+
+def _declared(names: Mapping[str, Any], t: sp.Symbol, where: str) -> dict[str, sp.Basic]:
+    declared: dict[str, sp.Basic] = {}
+    for name, value in names.items():
+        if name in ("t", "pi") or name in FUNCTIONS:
+            raise InputsError(
+                f'the name "{name}" is reserved',
+                where=where,
+                do="Pass the time symbol as t=; do not declare t, pi or the function names as inputs",
+            )
+        if not isinstance(value, sp.Basic | int | float | Fraction):
+            raise InputsError(
+                f'the name "{name}" stands for {type(value).__name__} {value!r}',
+                where=where,
+                do="Declare each name as a sympy symbol or a number",
+            )
+        declared[name] = value if isinstance(value, sp.Basic) and not value.is_Float else exact(value, name)
+    declared["t"] = t
+    declared["pi"] = sp.pi
+    return declared
+
+
+def parse_expression(
+    text: str, names: Mapping[str, Any], *, where: str, t: sp.Symbol | None = None
+) -> sp.Expr:
+    """Read *text* as a sympy expression without running any of it.
+
+    Parameters
+    ----------
+    text : str
+        For example ``"F0*cos(w*t) + 0.2*F0*sin(2*w*t)"``.
+    names : mapping
+        Declared input names: name -> sympy symbol or number (numbers go in
+        exactly: ``2.5`` is ``5/2``).
+    where : str
+        The input's name, used in error messages.
+    t : sympy.Symbol, optional
+        The time symbol; ``Symbol("t", real=True)`` unless given.
+
+    Returns
+    -------
+    sympy.Expr
+
+    Raises
+    ------
+    InputsError
+        Anything outside the whitelist, with the offending piece and what is allowed.
+
+    Examples
+    --------
+    >>> parse_expression("2.5*sin(3*t)", {}, where="forcing")
+    5*sin(3*t)/2
+    >>> parse_expression("t^2", {}, where="forcing")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.InputsError: forcing: the operator "^" is not a power in "t^2". Use ** for powers, for example t**2.
+    """
+    if not isinstance(text, str):
+        raise InputsError(
+            f"expected the expression as text, got {type(text).__name__} {text!r}",
+            where=where,
+            do='Write the expression in quotes, for example "F0*cos(w*t)"',
+        )
+    text = text.strip()
+    if not text:
+        raise InputsError(
+            "the expression is empty", where=where, do='Write an expression, for example "F0*cos(w*t)"'
+        )
+    if len(text) > _MAX_LENGTH:
+        raise InputsError(
+            f"the expression is {len(text)} characters long",
+            where=where,
+            do=f"Keep expressions under {_MAX_LENGTH} characters",
+        )
+    reader = _Reader(text, _declared(names, t if t is not None else sp.Symbol("t", real=True), where), where)
+    try:
+        tree = ast.parse(text, mode="eval")
+    except SyntaxError as exc:
+        column = f" (column {exc.offset})" if exc.offset else ""
+        raise InputsError(
+            f'cannot read "{text}" as an expression{column}',
+            where=where,
+            do="Check for a missing operator or parenthesis; write products with * (2*t, not 2t)",
+        ) from exc
+    except (RecursionError, MemoryError, ValueError) as exc:
+        raise InputsError(
+            f'cannot read "{text}" as an expression',
+            where=where,
+            do="Write a shorter, less nested expression",
+        ) from exc
+    try:
+        result = reader.read(tree.body)
+    except RecursionError as exc:
+        raise InputsError(
+            "the expression is nested too deeply", where=where, do="Write a shorter, less nested expression"
+        ) from exc
+    if result.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
+        raise InputsError(f'"{text}" is not finite', where=where, do="Check for division by zero")
+    return result

@@ -1,0 +1,151 @@
+"""The one way calckit writes a file, and the one way it writes a TOML value.
+
+Every file calckit writes (a sheet's HTML, PDF and JSON record, a built
+notebook, a batch summary, an inputs file kept from the explorer) goes through
+:func:`write_file`: the bytes go to a temporary file in the same folder, are
+flushed to disk (``fsync``), given the permissions a new file gets under the
+process's umask (``0644`` under the usual ``022``: readable by the group and
+others, as files a user saves are), and then renamed into place. A reader never
+sees half a file, and a crash leaves the old file or the new one, whole.
+
+Without ``overwrite`` the name must still be free when the file appears: the
+temporary file is hard-linked to the name, which fails if a file appeared
+meanwhile, so a file another process wrote is never replaced.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import tempfile
+from pathlib import Path
+from typing import Any
+
+from calckit.errors import OverwriteError
+
+__all__ = ["new_file_mode", "toml_value", "write_file", "write_text"]
+
+
+def new_file_mode() -> int:
+    """Permissions of a new file under the process's umask (``0o644`` under umask ``022``)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
+
+
+def _refused(path: Path, do: str | None) -> OverwriteError:
+    return OverwriteError(
+        "the file exists already",
+        where=str(path),
+        do=do
+        or "Choose another name, or pass overwrite=True (--overwrite) to replace it; nothing was written",
+    )
+
+
+def write_file(
+    path: str | os.PathLike, data: bytes, *, overwrite: bool = False, refuse: str | None = None
+) -> Path:
+    """Write *data* to *path* whole or not at all; return the path.
+
+    Parameters
+    ----------
+    path : str or path
+        The file to write; its folder is made if missing.
+    data : bytes
+        Everything the file holds.
+    overwrite : bool
+        Replace an existing file. Without it an existing file is refused, also
+        one that appears while this file is written.
+    refuse : str, optional
+        What the refusal tells the user to do instead (the caller's own words).
+
+    Raises
+    ------
+    OverwriteError
+        The file exists and *overwrite* is false; nothing is written.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> write_file(folder / "a.txt", b"one").read_bytes()
+    b'one'
+    >>> write_file(folder / "a.txt", b"two")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.OverwriteError: ...a.txt: the file exists already. Choose another name, ...
+    """
+    path = Path(path)
+    if not overwrite and path.exists():
+        raise _refused(path, refuse)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.chmod(tmp, new_file_mode())  # temporary files are private; what is written is not
+        if overwrite:
+            os.replace(tmp, path)
+        else:
+            try:
+                os.link(tmp, path)  # fails if the name was taken meanwhile
+            except FileExistsError:
+                raise _refused(path, refuse) from None
+            except OSError:  # no hard links on this file system: the check above has to do
+                if path.exists():
+                    raise _refused(path, refuse) from None
+                os.replace(tmp, path)
+        _sync_folder(path.parent)
+    finally:
+        Path(tmp).unlink(missing_ok=True)
+    return path
+
+
+def write_text(
+    path: str | os.PathLike, text: str, *, overwrite: bool = False, refuse: str | None = None
+) -> Path:
+    """:func:`write_file` for text, encoded as UTF-8."""
+    return write_file(path, text.encode("utf-8"), overwrite=overwrite, refuse=refuse)
+
+
+def _sync_folder(folder: Path) -> None:
+    """Make the rename itself durable where the platform allows it."""
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:  # pragma: no cover - platforms without directory handles
+        return
+    try:
+        os.fsync(fd)
+    except OSError:  # pragma: no cover
+        pass
+    finally:
+        os.close(fd)
+
+
+def _float_text(value: float) -> str:
+    """The shortest text that reads back as the same float (TOML needs a digit after the point)."""
+    if math.isnan(value) or math.isinf(value):
+        return ("-" if value < 0 else "") + ("nan" if math.isnan(value) else "inf")
+    return repr(value)
+
+
+def toml_value(value: Any) -> str:
+    """*value* written as a TOML value: booleans, numbers, arrays, and everything else as a string.
+
+    >>> toml_value(True), toml_value(3), toml_value(0.1), toml_value("1850 kg")
+    ('true', '3', '0.1', '"1850 kg"')
+    >>> toml_value([1, "a"])
+    '[1, "a"]'
+    """
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int):
+        return repr(value)
+    if isinstance(value, float):
+        return _float_text(value)
+    if isinstance(value, tuple | list):
+        return "[" + ", ".join(toml_value(v) for v in value) + "]"
+    return json.dumps(str(value), ensure_ascii=False)
