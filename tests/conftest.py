@@ -1,0 +1,28 @@
+"""Test-suite settings shared by every test file: the ``kernel`` marker.
+
+A test that starts a Jupyter kernel (a build, a batch, the demo, a notebook run
+under nbval) costs seconds; everything else runs in milliseconds. Such tests are
+marked ``kernel`` here, in one place, so that the quick subset is one marker away::
+
+    python -m pytest -m "not kernel and not browser"
+
+A test module whose tests build sheets is listed in ``KERNEL_MODULES``; a single
+test elsewhere that builds one in a child process carries ``@pytest.mark.slow``,
+which is taken as ``kernel`` too (both mean: it runs a build).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+#: test files whose tests (nearly all) start kernels, through module-scoped built sheets
+KERNEL_MODULES = frozenset({"test_workflow.py", "test_cli.py", "test_templates.py", "test_batch_isolation.py"})
+
+
+def pytest_collection_modifyitems(config: pytest.Config, items: list[pytest.Item]) -> None:
+    for item in items:
+        path = Path(str(item.path))
+        if path.suffix == ".ipynb" or path.name in KERNEL_MODULES or item.get_closest_marker("slow"):
+            item.add_marker(pytest.mark.kernel)
