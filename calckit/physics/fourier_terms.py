@@ -68,6 +68,7 @@ class FourierSeries:
 
     Examples
     --------
+    >>> from calckit.physics.fourier import fourier_series
     >>> t = sp.Symbol("t", real=True)
     >>> s = fourier_series(sp.Piecewise((1, t < 1), (-1, True)), t, 2, 3)
     >>> s.coefficients
