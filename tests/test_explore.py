@@ -1,4 +1,4 @@
-"""Tests of calckit.explore.explorer: the what-if explorer, driven through the ipywidgets API without a browser.
+"""Tests of calckit.explore: the what-if explorer, driven through the ipywidgets API without a browser.
 
 Closed forms used as references (independent of the explorer's compiled derivation):
 omega_n = sqrt(k/m), S. S. Rao, Mechanical Vibrations, 5th ed., sec. 2.2, from memory;
@@ -27,7 +27,9 @@ import pytest
 
 from calckit import harmonic
 from calckit.errors import CalcError, InputsError, OverwriteError, UnitsError
-from calckit.explore.explorer import SEPARATION_BASIS, Explorer, explore
+from calckit.explore import explore
+from calckit.explore.explorer import Explorer
+from calckit.physics.criteria import SEPARATION_BASIS
 from calckit.physics.oscillator import Oscillator
 
 ROOT = Path(__file__).parent.parent
