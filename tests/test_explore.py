@@ -464,9 +464,9 @@ class TestIsolators:
         ):
             assert sheet[key] == pytest.approx(expected[reference], rel=2e-3), key
 
-    def test_unbalance_force_carried_as_the_template_carries_it(self, iso):
+    def test_unbalance_force_carried_as_shown(self, iso):
         """F_0 = U w^2 with U = m_r e_per and e_per = G / w (ISO 21940-11, from memory), each carried at
-        four significant figures in um and g mm, as the template's sheet shows them."""
+        four significant figures in um and g mm, the figures the sheet shows."""
         iso.set(balance_grade="16 mm/s", rotor_mass="95 kg", running_speed="2950 rpm")
         w = 2950 * RPM
         e_um = 16e-3 / w * 1e6
@@ -480,7 +480,7 @@ class TestIsolators:
     def test_isolation_verdict_flips(self, iso):
         """Stiffer isolators raise the natural frequency until the isolation efficiency falls below the
         required 95 %; the crossing solves T(r) = 0.05 in Rao 5th ed. sec. 9.10's form (from memory).
-        The margin is (eta - 95 %) / 95 %, as the sheet gives it."""
+        The margin is eta - 95 %, in percentage points."""
         m, zeta, w, t_allowed = START["m"], START["zeta"], START["w"], 0.05
         # T^2 d^2 = 1 + (2 zeta r)^2 with x = r^2: T^2 x^2 + (4 zeta^2 (T^2 - 1) - 2 T^2) x + T^2 - 1 = 0
         a, b, c = t_allowed**2, 4 * zeta**2 * (t_allowed**2 - 1) - 2 * t_allowed**2, t_allowed**2 - 1

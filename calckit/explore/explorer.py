@@ -46,18 +46,31 @@ import sympy as sp
 
 from calckit.core.units import Q_, quantity
 from calckit.errors import InputsError, OverwriteError
+from calckit.explore import explore
 from calckit.explore.figure import _Plots
 from calckit.explore.keep import Kept, _free_name, _kept_text, _write_kept
 from calckit.explore.model import _derive
-from calckit.explore.plans import Plan
+from calckit.explore.plans import PLANS, ROLES, Plan
 from calckit.explore.results import WhatIf, _Move
 from calckit.explore.values import _as_display, _Input, _number_text
 from calckit.explore.widgets import _Sliders, _widgets_module
+from calckit.physics.criteria import SEPARATION_BASIS
 from calckit.physics.runup import RunUp
 from calckit.sheet import Check, in_kernel
 from calckit.workflow import check_keys, read_inputs
 
-__all__ = ["CURVE_POINTS", "Explorer"]
+# The explorer's own names, and (as before the folder was split) the names it works with.
+__all__ = [
+    "CURVE_POINTS",
+    "Explorer",
+    "Kept",
+    "PLANS",
+    "Plan",
+    "ROLES",
+    "SEPARATION_BASIS",
+    "WhatIf",
+    "explore",
+]
 
 #: Points on the frequency-response curve and on the time history.
 CURVE_POINTS = 2000

@@ -120,7 +120,7 @@ def _isolator_results(mv: _Move) -> tuple[dict[str, float], RunUp]:
 
 
 # ---------------------------------------------------------------------------
-# Checks (Plan.checks): each made as the sheet makes it
+# Checks (Plan.checks): value, limit, margin and verdict by calckit.sheet's rule (check_margin)
 
 
 def _judge(name: str, value: float, limit: float, relation: str, unit: str, basis: str) -> Check:
@@ -223,9 +223,9 @@ class WhatIf:
     """The key results at one set of values (SI units unless said otherwise).
 
     The fields are the oscillator's own numbers, unrounded. :meth:`si` gives the
-    results under the template's result names, computed as the template computes
-    them (rounding what it carries, as its plan says), so that they can be compared
-    with a built sheet's JSON record.
+    results under the template's result names, computed by the plan's result
+    function (the physics functions the template calls, carrying what its plan says),
+    so that they can be compared with a built sheet's JSON record.
     """
 
     mass: float  # kg

@@ -51,7 +51,7 @@ from calckit.physics.criteria import (  # noqa: E402
     SEPARATION_BASIS,
     speed_separation,
 )
-from calckit.physics.excitation import residual_unbalance, unbalance_force  # noqa: E402
+from calckit.physics.excitation import require_one_harmonic, residual_unbalance, unbalance_force  # noqa: E402
 from calckit.physics.harmonic import forced_amplitude  # noqa: E402
 from calckit.physics.isolation import (  # noqa: E402
     STANDARD_GRAVITY,
@@ -72,6 +72,7 @@ __all__ += [
     "RunUpResults",
     "forced_amplitude",
     "isolator_results",
+    "require_one_harmonic",
     "residual_unbalance",
     "run_up",
     "run_up_results",

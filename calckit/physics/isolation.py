@@ -5,7 +5,7 @@ the permissible eccentricity from the balance grade, the residual unbalance and 
 force, the natural frequency and static deflection of the isolators, the damping
 coefficient, the frequency ratio, the amplitude and the force into the floor, the
 transmissibility and the isolation efficiency. Each step takes the results before it
-*as the sheet shows them* (:func:`calckit.core.rounding.as_shown`, four significant
+*as shown* on the sheet (:func:`calckit.core.rounding.as_shown`, four significant
 figures in the unit shown) when ``carry`` says so, so that a checker redoing a step
 from the printed numbers gets the printed result.
 
