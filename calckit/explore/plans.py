@@ -35,6 +35,7 @@ from typing import Any
 
 from calckit.errors import InputsError
 from calckit.explore import results as _r
+from calckit.explore.values import Role
 from calckit.physics.criteria import SEPARATION_BASIS
 from calckit.physics.excitation import BALANCE_QUALITY_GRADES
 
@@ -42,20 +43,6 @@ __all__ = ["DEFAULT_TEMPLATE", "PLANS", "ROLES", "Plan", "Role"]
 
 #: Template used when values are given directly.
 DEFAULT_TEMPLATE = "single_mass_harmonic"
-
-
-@dataclass(frozen=True)
-class Role:
-    """One input of the model: its keyword, kind of quantity and the parameter names it goes by."""
-
-    key: str
-    kind: str | None  # units kind (calckit.units.KINDS); None for text
-    names: tuple[str, ...]
-    label: str
-    sign: str = "positive"  # "positive", "non-negative" or "" (text)
-    scale: str = "linear"  # slider scale: "linear", "log" or "" (no slider)
-    choices: tuple[float, ...] = ()  # a slider over these values only (in choice_unit)
-    choice_unit: str = ""
 
 
 #: The model's inputs, by keyword: the names a template may declare them under.
@@ -183,6 +170,17 @@ class Plan:
         return tuple(dict.fromkeys(wanted))
 
 
+#: The inputs of a machine on isolators that are on sliders, in order.
+_ISOLATOR_SLIDERS = (
+    "mass",
+    "stiffness",
+    "damping_ratio",
+    "forcing_frequency",
+    "rotor_mass",
+    "balance_grade",
+    "run_up_time",
+)
+
 #: The templates the explorer supports, one entry each (see the module notes).
 PLANS: Mapping[str, Plan] = MappingProxyType(
     {
@@ -228,28 +226,14 @@ PLANS: Mapping[str, Plan] = MappingProxyType(
                     }
                 ),
                 required=(
-                    "mass",
-                    "stiffness",
-                    "damping_ratio",
-                    "forcing_frequency",
-                    "rotor_mass",
-                    "balance_grade",
-                    "run_up_time",
+                    *_ISOLATOR_SLIDERS,
                     "required_isolation",
                     "required_isolation_basis",
                     "movement_limit",
                     "movement_limit_basis",
                 ),
                 optional=(),
-                sliders=(
-                    "mass",
-                    "stiffness",
-                    "damping_ratio",
-                    "forcing_frequency",
-                    "rotor_mass",
-                    "balance_grade",
-                    "run_up_time",
-                ),
+                sliders=_ISOLATOR_SLIDERS,
                 force=_r._unbalance_force,
                 results=_r._isolator_results,
                 carry=4,

@@ -14,20 +14,17 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from calckit.core.units import Q_, fmt, fmt_number
 from calckit.errors import InputsError
+from calckit.explore.model import _Derived
 from calckit.explore.values import _Input, _unit_text, _written
 from calckit.physics.criteria import ISOLATION_RATIO_BASIS, LEAST_ISOLATION_RATIO, speed_separation
 from calckit.physics.excitation import eccentricity_from_grade, residual_unbalance, unbalance_force_amplitude
 from calckit.physics.isolation import isolator_results
 from calckit.physics.runup import RunUp, run_up_results
 from calckit.sheet import Check, check_margin
-
-if TYPE_CHECKING:
-    from calckit.explore.model import _Derived
-    from calckit.explore.plans import Plan
 
 Row = tuple[str, str, str, str]  # (name, label, shown value, SI value as text)
 
@@ -36,7 +33,7 @@ Row = tuple[str, str, str, str]  # (name, label, shown value, SI value as text)
 class _Move:
     """One set of values, SI, with what the result sets and the checks need."""
 
-    plan: Plan
+    plan: Any  # calckit.explore.plans.Plan (which names the functions here)
     model: _Derived
     values: Mapping[str, float]  # role -> SI value (rad/s for frequencies)
     quantities: Mapping[str, Any]  # role -> the value as a quantity in its display unit

@@ -1,4 +1,4 @@
-"""One input of the explorer: its parameter name, unit, starting and current value, and its text.
+"""One input of the explorer: its role, parameter name, unit, starting and current value, and its text.
 
 Also the small number helpers the explorer's modules share: the digits a starting
 value shows, the shortest text of a float, a quantity as an inputs file writes it.
@@ -9,15 +9,27 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from calckit.core.checks import non_negative, positive
 from calckit.core.files import toml_value
 from calckit.core.units import Q_, angular_frequency, quantity, to_si
 from calckit.errors import CalcError
 
-if TYPE_CHECKING:
-    from calckit.explore.plans import Role
+
+@dataclass(frozen=True)
+class Role:
+    """One input of the model: its keyword, kind of quantity and the parameter names it goes by."""
+
+    key: str
+    kind: str | None  # units kind (calckit.units.KINDS); None for text
+    names: tuple[str, ...]
+    label: str
+    sign: str = "positive"  # "positive", "non-negative" or "" (text)
+    scale: str = "linear"  # slider scale: "linear", "log" or "" (no slider)
+    choices: tuple[float, ...] = ()  # a slider over these values only (in choice_unit)
+    choice_unit: str = ""
+
 
 #: Significant figures a slider move keeps (at least as many as the starting value shows).
 SIGNIFICANT = 4
