@@ -705,3 +705,65 @@ def test_keep_moves_an_input_written_with_its_source(tmp_path):
     )
     unchanged = [line for line in original.splitlines() if "force_amplitude" not in line]
     assert all(line in text.splitlines() for line in unchanged)
+
+
+class TestDeclarativePlans:
+    def test_a_new_plan_is_one_entry(self):
+        """A plan made from the single-mass entry with its own checks and force: the explorer uses the
+        functions the entry holds, and nothing else (the force doubled here by the entry's own function)."""
+        from dataclasses import replace
+
+        from calckit.explore.plans import PLANS
+
+        base = PLANS["single_mass_harmonic"]
+        doubled = replace(base, force=lambda values: 2 * values["force_amplitude"], checks=base.checks[1:])
+        ex = explore(EXAMPLE, "single_mass_harmonic", plan=doubled, widgets=False)
+        assert [c.name for c in ex.results.checks] == ["speed separation"]
+        assert ex.results.force_amplitude == pytest.approx(2 * 900.0, rel=1e-15)
+        m, k = 1850.0, 720e3
+        expected = closed_form(m, k, 0.05, 1800.0, 1480 * 2 * math.pi / 60)
+        assert ex.results.amplitude == pytest.approx(expected["amplitude"], rel=1e-9)
+
+    def test_explorer_never_names_a_plan(self):
+        """The explorer's modules other than plans.py name no template and branch on no result set."""
+        folder = ROOT / "calckit" / "explore"
+        for path in folder.glob("*.py"):
+            if path.name in ("plans.py", "__init__.py"):
+                continue
+            text = path.read_text(encoding="utf-8")
+            for name in ("machine_on_isolators", '"isolators"', '"single mass"', "_RESULT_SETS", "_RULES"):
+                assert name not in text, (path.name, name)
+
+
+class TestEntry:
+    def test_help_shows_the_parameters(self):
+        """ck.explore has the real signature and docstring (help(ck.explore) shows them)."""
+        import inspect
+
+        import calckit as ck
+
+        parameters = inspect.signature(ck.explore).parameters
+        assert list(parameters)[:3] == ["inputs", "template", "mass"]
+        assert {"plan", "band", "points", "widgets", "values", "names"} <= set(parameters)
+        assert "amplitude_limit" in ck.explore.__doc__ and "Returns" in ck.explore.__doc__
+
+    def test_import_stays_light(self):
+        """import calckit, calckit.explore: neither sympy nor numpy nor ipywidgets is imported."""
+        script = (
+            "import sys, calckit, calckit.explore; "
+            "print(sorted(m for m in ('sympy', 'numpy', 'ipywidgets') if m in sys.modules))"
+        )
+        done = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True)
+        assert done.stdout.strip() == "[]"
+
+    def test_kept_file_mode(self, p101, tmp_path):
+        """The kept file is written by calckit.core.files: permissions 0644 under umask 022."""
+        import os
+
+        old = os.umask(0o022)
+        try:
+            kept = p101.keep(tmp_path / "mode.toml")
+        finally:
+            os.umask(old)
+        assert kept.path.stat().st_mode & 0o777 == 0o644
+        assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no temporary file left

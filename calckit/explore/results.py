@@ -188,7 +188,7 @@ def _run_up_check(mv: _Move, results: Mapping[str, float]) -> Check:
 def _isolator_refusal(
     values: Mapping[str, float], quantities: Mapping[str, Any], names: Mapping[str, str]
 ) -> InputsError | None:
-    """What ``machine_on_isolators`` refuses, with its own message (None if it takes the values)."""
+    """What the machine-on-isolators template refuses, with its own message (None if it takes the values)."""
     if values["rotor_mass"] > values["mass"]:
         return InputsError(
             f"the rotor ({_written(quantities['rotor_mass'])}) is heavier than everything on the isolators "
