@@ -25,7 +25,7 @@ import sympy as sp
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from calckit.engine.numeric import compile_expr  # noqa: E402
-from calckit.explore.explorer import explore  # noqa: E402
+from calckit.explore import explore  # noqa: E402
 from calckit.physics.oscillator import Oscillator  # noqa: E402
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "examples" / "harrow_creek_p101.toml"

@@ -1,4 +1,4 @@
-"""Tests of calckit.explore.explorer: the what-if explorer, driven through the ipywidgets API without a browser.
+"""Tests of calckit.explore: the what-if explorer, driven through the ipywidgets API without a browser.
 
 Closed forms used as references (independent of the explorer's compiled derivation):
 omega_n = sqrt(k/m), S. S. Rao, Mechanical Vibrations, 5th ed., sec. 2.2, from memory;
@@ -27,7 +27,9 @@ import pytest
 
 from calckit import harmonic
 from calckit.errors import CalcError, InputsError, OverwriteError, UnitsError
-from calckit.explore.explorer import SEPARATION_BASIS, Explorer, explore
+from calckit.explore import explore
+from calckit.explore.explorer import Explorer
+from calckit.physics.criteria import SEPARATION_BASIS
 from calckit.physics.oscillator import Oscillator
 
 ROOT = Path(__file__).parent.parent
@@ -462,9 +464,9 @@ class TestIsolators:
         ):
             assert sheet[key] == pytest.approx(expected[reference], rel=2e-3), key
 
-    def test_unbalance_force_carried_as_the_template_carries_it(self, iso):
+    def test_unbalance_force_carried_as_shown(self, iso):
         """F_0 = U w^2 with U = m_r e_per and e_per = G / w (ISO 21940-11, from memory), each carried at
-        four significant figures in um and g mm, as the template's sheet shows them."""
+        four significant figures in um and g mm, the figures the sheet shows."""
         iso.set(balance_grade="16 mm/s", rotor_mass="95 kg", running_speed="2950 rpm")
         w = 2950 * RPM
         e_um = 16e-3 / w * 1e6
@@ -478,7 +480,7 @@ class TestIsolators:
     def test_isolation_verdict_flips(self, iso):
         """Stiffer isolators raise the natural frequency until the isolation efficiency falls below the
         required 95 %; the crossing solves T(r) = 0.05 in Rao 5th ed. sec. 9.10's form (from memory).
-        The margin is (eta - 95 %) / 95 %, as the sheet gives it."""
+        The margin is eta - 95 %, in percentage points."""
         m, zeta, w, t_allowed = START["m"], START["zeta"], START["w"], 0.05
         # T^2 d^2 = 1 + (2 zeta r)^2 with x = r^2: T^2 x^2 + (4 zeta^2 (T^2 - 1) - 2 T^2) x + T^2 - 1 = 0
         a, b, c = t_allowed**2, 4 * zeta**2 * (t_allowed**2 - 1) - 2 * t_allowed**2, t_allowed**2 - 1
@@ -703,3 +705,65 @@ def test_keep_moves_an_input_written_with_its_source(tmp_path):
     )
     unchanged = [line for line in original.splitlines() if "force_amplitude" not in line]
     assert all(line in text.splitlines() for line in unchanged)
+
+
+class TestDeclarativePlans:
+    def test_a_new_plan_is_one_entry(self):
+        """A plan made from the single-mass entry with its own checks and force: the explorer uses the
+        functions the entry holds, and nothing else (the force doubled here by the entry's own function)."""
+        from dataclasses import replace
+
+        from calckit.explore.plans import PLANS
+
+        base = PLANS["single_mass_harmonic"]
+        doubled = replace(base, force=lambda values: 2 * values["force_amplitude"], checks=base.checks[1:])
+        ex = explore(EXAMPLE, "single_mass_harmonic", plan=doubled, widgets=False)
+        assert [c.name for c in ex.results.checks] == ["speed separation"]
+        assert ex.results.force_amplitude == pytest.approx(2 * 900.0, rel=1e-15)
+        m, k = 1850.0, 720e3
+        expected = closed_form(m, k, 0.05, 1800.0, 1480 * 2 * math.pi / 60)
+        assert ex.results.amplitude == pytest.approx(expected["amplitude"], rel=1e-9)
+
+    def test_explorer_never_names_a_plan(self):
+        """The explorer's modules other than plans.py name no template and branch on no result set."""
+        folder = ROOT / "calckit" / "explore"
+        for path in folder.glob("*.py"):
+            if path.name in ("plans.py", "__init__.py"):
+                continue
+            text = path.read_text(encoding="utf-8")
+            for name in ("machine_on_isolators", '"isolators"', '"single mass"', "_RESULT_SETS", "_RULES"):
+                assert name not in text, (path.name, name)
+
+
+class TestEntry:
+    def test_help_shows_the_parameters(self):
+        """ck.explore has the real signature and docstring (help(ck.explore) shows them)."""
+        import inspect
+
+        import calckit as ck
+
+        parameters = inspect.signature(ck.explore).parameters
+        assert list(parameters)[:3] == ["inputs", "template", "mass"]
+        assert {"plan", "band", "points", "widgets", "values", "names"} <= set(parameters)
+        assert "amplitude_limit" in ck.explore.__doc__ and "Returns" in ck.explore.__doc__
+
+    def test_import_stays_light(self):
+        """import calckit, calckit.explore: neither sympy nor numpy nor ipywidgets is imported."""
+        script = (
+            "import sys, calckit, calckit.explore; "
+            "print(sorted(m for m in ('sympy', 'numpy', 'ipywidgets') if m in sys.modules))"
+        )
+        done = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True)
+        assert done.stdout.strip() == "[]"
+
+    def test_kept_file_mode(self, p101, tmp_path):
+        """The kept file is written by calckit.core.files: permissions 0644 under umask 022."""
+        import os
+
+        old = os.umask(0o022)
+        try:
+            kept = p101.keep(tmp_path / "mode.toml")
+        finally:
+            os.umask(old)
+        assert kept.path.stat().st_mode & 0o777 == 0o644
+        assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no temporary file left

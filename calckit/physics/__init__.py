@@ -42,3 +42,43 @@ __all__ = [
     "transmitted_force_amplitude",
     "unbalance_force_amplitude",
 ]
+
+# Criteria, isolation, run-up: one place for what the templates and the explorer both compute.
+from calckit.physics.criteria import (  # noqa: E402
+    ISOLATION_RATIO_BASIS,
+    LEAST_ISOLATION_RATIO,
+    SEPARATION_BAND,
+    SEPARATION_BASIS,
+    speed_separation,
+)
+from calckit.physics.excitation import require_one_harmonic, residual_unbalance, unbalance_force  # noqa: E402
+from calckit.physics.harmonic import forced_amplitude  # noqa: E402
+from calckit.physics.isolation import (  # noqa: E402
+    STANDARD_GRAVITY,
+    IsolatorResults,
+    isolator_results,
+    static_deflection,
+)
+from calckit.physics.runup import RunUp, RunUpResults, run_up, run_up_results, run_up_stage, run_up_steps  # noqa: E402
+
+__all__ += [
+    "ISOLATION_RATIO_BASIS",
+    "LEAST_ISOLATION_RATIO",
+    "SEPARATION_BAND",
+    "SEPARATION_BASIS",
+    "STANDARD_GRAVITY",
+    "IsolatorResults",
+    "RunUp",
+    "RunUpResults",
+    "forced_amplitude",
+    "isolator_results",
+    "require_one_harmonic",
+    "residual_unbalance",
+    "run_up",
+    "run_up_results",
+    "run_up_stage",
+    "run_up_steps",
+    "speed_separation",
+    "static_deflection",
+    "unbalance_force",
+]

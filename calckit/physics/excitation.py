@@ -24,6 +24,8 @@ from dataclasses import dataclass
 import numpy as np
 import sympy as sp
 
+from calckit.engine.forcing import split_forcing
+from calckit.errors import InputsError
 from calckit.physics import harmonic as _h
 from calckit.physics.harmonic import _args, _out
 
@@ -32,9 +34,12 @@ __all__ = [
     "BaseExcitation",
     "base_excitation",
     "eccentricity_from_grade",
+    "require_one_harmonic",
     "permissible_unbalance",
     "permissible_unbalance_gmm",
+    "residual_unbalance",
     "transmitted_force_amplitude",
+    "unbalance_force",
     "unbalance_force_amplitude",
 ]
 
@@ -127,6 +132,50 @@ def permissible_unbalance_gmm(G, rotor_mass, omega):
     return u * 10**6 if isinstance(u, sp.Basic) else _out(u * 1e6)
 
 
+def residual_unbalance(rotor_mass, e):
+    r"""Residual unbalance of a rotor whose mass centre sits *e* off the shaft axis, in kg m.
+
+    .. math:: U = m_r\, e
+
+    Parameters
+    ----------
+    rotor_mass : mass of the rotating parts, kg.
+    e : mass eccentricity, m (for the largest a grade permits, :func:`eccentricity_from_grade`).
+
+    References
+    ----------
+    ISO 21940-11:2016 (formerly ISO 1940-1:2003), ``U = e m``, from memory.
+
+    Examples
+    --------
+    >>> residual_unbalance(sp.Integer(140), sp.Rational(40, 10**6))
+    7/1250
+    """
+    is_exact, (m, e) = _args("residual_unbalance", rotor_mass=rotor_mass, e=e)
+    return m * e if is_exact else _out(m * e)
+
+
+def unbalance_force(U, omega):
+    r"""Amplitude of the rotating force from a residual unbalance *U* (kg m) at the speed *omega*.
+
+    .. math:: F_0 = U\, \Omega^2
+
+    The same force as :func:`unbalance_force_amplitude` with ``U = m_u e``, for when the
+    unbalance is known as one number (a balancing machine's reading, a grade's limit).
+
+    References
+    ----------
+    Rao, *Mechanical Vibrations*, 5th ed., sec. 3.7, from memory.
+
+    Examples
+    --------
+    >>> float(unbalance_force(0.001, 100.0))
+    10.0
+    """
+    is_exact, (u, w) = _args("unbalance_force", U=U, omega=omega)
+    return u * w**2 if is_exact else _out(u * w * w)
+
+
 @dataclass(frozen=True)
 class BaseExcitation:
     r"""Steady-state response ratios of a mass on a spring and damper whose base moves
@@ -206,3 +255,37 @@ def transmitted_force_amplitude(k, c, X, omega):
     if is_exact:
         return x * sp.sqrt(k**2 + (c * w) ** 2)
     return _out(x * np.hypot(k, c * w))
+
+
+def require_one_harmonic(f, t, omega, *, text, where: str, taker: str = "This template") -> None:
+    """Refuse a forcing *f* (sympy, in *t*) that is not one harmonic at the forcing frequency *omega*.
+
+    Parameters
+    ----------
+    f : sympy expression, the forcing.
+    t, omega : the time symbol and the forcing frequency's symbol.
+    text : the forcing as the user wrote it, quoted in the message.
+    where : where to point the error (the input's name).
+    taker : who takes the force, for the message's advice (``"This template"``, ``"The explorer"``).
+
+    Raises
+    ------
+    InputsError
+        The forcing has more than one frequency, decays or grows, or is at another frequency.
+
+    Examples
+    --------
+    >>> t, w, F0 = sp.Symbol("t", real=True), sp.Symbol("w", positive=True), sp.Symbol("F0", positive=True)
+    >>> require_one_harmonic(F0 * sp.cos(w * t), t, w, text="F0*cos(w*t)", where="forcing")
+    >>> require_one_harmonic(F0 * sp.cos(2 * w * t), t, w, text="F0*cos(2*w*t)", where="forcing")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    calckit.errors.InputsError: forcing: "F0*cos(2*w*t)" is not one harmonic at the forcing frequency. ...
+    """
+    groups = split_forcing(f, t).groups
+    if len(groups) != 1 or not groups[0].harmonic or groups[0].decay != 0 or groups[0].frequency != omega:
+        raise InputsError(
+            f'"{text}" is not one harmonic at the forcing frequency',
+            where=where,
+            do=f"{taker} takes a force at one frequency, for example F0*cos(w*t) or F0*sin(w*t)",
+        )

@@ -36,6 +36,7 @@ from calckit.errors import ModelError
 
 __all__ = [
     "HalfPowerPoints",
+    "forced_amplitude",
     "frequency_ratio",
     "half_power_bandwidth",
     "half_power_points",
@@ -66,6 +67,7 @@ _MEANING = {
     "k": "stiffness",
     "c": "damping coefficient",
     "X": "amplitude",
+    "U": "residual unbalance",
 }
 
 Value = sp.Expr | np.ndarray | np.floating
@@ -176,6 +178,29 @@ def frequency_ratio(omega, omega_n):
     """
     is_exact, (w, wn) = _args("frequency_ratio", ("omega_n",), omega=omega, omega_n=omega_n)
     return w / wn if is_exact else _out(w / wn)
+
+
+def forced_amplitude(F0, m, c, k, omega):
+    r"""Steady-state amplitude of a mass on a spring and damper under a harmonic force ``F0 cos(omega t)``.
+
+    .. math:: X = \frac{F_0}{\sqrt{(k - m\omega^2)^2 + (c\,\omega)^2}}
+
+    Plain numbers and numpy arrays only (broadcast together), SI units; the same as
+    ``F0 / k * magnification(r, zeta)``, written in the physical parameters so that a run-up's
+    envelope and an isolator's amplitude need no ratios. Undamped resonance gives ``inf``.
+
+    References
+    ----------
+    S. S. Rao, *Mechanical Vibrations*, 5th ed., eq. (3.25), from memory.
+
+    Examples
+    --------
+    >>> float(forced_amplitude(100.0, 1.0, 0.0, 400.0, 10.0))
+    0.3333333333333333
+    """
+    F0, m, c, k, w = (np.asarray(v, dtype=float) for v in (F0, m, c, k, omega))
+    with np.errstate(divide="ignore"):
+        return _out(F0 / np.hypot(k - m * w * w, c * w))
 
 
 def magnification(r, zeta):

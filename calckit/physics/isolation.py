@@ -1,0 +1,141 @@
+"""A machine with a rotor on spring isolators: its results at running speed, step by step.
+
+The chain a sheet of a machine on isolators writes out, one step after another:
+the permissible eccentricity from the balance grade, the residual unbalance and its
+force, the natural frequency and static deflection of the isolators, the damping
+coefficient, the frequency ratio, the amplitude and the force into the floor, the
+transmissibility and the isolation efficiency. Each step takes the results before it
+*as shown* on the sheet (:func:`calckit.core.rounding.as_shown`, four significant
+figures in the unit shown) when ``carry`` says so, so that a checker redoing a step
+from the printed numbers gets the printed result.
+
+References
+----------
+ISO 21940-11:2016, balance quality grade ``G = e_per Omega``, from memory.
+S. S. Rao, *Mechanical Vibrations*, 5th ed., sec. 3.7 (rotating unbalance) and sec. 9.10
+(vibration isolation, transmissibility), from memory.
+The standard acceleration of gravity, 9.80665 m/s^2: a defined constant (3rd CGPM, 1901).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass
+
+from calckit.core.rounding import as_shown
+from calckit.physics.excitation import (
+    eccentricity_from_grade,
+    residual_unbalance,
+    transmitted_force_amplitude,
+    unbalance_force,
+)
+from calckit.physics.harmonic import forced_amplitude
+
+__all__ = ["STANDARD_GRAVITY", "IsolatorResults", "isolator_results", "static_deflection"]
+
+#: Standard acceleration of gravity, m/s^2 (a defined constant, 3rd CGPM, 1901).
+STANDARD_GRAVITY = 9.80665
+
+
+def static_deflection(m: float, k: float, g: float = STANDARD_GRAVITY) -> float:
+    """Deflection of springs of stiffness *k* (N/m) under the weight of a mass *m* (kg), in m: ``m g / k``.
+
+    Examples
+    --------
+    >>> round(static_deflection(1000.0, 980665.0) * 1000, 12)
+    10.0
+    """
+    return m * g / k
+
+
+@dataclass(frozen=True)
+class IsolatorResults:
+    """The results at running speed, SI, under the names a sheet gives them.
+
+    Attributes
+    ----------
+    e_per : permissible mass eccentricity, m.
+    U : residual unbalance, kg m.
+    F_0 : unbalance force amplitude, N.
+    omega_n, f_n : natural frequency on the isolators, rad/s and Hz.
+    delta_st : static deflection under standard gravity, m.
+    c : damping coefficient, N s/m.
+    r : frequency ratio ``Omega / omega_n``.
+    X : amplitude of the machine, m.
+    F_T : amplitude of the force into the floor, N.
+    T : transmissibility ``F_T / F_0``.
+    eta : isolation efficiency ``1 - T`` (a fraction).
+    """
+
+    e_per: float
+    U: float
+    F_0: float
+    omega_n: float
+    f_n: float
+    delta_st: float
+    c: float
+    r: float
+    X: float
+    F_T: float
+    T: float
+    eta: float
+
+    def as_dict(self) -> dict[str, float]:
+        """The results by name."""
+        return asdict(self)
+
+
+def isolator_results(
+    *,
+    machine_mass: float,
+    isolator_stiffness: float,
+    damping_ratio: float,
+    rotor_mass: float,
+    balance_grade: float,
+    running_speed: float,
+    carry: int | None = 4,
+) -> IsolatorResults:
+    """The isolator results step by step, each step taking the earlier ones as shown.
+
+    Parameters
+    ----------
+    machine_mass : kg, everything on the isolators.
+    isolator_stiffness : N/m, all isolators together.
+    damping_ratio : of the isolators.
+    rotor_mass : kg, the rotating parts.
+    balance_grade : G in mm/s, as the standard quotes it.
+    running_speed : rad/s.
+    carry : significant figures a result is carried at into a later step (in the unit the
+        sheet shows it in: um, g mm, N, rad/s, N s/m, a pure number); None carries exactly.
+
+    Examples
+    --------
+    >>> got = isolator_results(machine_mass=1850.0, isolator_stiffness=720e3, damping_ratio=0.05,
+    ...                        rotor_mass=140.0, balance_grade=6.3, running_speed=1480 * math.pi / 30)
+    >>> round(got.omega_n, 4), round(got.eta, 4)
+    (19.7279, 0.9791)
+    """
+    m, k, zeta, w = machine_mass, isolator_stiffness, damping_ratio, running_speed
+    e_um = float(eccentricity_from_grade(balance_grade, w)) * 1e6  # e_per = G / Omega
+    u_gmm = float(residual_unbalance(rotor_mass, as_shown(e_um, carry)))  # kg um = g mm
+    f0 = float(unbalance_force(as_shown(u_gmm, carry) * 1e-6, w))  # F_0 = U Omega^2
+    wn = math.sqrt(k / m)
+    c = 2 * zeta * math.sqrt(k * m)
+    f0_c, c_c = as_shown(f0, carry), as_shown(c, carry)
+    x = float(forced_amplitude(f0_c, m, c_c, k, w))
+    f_t = float(transmitted_force_amplitude(k, c_c, x, w))
+    t_ratio = as_shown(f_t, carry) / f0_c if f0_c else math.nan
+    return IsolatorResults(
+        e_per=e_um * 1e-6,
+        U=u_gmm * 1e-6,
+        F_0=f0,
+        omega_n=wn,
+        f_n=as_shown(wn, carry) / (2 * math.pi),
+        delta_st=static_deflection(m, k),
+        c=c,
+        r=w / as_shown(wn, carry),
+        X=x,
+        F_T=f_t,
+        T=t_ratio,
+        eta=1 - as_shown(t_ratio, carry),
+    )
