@@ -14,7 +14,8 @@ import pytest
 import sympy as sp
 
 import calckit as ck
-from calckit.sheet.sheet import DerivationBlock, Figure, Sheet
+from calckit.sheet.blocks import DerivationBlock, Figure
+from calckit.sheet.sheet import Sheet
 from tests.browser import ARTIFACTS, inspect_page, needs_chromium, pdf_page_count, screenshot
 
 matplotlib.use("Agg")
