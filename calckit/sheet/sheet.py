@@ -256,6 +256,7 @@ class Sheet:
 
         Examples
         --------
+        >>> from calckit.core.units import Q_
         >>> sheet = Sheet("x", show=False)
         >>> _ = sheet.result("omega_n", Q_(26.832815, "rad/s"))
         >>> sheet.carried("omega_n")

@@ -19,6 +19,7 @@ __all__ = ["exact_text", "shown_text", "si_value"]
 def si_value(value: Any, where: str) -> tuple[float | None, str]:
     """*value* in SI as ``(magnitude, unit)``; ``(None, "")`` for what has no number (a symbol, a forcing).
 
+    >>> from calckit.core.units import Q_
     >>> si_value(Q_(180, "kN/m"), "k")
     (180000.0, 'N/m')
     """
@@ -35,6 +36,7 @@ def si_value(value: Any, where: str) -> tuple[float | None, str]:
 def shown_text(value: Any, sig: int = 4) -> str:
     """*value* as the sheet shows it: a quantity or number to *sig* significant figures, else its text.
 
+    >>> from calckit.core.units import Q_
     >>> shown_text(Q_(26.832815, "rad/s"))
     '26.83 rad/s'
     """
