@@ -4,6 +4,9 @@ The same functions build the file and the notebook display, so what the
 engineer sees while working is what the checker reads. Blocks appear in the
 order they were added, except that inputs are gathered into one table, and
 checks, references and notes into their own sections.
+
+The functions take a :class:`calckit.sheet.sheet.Sheet` (annotated ``Any``: the
+sheet module imports this one when it renders, so this one does not import it).
 """
 
 from __future__ import annotations

@@ -1,4 +1,4 @@
-"""The calculation sheet: inputs, steps, checks, figures, sign-off, fingerprint.
+"""The calculation sheet itself: adding blocks, the fingerprint, saving.
 
 A :class:`Sheet` is data first. Each call adds a block (an input, a calculation
 step, a derivation, an acceptance check, a figure, an assumption ...) and
@@ -6,7 +6,10 @@ returns what a template needs next (usually the value). Renderers turn the
 sheet into a notebook view (each block displays as it is added), one
 self-contained HTML file (inline CSS, SVG and MathML; no script, no network),
 a PDF printed from that HTML by headless Chromium, and a JSON record that the
-re-run and diff tools read.
+re-run and diff tools read (:class:`~calckit.sheet.record.SheetRecord`). The
+blocks are in :mod:`calckit.sheet.blocks`, the checks' arithmetic in
+:mod:`calckit.sheet.checking`; every file is written by
+:func:`calckit.core.files.write_file`.
 
 The fingerprint is a SHA-256 over the canonical inputs, the kit's version and
 the template's content: two sheets with the same fingerprint came from the
@@ -18,6 +21,10 @@ Examples
 ...               author="A. Engineer", date="2026-12-01", show=False)
 >>> m = sheet.input("m", "250 kg", description="Pump and base mass", source="Vendor drawing")
 >>> k = sheet.input("k", "180 kN/m", description="Total isolator stiffness", source="Isolator data")
+
+A template states its inputs with :meth:`Sheet.given` (source from the inputs
+file, sign checked) and carries a result into the next step as shown with
+:meth:`Sheet.carried`.
 """
 
 from __future__ import annotations
