@@ -16,6 +16,7 @@ from typing import Any
 
 import sympy as sp
 
+from calckit._version import __version__
 from calckit.render.page import SHEET_CSS, Html, escape, html_page, math_block, math_inline, section, table
 from calckit.sheet.blocks import (
     RELATIONS,
@@ -265,7 +266,7 @@ def _body(sheet: Any) -> Html:
     parts.append(_signoff(sheet))
     parts.append(
         Html(
-            f'<p class="fingerprint">Built with calckit {escape(sheet.record()["calckit"])}. '
+            f'<p class="fingerprint">Built with calckit {escape(__version__)}. '
             f"Fingerprint (SHA-256 of inputs, kit version and template): <code>{sheet.fingerprint}</code></p>"
         )
     )
