@@ -14,7 +14,8 @@ import pytest
 import sympy as sp
 
 import calckit as ck
-from calckit.sheet.sheet import DerivationBlock, Figure, Sheet
+from calckit.sheet.blocks import DerivationBlock, Figure
+from calckit.sheet.sheet import Sheet
 from tests.browser import ARTIFACTS, inspect_page, needs_chromium, pdf_page_count, screenshot
 
 matplotlib.use("Agg")
@@ -299,3 +300,90 @@ class TestRefusals:
             sheet.calc("z", f"__import__('pathlib').Path({str(marker)!r}).write_text('x')")
         assert not marker.exists()
         assert sheet.calc("w", "sqrt(k/(2*k))") == pytest.approx(2**-0.5)
+
+
+class TestGiven:
+    """Sheet.given: a template's input with its source and sign checked."""
+
+    def test_source_defaults_to_inputs_file(self):
+        sheet = Sheet("x", show=False, inputs_file="p101.toml", sources={"k": "Isolator data sheet"})
+        m = sheet.given("mass", "250 kg", "m", "Pump and base", "mass")
+        assert m == ck.Q_(250, "kg") and sheet.inputs["mass"].source == "p101.toml"
+        assert sheet.inputs["mass"].symbol == "m" and sheet.inputs["mass"].description == "Pump and base"
+        sheet.given("limit", "0.1 mm", "X_{lim}", "Largest amplitude", "length", "Client specification")
+        assert sheet.inputs["limit"].source == "Client specification"
+        sheet.given("k", "180 kN/m", "k", "Stiffness", "stiffness", "Catalogue")
+        assert sheet.inputs["k"].source == "Isolator data sheet"  # the inputs file's word wins
+
+    def test_sign_checked(self):
+        sheet = Sheet("x", show=False)
+        with pytest.raises(ck.InputsError, match=r"^mass: "):
+            sheet.given("mass", "0 kg", "m", "Mass", "mass")
+        assert sheet.given("zeta", 0, r"\zeta", "Damping ratio", "dimensionless", sign=ck.non_negative) == 0
+        with pytest.raises(ck.InputsError, match=r"^zeta2: "):
+            sheet.given("zeta2", -0.1, r"\zeta", "Damping ratio", "dimensionless", sign=ck.non_negative)
+        assert sheet.given("x0", "-2 mm", "x_0", "Start", "length", sign=ck.finite) == ck.Q_(-2, "mm")
+        with pytest.raises(ck.UnitsError, match=r"^w: expected a frequency"):
+            sheet.given("w", "3 kg", r"\omega", "Frequency", "frequency")
+
+    def test_sign_must_be_a_check(self):
+        with pytest.raises(ck.SheetError) as info:
+            Sheet("x", show=False).given("m", "1 kg", "m", "Mass", "mass", sign="positive")
+        assert str(info.value) == (
+            "input m: sign='positive' is not a check. Pass calckit.positive, calckit.non_negative or calckit.finite."
+        )
+
+
+class TestCarried:
+    """Sheet.carried: an earlier result as shown, carried into the next step."""
+
+    def test_rounded_as_shown(self):
+        sheet = Sheet("x", show=False)
+        sheet.result("omega_n", ck.Q_(26.832815729997478, "rad/s"))
+        sheet.result("r", 5.776413)
+        # 26.832815... to 4 significant figures is 26.83; 5.776413 is 5.776 (hand rounding)
+        assert sheet.carried("omega_n") == ck.Q_(26.83, "rad/s")
+        assert str(sheet.carried("omega_n").units) == "radian / second"
+        assert sheet.carried("r") == 5.776 and isinstance(sheet.carried("r"), float)
+        assert sheet.carried("r", sig=2) == 5.8
+        assert sheet.carried("omega_n", sig=6) == ck.Q_(26.8328, "rad/s")
+
+    def test_step_result_carried(self):
+        """A result of calc() is carried as the sheet shows it."""
+        sheet = Sheet("x", show=False)
+        sheet.input("k", "180 kN/m")
+        sheet.input("m", "250 kg")
+        sheet.calc("omega_n", "sqrt(k/m)", unit="rad/s")
+        # sqrt(180000 / 250) = 26.8328 rad/s (hand arithmetic)
+        assert sheet.carried("omega_n").magnitude == 26.83
+        assert sheet.carried("omega_n").to("rad/s").magnitude == 26.83
+
+    def test_unknown_result_and_bad_sig(self):
+        sheet = Sheet("x", show=False)
+        with pytest.raises(ck.SheetError) as info:
+            sheet.carried("omega_n")
+        assert str(info.value) == (
+            "carried omega_n: there is no result named 'omega_n' on the sheet (results: none yet). "
+            "Carry a result computed earlier with calc() or result(), by its name."
+        )
+        sheet.result("r", 1.5)
+        with pytest.raises(ck.SheetError, match=r"results: r\)"):
+            sheet.carried("x")
+        for sig in (0, 2.5, True):
+            with pytest.raises(
+                ck.SheetError, match=r"^carried r: sig=.* is not a number of significant figures"
+            ):
+                sheet.carried("r", sig=sig)
+
+
+def test_folder_exports():
+    """The sheet folder exports what other folders use; in_kernel is public and false outside a kernel."""
+    import calckit.sheet as folder
+
+    for name in (
+        "Sheet", "Check", "check_margin", "DEFAULT_CAUTION", "in_kernel", "existing_fingerprint",
+        "SheetRecord", "read_record", "RECORD_VERSION",
+    ):  # fmt: skip
+        assert name in folder.__all__ and hasattr(folder, name), name
+    assert folder.in_kernel() is False
+    assert ck.SheetRecord is folder.SheetRecord and ck.read_record is folder.read_record

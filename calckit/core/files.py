@@ -24,7 +24,7 @@ from typing import Any
 
 from calckit.errors import OverwriteError
 
-__all__ = ["new_file_mode", "toml_value", "write_file", "write_text"]
+__all__ = ["new_file_mode", "refuse_existing", "toml_value", "write_file", "write_text"]
 
 
 def new_file_mode() -> int:
@@ -41,6 +41,28 @@ def _refused(path: Path, do: str | None) -> OverwriteError:
         do=do
         or "Choose another name, or pass overwrite=True (--overwrite) to replace it; nothing was written",
     )
+
+
+def refuse_existing(path: str | os.PathLike, *, refuse: str | None = None) -> None:
+    """Raise the refusal :func:`write_file` would give without ``overwrite`` if *path* exists.
+
+    For a writer whose bytes take long to make (a PDF printed by a browser): it
+    refuses before the work instead of after it. :func:`write_file` checks again
+    when it writes.
+
+    Raises
+    ------
+    OverwriteError
+        *path* exists; ``refuse`` is what the message tells the user to do instead.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> refuse_existing(pathlib.Path(tempfile.mkdtemp()) / "new.pdf")  # free: nothing happens
+    """
+    path = Path(path)
+    if path.exists():
+        raise _refused(path, refuse)
 
 
 def write_file(

@@ -3,6 +3,11 @@
 The HTML is self-contained, so Chromium is started with everything that would
 reach the network switched off. Without Chromium a clear error says how to
 install it; the HTML itself is still the sheet of record.
+
+Chromium prints into a private temporary folder; the finished PDF's bytes then
+go through :func:`calckit.core.files.write_file`, the one writer (temporary file
+in the target folder, fsync, rename, the permissions of a new file), so a PDF
+is written like every other file calckit writes, refusals to overwrite included.
 """
 
 from __future__ import annotations
@@ -13,6 +18,7 @@ import subprocess
 import tempfile
 from pathlib import Path
 
+from calckit.core.files import refuse_existing, write_file
 from calckit.errors import SheetError
 
 __all__ = ["find_chromium", "html_to_pdf", "CHROMIUM_FLAGS"]
@@ -43,9 +49,26 @@ def find_chromium() -> str | None:
     return None
 
 
-def html_to_pdf(html: str, pdf_path: str | os.PathLike) -> Path:
-    """Print *html* to *pdf_path* through headless Chromium; atomic (temporary file, then rename)."""
+def html_to_pdf(
+    html: str, pdf_path: str | os.PathLike, *, overwrite: bool = False, refuse: str | None = None
+) -> Path:
+    """Print *html* to *pdf_path* through headless Chromium; return the path written.
+
+    The file is written by :func:`calckit.core.files.write_file`: whole or not at
+    all, with the permissions of a new file. An existing *pdf_path* is replaced
+    only with ``overwrite=True``; ``refuse`` is what the refusal tells the user
+    to do instead.
+
+    Raises
+    ------
+    SheetError
+        Chromium is missing, fails, or does not finish within ``TIMEOUT_S`` seconds.
+    OverwriteError
+        *pdf_path* exists and *overwrite* is false; nothing is written.
+    """
     pdf_path = Path(pdf_path)
+    if not overwrite and pdf_path.exists():  # refuse before the minutes Chromium may take
+        refuse_existing(pdf_path, refuse=refuse)
     browser = find_chromium()
     if browser is None:
         raise SheetError(
@@ -54,7 +77,6 @@ def html_to_pdf(html: str, pdf_path: str | os.PathLike) -> Path:
             do="Install it (Debian/Ubuntu: apt-get install chromium), set CALCKIT_CHROMIUM to its path, "
             "or save as .html and print from a browser",
         )
-    pdf_path.parent.mkdir(parents=True, exist_ok=True)
     with tempfile.TemporaryDirectory(prefix="calckit-print-") as work:
         work_dir = Path(work)
         page = work_dir / "sheet.html"
@@ -83,8 +105,4 @@ def html_to_pdf(html: str, pdf_path: str | os.PathLike) -> Path:
                 where=str(pdf_path),
                 do="Save as .html and print from a browser",
             )
-        fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=".pdf", dir=pdf_path.parent)
-        os.close(fd)
-        shutil.copyfile(out, tmp)
-        os.replace(tmp, pdf_path)
-    return pdf_path
+        return write_file(pdf_path, out.read_bytes(), overwrite=overwrite, refuse=refuse)

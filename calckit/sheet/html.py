@@ -4,6 +4,9 @@ The same functions build the file and the notebook display, so what the
 engineer sees while working is what the checker reads. Blocks appear in the
 order they were added, except that inputs are gathered into one table, and
 checks, references and notes into their own sections.
+
+The functions take a :class:`calckit.sheet.sheet.Sheet` (annotated ``Any``: the
+sheet module imports this one when it renders, so this one does not import it).
 """
 
 from __future__ import annotations
@@ -13,20 +16,20 @@ from typing import Any
 
 import sympy as sp
 
+from calckit._version import __version__
 from calckit.render.page import SHEET_CSS, Html, escape, html_page, math_block, math_inline, section, table
-from calckit.sheet.sheet import (
+from calckit.sheet.blocks import (
     RELATIONS,
     CalcStep,
     Check,
     DerivationBlock,
     Figure,
     ResultLine,
-    Sheet,
     SheetInput,
     TableBlock,
     TextBlock,
-    _shown,
 )
+from calckit.sheet.values import shown_text
 
 __all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block"]
 
@@ -46,14 +49,14 @@ def _latex_of(obj: Any) -> str:
     return text
 
 
-def _input_rows(sheet: Sheet) -> list[list[Any]]:
+def _input_rows(sheet: Any) -> list[list[Any]]:
     rows = []
     for rec in sheet.inputs.values():
         value = rec.value
         if isinstance(value, sp.Basic) and not value.is_number:
             shown = math_inline(sp.latex(value))
         else:
-            shown = escape(_shown(value)) if hasattr(value, "units") else escape(rec.text)
+            shown = escape(shown_text(value)) if hasattr(value, "units") else escape(rec.text)
         rows.append([math_inline(rec.symbol), rec.description, shown, rec.source or "not given"])
     return rows
 
@@ -144,7 +147,7 @@ def _value_latex(value: Any) -> str:
     from calckit.render.numbers import number_latex, unit_latex
 
     if hasattr(value, "units") or isinstance(value, (int, float)):
-        number, _, unit = _shown(value).partition(" ")
+        number, _, unit = shown_text(value).partition(" ")
         return number_latex(number) + (r"\;" + unit_latex(unit) if unit else "")
     return sp.latex(value)
 
@@ -156,7 +159,7 @@ def _input_rows_single(rec: SheetInput) -> list[Any]:
     return _input_rows(_One)[0]  # type: ignore[arg-type]
 
 
-def _title_block(sheet: Sheet) -> Html:
+def _title_block(sheet: Any) -> Html:
     tb = sheet.title
     cells = [
         ("Project", tb.project),
@@ -171,7 +174,7 @@ def _title_block(sheet: Sheet) -> Html:
     return Html(f'<table class="title-block"><tbody>{rows}</tbody></table>')
 
 
-def _summary(sheet: Sheet) -> Html:
+def _summary(sheet: Any) -> Html:
     n, met = len(sheet.checks), sheet.checks_met
     if not n:
         text = "No acceptance checks on this sheet."
@@ -182,13 +185,13 @@ def _summary(sheet: Sheet) -> Html:
     return Html(f'<p class="summary">{escape(text)}</p>')
 
 
-def _caution(sheet: Sheet) -> Html:
+def _caution(sheet: Any) -> Html:
     if not sheet.caution:
         return Html("")
     return Html(f'<div class="caution">{escape(sheet.caution)}</div>')
 
 
-def _signoff(sheet: Sheet) -> Html:
+def _signoff(sheet: Any) -> Html:
     tb = sheet.title
     rows = [
         ["Prepared", tb.author, "", tb.date],
@@ -202,7 +205,7 @@ def _signoff(sheet: Sheet) -> Html:
     )
 
 
-def _body(sheet: Sheet) -> Html:
+def _body(sheet: Any) -> Html:
     parts = [_title_block(sheet), _summary(sheet), _caution(sheet)]
     n = 0
 
@@ -263,14 +266,14 @@ def _body(sheet: Sheet) -> Html:
     parts.append(_signoff(sheet))
     parts.append(
         Html(
-            f'<p class="fingerprint">Built with calckit {escape(sheet.record()["calckit"])}. '
+            f'<p class="fingerprint">Built with calckit {escape(__version__)}. '
             f"Fingerprint (SHA-256 of inputs, kit version and template): <code>{sheet.fingerprint}</code></p>"
         )
     )
     return Html(f'<div class="sheet" data-fingerprint="{sheet.fingerprint}">' + "".join(parts) + "</div>")
 
 
-def sheet_page(sheet: Sheet) -> str:
+def sheet_page(sheet: Any) -> str:
     """The whole sheet as one self-contained HTML page."""
     tb = sheet.title
     ident = " ".join(x for x in (tb.number, f"rev. {tb.revision}" if tb.revision else "") if x)
@@ -284,7 +287,7 @@ def sheet_page(sheet: Sheet) -> str:
     )
 
 
-def sheet_fragment(sheet: Sheet) -> str:
+def sheet_fragment(sheet: Any) -> str:
     """The sheet for a notebook: the page body with its style, scoped to the sheet."""
     return f"<style>{_scoped_css()}</style>{_body(sheet)}"
 
@@ -301,7 +304,7 @@ def _scoped_css() -> str:
     return "\n".join(keep)
 
 
-def show_block(sheet: Sheet, block: Any) -> None:
+def show_block(sheet: Any, block: Any) -> None:
     """Display a block just added, in a running IPython kernel."""
     from IPython.display import HTML, display
 

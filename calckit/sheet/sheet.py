@@ -1,4 +1,4 @@
-"""The calculation sheet: inputs, steps, checks, figures, sign-off, fingerprint.
+"""The calculation sheet itself: adding blocks, the fingerprint, saving.
 
 A :class:`Sheet` is data first. Each call adds a block (an input, a calculation
 step, a derivation, an acceptance check, a figure, an assumption ...) and
@@ -6,7 +6,10 @@ returns what a template needs next (usually the value). Renderers turn the
 sheet into a notebook view (each block displays as it is added), one
 self-contained HTML file (inline CSS, SVG and MathML; no script, no network),
 a PDF printed from that HTML by headless Chromium, and a JSON record that the
-re-run and diff tools read.
+re-run and diff tools read (:class:`~calckit.sheet.record.SheetRecord`). The
+blocks are in :mod:`calckit.sheet.blocks`, the checks' arithmetic in
+:mod:`calckit.sheet.checking`; every file is written by
+:func:`calckit.core.files.write_file`.
 
 The fingerprint is a SHA-256 over the canonical inputs, the kit's version and
 the template's content: two sheets with the same fingerprint came from the
@@ -18,6 +21,10 @@ Examples
 ...               author="A. Engineer", date="2026-12-01", show=False)
 >>> m = sheet.input("m", "250 kg", description="Pump and base mass", source="Vendor drawing")
 >>> k = sheet.input("k", "180 kN/m", description="Total isolator stiffness", source="Isolator data")
+
+A template states its inputs with :meth:`Sheet.given` (source from the inputs
+file, sign checked) and carries a result into the next step as shown with
+:meth:`Sheet.carried`.
 """
 
 from __future__ import annotations
@@ -25,172 +32,38 @@ from __future__ import annotations
 import hashlib
 import io
 import json
-import math
 import os
 import re
-import tempfile
-from collections.abc import Mapping
-from dataclasses import asdict, dataclass
+from collections.abc import Callable, Mapping
+from dataclasses import asdict
 from pathlib import Path
 from typing import Any
 
 import sympy as sp
 
 from calckit._version import __version__
-from calckit.core.units import Q_, fmt, quantity, to_si
+from calckit.core.checks import positive
+from calckit.core.files import write_file
+from calckit.core.rounding import as_shown
+from calckit.core.units import fmt, quantity
 from calckit.errors import OverwriteError, SheetError
-
-__all__ = [
-    "Sheet",
-    "TitleBlock",
-    "SheetInput",
-    "CalcStep",
-    "ResultLine",
-    "DerivationBlock",
-    "Check",
-    "Figure",
-    "TextBlock",
-    "TableBlock",
-    "DEFAULT_CAUTION",
-    "check_margin",
-]
-
-DEFAULT_CAUTION = (
-    "The results of this calculation support, and do not replace, the judgment of a qualified "
-    "engineer and the codes and standards that apply locally. Check the inputs against their "
-    "sources and the assumptions against the installation before relying on the results."
+from calckit.sheet.blocks import (
+    DEFAULT_CAUTION,
+    CalcStep,
+    Check,
+    DerivationBlock,
+    Figure,
+    ResultLine,
+    SheetInput,
+    TableBlock,
+    TextBlock,
+    TitleBlock,
 )
+from calckit.sheet.checking import acceptance_check, separation_percent
+from calckit.sheet.record import SheetRecord, existing_fingerprint, record_of
+from calckit.sheet.values import exact_text, shown_text, si_value
 
-RELATIONS = {"<=": "\\le", ">=": "\\ge", "<": "<", ">": ">"}
-
-
-# ------------------------------------------------------------------ records
-
-
-@dataclass(frozen=True)
-class TitleBlock:
-    """The sheet's title block."""
-
-    subject: str
-    project: str = ""
-    number: str = ""
-    revision: str = "A"
-    author: str = ""
-    checker: str = ""
-    date: str = ""
-    approver: str = ""
-
-
-@dataclass(frozen=True)
-class SheetInput:
-    """One input: name, symbol, value as given, SI value, description, source."""
-
-    name: str
-    symbol: str  # LaTeX
-    text: str  # as given, e.g. "250 kg"
-    value: Any  # pint Quantity, number or sympy expression
-    si: float | None
-    si_unit: str
-    description: str
-    source: str
-
-
-@dataclass(frozen=True)
-class CalcStep:
-    """A numbered calculation step: formula, values put through, result."""
-
-    name: str
-    title: str
-    record: Any  # calckit.render.numbers.Substitution
-    reference: str
-
-
-@dataclass(frozen=True)
-class ResultLine:
-    """A result recorded with its value (computed elsewhere, e.g. by an Oscillator)."""
-
-    name: str
-    title: str
-    symbol: str
-    value: Any
-    reference: str
-
-
-@dataclass(frozen=True)
-class DerivationBlock:
-    """A derivation from the engine, shown step by step."""
-
-    title: str
-    derivation: Any  # Derivation or Response
-    level: str
-
-
-@dataclass(frozen=True)
-class Check:
-    """An acceptance check: value against limit, margin in percent, verdict."""
-
-    name: str
-    value: float
-    limit: float
-    relation: str  # "<=", ">=", "<" or ">"
-    unit: str
-    margin_percent: float
-    met: bool
-    basis: str
-    shown_value: str
-    shown_limit: str
-
-    @property
-    def verdict(self) -> str:
-        """``"met"`` or ``"not met"``."""
-        return "met" if self.met else "not met"
-
-    @property
-    def margin_unit(self) -> str:
-        """What the margin is measured in (see :func:`check_margin`)."""
-        return "percentage points" if self.unit == "percent" else "percent of the limit"
-
-    @property
-    def margin_text(self) -> str:
-        """The margin as shown: ``+58.8 %`` of the limit, or ``+665.6 points`` for a percentage."""
-        return f"{self.margin_percent:+.1f} {'points' if self.unit == 'percent' else '%'}"
-
-
-def check_margin(value: float, limit: float, relation: str, unit: str) -> float:
-    """Distance from *value* to *limit*, positive when ``value relation limit`` holds.
-
-    In percent of the limit; for a value that is itself a percentage (``unit ==
-    "percent"``, e.g. a speed separation), in percentage points, so that a margin is
-    never a percent of a percent.
-    """
-    gap = (limit - value) if relation in ("<=", "<") else (value - limit)
-    return gap if unit == "percent" else gap / abs(limit) * 100
-
-
-@dataclass(frozen=True)
-class Figure:
-    """A figure as inline SVG with its caption."""
-
-    caption: str
-    svg: str
-
-
-@dataclass(frozen=True)
-class TableBlock:
-    """A table of values with a caption (e.g. a harmonic table)."""
-
-    caption: str
-    headers: tuple[str, ...]
-    rows: tuple[tuple[str, ...], ...]
-
-
-@dataclass(frozen=True)
-class TextBlock:
-    """An assumption, reference or note."""
-
-    kind: str  # "assumption" | "reference" | "note"
-    text: str
-
+__all__ = ["Sheet", "in_kernel"]
 
 # ------------------------------------------------------------------ helpers
 
@@ -213,58 +86,11 @@ def _symbol_latex(name: str, symbol: str | None) -> str:
     return sp.latex(sp.Symbol(name))
 
 
-def _si_of(value: Any, where: str) -> tuple[float | None, str]:
-    if hasattr(value, "units"):
-        si = to_si(value, where)
-        return float(si.magnitude), si.unit
-    if isinstance(value, (int, float)) and not isinstance(value, bool):
-        return float(value), ""
-    if isinstance(value, sp.Basic) and value.is_number:
-        return float(value), ""
-    return None, ""
-
-
-def _shown(value: Any, sig: int = 4) -> str:
-    if hasattr(value, "units"):
-        return fmt(value, sig)
-    if isinstance(value, (int, float, sp.Basic)) and not isinstance(value, bool):
-        try:
-            from calckit.core.units import fmt_number
-
-            return fmt_number(float(value), sig)
-        except (TypeError, ValueError):
-            return str(value)
-    return str(value)
+_REFUSE = "Pass overwrite=True to replace it, keep_both=True to write alongside it, or choose another name"
 
 
 def _canonical(obj: Any) -> str:
     return json.dumps(obj, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
-
-
-def _atomic_write(path: Path, data: bytes) -> None:
-    """Write through a temporary file in the same folder, then rename: never a half file."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-
-
-_FINGERPRINT_IN_FILE = re.compile(rb'(?:data-fingerprint="|"fingerprint":\s*")([0-9a-f]{64})')
-
-
-def existing_fingerprint(path: Path) -> str | None:
-    """The fingerprint recorded in an existing HTML or JSON sheet, if any."""
-    try:
-        head = path.read_bytes()[:2_000_000]
-    except OSError:
-        return None
-    found = _FINGERPRINT_IN_FILE.search(head)
-    return found.group(1).decode() if found else None
 
 
 # ------------------------------------------------------------------ the sheet
@@ -292,6 +118,10 @@ class Sheet:
     sources : mapping, optional
         Source of an input by its name (from an inputs file); it wins over the
         ``source=`` given to :meth:`input`.
+    inputs_file : str, optional
+        Where the template's inputs come from (the inputs file's name, or e.g.
+        "the template's own values"): the source :meth:`given` records for an
+        input that names none.
     """
 
     def __init__(
@@ -309,8 +139,10 @@ class Sheet:
         caution: str = DEFAULT_CAUTION,
         show: bool | None = None,
         sources: Mapping[str, str] | None = None,
+        inputs_file: str = "",
     ):
         self.sources = dict(sources or {})
+        self.inputs_file = str(inputs_file)
         self.title = TitleBlock(subject, project, number, revision, author, checker, date, approver)
         self.template_digest = hashlib.sha256(template.encode()).hexdigest() if template else ""
         if not caution or not str(caution).strip():
@@ -363,11 +195,97 @@ class Sheet:
         if isinstance(value, str) or hasattr(value, "units") or expect:
             value = quantity(value, name, expect=expect)
             text = text if isinstance(text, str) else fmt(value)
-        si, si_unit = _si_of(value, name)
+        si, si_unit = si_value(value, name)
         record = SheetInput(name, _symbol_latex(name, symbol), text, value, si, si_unit, description, source)
         self.inputs[name] = record
         self._add(record)
         return value
+
+    def given(
+        self,
+        name: str,
+        value: Any,
+        symbol: str | None,
+        description: str,
+        expect: str | None,
+        source: str | None = None,
+        sign: Callable[[Any, str], Any] = positive,
+    ):
+        """Put a template's input on the sheet, check its sign, and return the quantity.
+
+        The input is added as by :meth:`input`; its source is ``source``, or when
+        that is empty the sheet's ``inputs_file`` (a source the inputs file gives
+        for *name* in ``sources`` wins over both). ``sign`` is one of
+        :func:`calckit.positive` (the default), :func:`calckit.non_negative` or
+        :func:`calckit.finite`, called as ``sign(quantity, name)``.
+
+        Raises
+        ------
+        InputsError
+            The value fails ``sign`` (e.g. a mass of 0 kg); the input stays on the sheet.
+        UnitsError
+            The value is not of the kind ``expect`` names.
+
+        Examples
+        --------
+        >>> import calckit as ck
+        >>> sheet = ck.Sheet("Pump P-101", inputs_file="p101.toml", show=False)
+        >>> sheet.given("mass", "250 kg", "m", "Pump and base", "mass")
+        <Quantity(250, 'kilogram')>
+        >>> sheet.inputs["mass"].source
+        'p101.toml'
+        >>> sheet.given("damping_ratio", 0, r"\\zeta", "Damping ratio", "dimensionless", sign=ck.non_negative)
+        <Quantity(0, 'dimensionless')>
+        """
+        if not callable(sign):
+            raise SheetError(
+                f"sign={sign!r} is not a check",
+                where=f"input {name}",
+                do="Pass calckit.positive, calckit.non_negative or calckit.finite",
+            )
+        q = self.input(
+            name,
+            value,
+            symbol=symbol,
+            description=description,
+            source=source or self.inputs_file,
+            expect=expect,
+        )
+        return sign(q, name)
+
+    def carried(self, name: str, sig: int = 4):
+        """An earlier result as shown on the sheet, rounded to *sig* significant figures, for the next step.
+
+        A checker redoes each step from the numbers printed on the sheet, so the
+        next step takes the result as shown, not its unrounded value (the one
+        rounding rule is :func:`calckit.core.rounding.as_shown`). A quantity keeps
+        its unit; a plain number comes back as a float.
+
+        Examples
+        --------
+        >>> from calckit.core.units import Q_
+        >>> sheet = Sheet("x", show=False)
+        >>> _ = sheet.result("omega_n", Q_(26.832815, "rad/s"))
+        >>> sheet.carried("omega_n")
+        <Quantity(26.83, 'radian / second')>
+        >>> sheet.carried("omega_n", sig=2)
+        <Quantity(27.0, 'radian / second')>
+        """
+        if name not in self.results:
+            known = ", ".join(self.results) or "none yet"
+            raise SheetError(
+                f"there is no result named {name!r} on the sheet (results: {known})",
+                where=f"carried {name}",
+                do="Carry a result computed earlier with calc() or result(), by its name",
+            )
+        if isinstance(sig, bool) or not isinstance(sig, int) or not 1 <= sig <= 17:
+            raise SheetError(
+                f"sig={sig!r} is not a number of significant figures",
+                where=f"carried {name}",
+                do="Give a whole number from 1 to 17, e.g. sig=4",
+            )
+        value = self.results[name]
+        return as_shown(value if hasattr(value, "units") else float(value), sig)
 
     def calc(
         self,
@@ -463,39 +381,7 @@ class Sheet:
         comes from (a specification, a standard clause, or "common practice,
         no source").
         """
-        if not isinstance(name, str) or not name.strip():
-            raise SheetError(
-                "a check needs a name", where="check", do='Name what is checked, e.g. "amplitude"'
-            )
-        if relation not in RELATIONS:
-            raise SheetError(
-                f"unknown relation {relation!r}", where=f"check {name}", do="Use one of <=, >=, <, >"
-            )
-        for label, given in (("value", value), ("limit", limit)):
-            _require_real(given, f"check {name}", label)
-        v, lim, unit_text = _same_unit(value, limit, unit, name)
-        if not (math.isfinite(v) and math.isfinite(lim)):
-            raise SheetError(
-                f"the {'value' if not math.isfinite(v) else 'limit'} is not a finite number",
-                where=f"check {name}",
-                do="Check the calculation that produced it",
-            )
-        if lim == 0:
-            raise SheetError(
-                "the limit is zero, so a margin in percent is undefined",
-                where=f"check {name}",
-                do="Give a non-zero limit",
-            )
-        margin = check_margin(v, lim, relation, unit_text)
-        if relation in ("<=", "<"):
-            met = v <= lim if relation == "<=" else v < lim
-        else:
-            met = v >= lim if relation == ">=" else v > lim
-        shown_v = _shown(Q_(v, unit_text) if unit_text else v)
-        shown_l = _shown(Q_(lim, unit_text) if unit_text else lim)
-        record = Check(name, v, lim, relation, unit_text, margin, bool(met), basis, shown_v, shown_l)
-        self._add(record)
-        return record
+        return self._add(acceptance_check(name, value, limit, relation=relation, basis=basis, unit=unit))
 
     def separation_check(
         self,
@@ -511,25 +397,7 @@ class Sheet:
 
         The value is ``|f_op / f_n - 1|`` (as a percentage), the limit ``band``.
         """
-        from calckit.core.units import angular_frequency
-
-        def rad_per_s(given, label):
-            _require_real(given, f"check {name}", label)
-            if isinstance(given, str) or hasattr(given, "units"):
-                where = f"check {name} {label}"
-                return float(angular_frequency(quantity(given, where), where))
-            return float(given)
-
-        w_op = rad_per_s(operating, "operating frequency")
-        w_n = rad_per_s(natural, "natural frequency")
-        if not w_n > 0 or not math.isfinite(w_op) or w_op < 0:
-            raise SheetError(
-                f"the frequencies must be finite with a natural frequency above zero (got {w_op:g} and "
-                f"{w_n:g} rad/s)",
-                where=f"check {name}",
-                do="Check the natural frequency: a model with no spring has none to separate from",
-            )
-        separation = abs(w_op / w_n - 1) * 100
+        separation = separation_percent(name, operating, natural)
         return self.check(name, separation, band * 100, relation=">=", basis=basis, unit="percent")
 
     def figure(self, fig: Any, caption: str) -> Figure:
@@ -556,7 +424,7 @@ class Sheet:
         headers = tuple(str(h) for h in headers)
         shown_rows = []
         for index, row in enumerate(rows, start=1):
-            cells = tuple(_shown(cell) for cell in row)
+            cells = tuple(shown_text(cell) for cell in row)
             if len(cells) != len(headers):
                 raise SheetError(
                     f"row {index} has {len(cells)} cells but there are {len(headers)} headings",
@@ -607,7 +475,7 @@ class Sheet:
             "template": self.template_digest,
             "title": title,
             "inputs": [
-                [rec.name, rec.text, _exact_text(rec.value), rec.si_unit, rec.description, rec.source]
+                [rec.name, rec.text, exact_text(rec.value), rec.si_unit, rec.description, rec.source]
                 for rec in self.inputs.values()
             ],
             "checks": [[c.name, c.relation, repr(c.limit), c.unit, c.basis] for c in self.checks],
@@ -617,55 +485,15 @@ class Sheet:
         return hashlib.sha256(_canonical(payload).encode()).hexdigest()
 
     def record(self) -> dict:
-        """The machine-readable record (inputs, results, checks, fingerprint)."""
-        return {
-            "calckit": __version__,
-            "fingerprint": self.fingerprint,
-            "title_block": asdict(self.title),
-            "inputs": [
-                {
-                    "name": rec.name,
-                    "text": rec.text,
-                    "value": rec.si,
-                    "unit": rec.si_unit,
-                    "description": rec.description,
-                    "source": rec.source,
-                }
-                for rec in self.inputs.values()
-            ],
-            "results": [_result_record(name, value) for name, value in self.results.items()],
-            "checks": [
-                {
-                    "name": c.name,
-                    "value": c.value,
-                    "limit": c.limit,
-                    "relation": c.relation,
-                    "unit": c.unit,
-                    "margin_percent": round(c.margin_percent, 6),
-                    "margin_unit": c.margin_unit,
-                    "verdict": c.verdict,
-                    "basis": c.basis,
-                }
-                for c in self.checks
-            ],
-            "summary": {"checks": len(self.checks), "met": self.checks_met},
-            "derivations": [
-                {
-                    "title": block.title,
-                    "solution": sp.sstr(block.derivation.solution),
-                    "verified": bool(block.derivation.verified),
-                }
-                for block in self.of_type(DerivationBlock)
-            ],
-            "tables": [
-                {"caption": b.caption, "headers": list(b.headers), "rows": [list(r) for r in b.rows]}
-                for b in self.of_type(TableBlock)
-            ],
-            "assumptions": [b.text for b in self.of_type(TextBlock) if b.kind == "assumption"],
-            "references": [b.text for b in self.of_type(TextBlock) if b.kind == "reference"],
-            "notes": [b.text for b in self.of_type(TextBlock) if b.kind == "note"],
-            "caution": self.caution or "",
-        }
+        """The machine-readable record (inputs, results, checks, fingerprint) as its JSON holds it.
+
+        The dictionary of :meth:`to_record`; see :class:`calckit.sheet.SheetRecord`.
+        """
+        return self.to_record().to_dict()
+
+    def to_record(self) -> SheetRecord:
+        """The typed record of the sheet as it stands (:class:`calckit.sheet.SheetRecord`)."""
+        return record_of(self)
 
     # -------------------------------------------------------------- output
     def to_html(self, *, paper: str | None = None) -> str:
@@ -680,7 +508,8 @@ class Sheet:
         return page
 
     def to_json(self) -> str:
-        return json.dumps(self.record(), indent=2, sort_keys=False, ensure_ascii=False) + "\n"
+        """The record as JSON text, as :meth:`save` writes it to ``.json``."""
+        return self.to_record().to_json()
 
     def save(
         self, path: str | os.PathLike, *, overwrite: bool = False, keep_both: bool = False, paper: str = "A4"
@@ -689,9 +518,12 @@ class Sheet:
 
         A file that already holds a sheet with a different fingerprint is not
         replaced unless ``overwrite=True``; with ``keep_both=True`` the new sheet
-        is written alongside as ``name-2.html`` (``-3`` ...). Writes are atomic:
-        a failed save never leaves a file that looks complete. ``paper`` ("A4" or
-        "Letter") sets the page size of a PDF; the HTML prints on either.
+        is written alongside as ``name-2.html`` (``-3`` ...). Every file goes
+        through :func:`calckit.core.files.write_file` (temporary file, fsync,
+        rename; the permissions of a new file, ``0644`` under umask ``022``): a
+        failed save never leaves a file that looks complete, and a file that
+        appears meanwhile is not replaced. ``paper`` ("A4" or "Letter") sets the
+        page size of a PDF; the HTML prints on either.
         """
         path = Path(path)
         suffix = path.suffix.lower()
@@ -702,15 +534,13 @@ class Sheet:
                 do="Use a name ending in .html, .pdf or .json",
             )
         path = self._target(path, overwrite=overwrite, keep_both=keep_both)
-        if suffix == ".json":
-            _atomic_write(path, self.to_json().encode())
-        elif suffix == ".html":
-            _atomic_write(path, self.to_html().encode())
-        else:
+        replace = path.exists()  # only when allowed: same fingerprint, or overwrite=True
+        if suffix == ".pdf":
             from calckit.render.printing import html_to_pdf
 
-            html_to_pdf(self.to_html(paper=paper), path)
-        return path
+            return html_to_pdf(self.to_html(paper=paper), path, overwrite=replace, refuse=_REFUSE)
+        data = self.to_json() if suffix == ".json" else self.to_html()
+        return write_file(path, data.encode("utf-8"), overwrite=replace, refuse=_REFUSE)
 
     def _target(self, path: Path, *, overwrite: bool, keep_both: bool) -> Path:
         if not path.exists() or overwrite:
@@ -732,9 +562,7 @@ class Sheet:
             f"a sheet with fingerprint {found[:12]}" if found else "a file whose fingerprint cannot be read"
         )
         raise OverwriteError(
-            f"the file already holds {held}, built from other inputs",
-            where=str(path),
-            do="Pass overwrite=True to replace it, keep_both=True to write alongside it, or choose another name",
+            f"the file already holds {held}, built from other inputs", where=str(path), do=_REFUSE
         )
 
     # -------------------------------------------------------------- display
@@ -750,78 +578,8 @@ class Sheet:
         )
 
 
-def _exact_text(value: Any) -> str:
-    if hasattr(value, "units"):
-        mag = value.magnitude
-        return f"{sp.sstr(mag) if isinstance(mag, sp.Basic) else repr(mag)} {value.units:~}"
-    if isinstance(value, sp.Basic):
-        return sp.srepr(value)
-    return repr(value)
-
-
-def _result_record(name: str, value: Any) -> dict:
-    si, unit = _si_of(value, name)
-    out = {"name": name, "value": si, "unit": unit, "shown": _shown(value)}
-    if si is None:
-        out["text"] = str(value)
-    return out
-
-
-def _require_real(value: Any, where: str, label: str) -> None:
-    """Refuse what a check cannot compare: None, truth values, complex numbers, symbols."""
-    if isinstance(value, str) or hasattr(value, "units"):
-        return
-    if value is None or isinstance(value, (bool, complex)):
-        ok = False
-    elif isinstance(value, sp.Basic):
-        ok = bool(value.is_number and value.is_real)
-    else:
-        try:
-            float(value)  # numbers of any kind, numpy scalars included
-            ok = True
-        except (TypeError, ValueError):
-            ok = False
-    if not ok:
-        raise SheetError(
-            f"the {label} {value!r} is not a real number or quantity",
-            where=where,
-            do='Give a number, a quantity with its unit (e.g. "0.1 mm"), or substitute numbers for symbols first',
-        )
-
-
-def _same_unit(value: Any, limit: Any, unit: str | None, name: str) -> tuple[float, float, str]:
-    """Bring value and limit to one unit (``unit`` or the limit's) and return magnitudes."""
-    has_v, has_l = hasattr(value, "units"), hasattr(limit, "units")
-    if isinstance(limit, str):
-        limit, has_l = quantity(limit, f"check {name} limit"), True
-    if isinstance(value, str):
-        value, has_v = quantity(value, f"check {name} value"), True
-    if has_v or has_l:
-        if not (has_v and has_l):
-            if unit and unit != "percent":
-                value = value if has_v else Q_(float(value), unit)
-                limit = limit if has_l else Q_(float(limit), unit)
-            else:
-                raise SheetError(
-                    "one of value and limit has a unit and the other has none",
-                    where=f"check {name}",
-                    do="Give both with units, or pass unit=... for the bare number",
-                )
-        target = unit or f"{limit.units}"
-        try:
-            return float(value.to(target).magnitude), float(limit.to(target).magnitude), target
-        except Exception as exc:  # pint DimensionalityError
-            from calckit.errors import UnitsError
-
-            raise UnitsError(
-                f"cannot compare {fmt(value)} with {fmt(limit)}: the dimensions differ",
-                where=f"check {name}",
-                do="Give the value and the limit in compatible units",
-            ) from exc
-    return float(value), float(limit), unit or ""
-
-
 def in_kernel() -> bool:
+    """Whether the code runs in an IPython kernel (a notebook), where a sheet shows each block as added."""
     import sys
 
     ipython = sys.modules.get("IPython")

@@ -1,0 +1,164 @@
+"""The blocks a calculation sheet is made of: frozen records, built by keyword or position.
+
+Each call on a :class:`~calckit.sheet.sheet.Sheet` adds one of these records to
+its list of blocks: the title block, an input, a calculation step, a result, a
+derivation, an acceptance check (with :func:`check_margin`, the one rule for its
+margin), a figure, a table, an assumption, reference or note. Nothing here knows
+how it will be shown (see :mod:`calckit.sheet.html`) or saved (see
+:mod:`calckit.sheet.record`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+__all__ = [
+    "CalcStep",
+    "Check",
+    "DEFAULT_CAUTION",
+    "DerivationBlock",
+    "Figure",
+    "RELATIONS",
+    "ResultLine",
+    "SheetInput",
+    "TableBlock",
+    "TextBlock",
+    "TitleBlock",
+    "check_margin",
+]
+
+DEFAULT_CAUTION = (
+    "The results of this calculation support, and do not replace, the judgment of a qualified "
+    "engineer and the codes and standards that apply locally. Check the inputs against their "
+    "sources and the assumptions against the installation before relying on the results."
+)
+"""The caution every sheet carries unless it is given its own wording."""
+
+RELATIONS = {"<=": "\\le", ">=": "\\ge", "<": "<", ">": ">"}
+"""The relations a check may state, with their LaTeX."""
+
+
+@dataclass(frozen=True)
+class TitleBlock:
+    """The sheet's title block."""
+
+    subject: str
+    project: str = ""
+    number: str = ""
+    revision: str = "A"
+    author: str = ""
+    checker: str = ""
+    date: str = ""
+    approver: str = ""
+
+
+@dataclass(frozen=True)
+class SheetInput:
+    """One input: name, symbol, value as given, SI value, description, source."""
+
+    name: str
+    symbol: str  # LaTeX
+    text: str  # as given, e.g. "250 kg"
+    value: Any  # pint Quantity, number or sympy expression
+    si: float | None
+    si_unit: str
+    description: str
+    source: str
+
+
+@dataclass(frozen=True)
+class CalcStep:
+    """A numbered calculation step: formula, values put through, result."""
+
+    name: str
+    title: str
+    record: Any  # calckit.render.numbers.Substitution
+    reference: str
+
+
+@dataclass(frozen=True)
+class ResultLine:
+    """A result recorded with its value (computed elsewhere, e.g. by an Oscillator)."""
+
+    name: str
+    title: str
+    symbol: str
+    value: Any
+    reference: str
+
+
+@dataclass(frozen=True)
+class DerivationBlock:
+    """A derivation from the engine, shown step by step."""
+
+    title: str
+    derivation: Any  # Derivation or Response
+    level: str
+
+
+@dataclass(frozen=True)
+class Check:
+    """An acceptance check: value against limit, margin in percent, verdict."""
+
+    name: str
+    value: float
+    limit: float
+    relation: str  # "<=", ">=", "<" or ">"
+    unit: str
+    margin_percent: float
+    met: bool
+    basis: str
+    shown_value: str
+    shown_limit: str
+
+    @property
+    def verdict(self) -> str:
+        """``"met"`` or ``"not met"``."""
+        return "met" if self.met else "not met"
+
+    @property
+    def margin_unit(self) -> str:
+        """What the margin is measured in (see :func:`check_margin`)."""
+        return "percentage points" if self.unit == "percent" else "percent of the limit"
+
+    @property
+    def margin_text(self) -> str:
+        """The margin as shown: ``+58.8 %`` of the limit, or ``+665.6 points`` for a percentage."""
+        return f"{self.margin_percent:+.1f} {'points' if self.unit == 'percent' else '%'}"
+
+
+def check_margin(value: float, limit: float, relation: str, unit: str) -> float:
+    """Distance from *value* to *limit*, positive when ``value relation limit`` holds.
+
+    In percent of the limit; for a value that is itself a percentage (``unit ==
+    "percent"``, e.g. a speed separation), in percentage points, so that a margin is
+    never a percent of a percent.
+    """
+    gap = (limit - value) if relation in ("<=", "<") else (value - limit)
+    return gap if unit == "percent" else gap / abs(limit) * 100
+
+
+@dataclass(frozen=True)
+class Figure:
+    """A figure as inline SVG with its caption."""
+
+    caption: str
+    svg: str
+
+
+@dataclass(frozen=True)
+class TableBlock:
+    """A table of values with a caption (e.g. a harmonic table)."""
+
+    caption: str
+    headers: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+
+
+@dataclass(frozen=True)
+class TextBlock:
+    """An assumption, reference or note."""
+
+    kind: str  # "assumption" | "reference" | "note"
+    text: str

@@ -1,0 +1,174 @@
+"""Acceptance checks: a value against its limit, with margin and verdict.
+
+:func:`acceptance_check` makes the :class:`~calckit.sheet.blocks.Check` record a
+sheet adds (``Sheet.check``): it refuses what cannot be compared
+(:func:`require_real`), brings value and limit to one unit (:func:`same_unit`),
+and measures the margin by :func:`~calckit.sheet.blocks.check_margin`, the one
+rule for it. :func:`separation_percent` is how far an operating frequency lies
+from a natural frequency (``Sheet.separation_check``).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import sympy as sp
+
+from calckit.core.units import Q_, angular_frequency, fmt, quantity
+from calckit.errors import SheetError, UnitsError
+from calckit.sheet.blocks import RELATIONS, Check, check_margin
+from calckit.sheet.values import shown_text
+
+__all__ = ["acceptance_check", "require_real", "same_unit", "separation_percent"]
+
+
+def acceptance_check(
+    name: str, value: Any, limit: Any, *, relation: str = "<=", basis: str = "", unit: str | None = None
+) -> Check:
+    """The check ``value relation limit`` as a record, with its margin and verdict.
+
+    Value and limit may be numbers, quantities or text with a unit ("0.1 mm");
+    ``unit`` is the unit they are compared in (by default the limit's).
+
+    Raises
+    ------
+    SheetError
+        No name, an unknown relation, a value or limit that is not a finite real
+        number, or a limit of zero (a margin in percent of it is undefined).
+    UnitsError
+        Value and limit have different dimensions.
+
+    Examples
+    --------
+    >>> acceptance_check("amplitude", Q_(0.08, "mm"), "0.1 mm").margin_text
+    '+20.0 %'
+    """
+    if not isinstance(name, str) or not name.strip():
+        raise SheetError("a check needs a name", where="check", do='Name what is checked, e.g. "amplitude"')
+    if relation not in RELATIONS:
+        raise SheetError(
+            f"unknown relation {relation!r}", where=f"check {name}", do="Use one of <=, >=, <, >"
+        )
+    for label, given in (("value", value), ("limit", limit)):
+        require_real(given, f"check {name}", label)
+    v, lim, unit_text = same_unit(value, limit, unit, name)
+    if not (math.isfinite(v) and math.isfinite(lim)):
+        raise SheetError(
+            f"the {'value' if not math.isfinite(v) else 'limit'} is not a finite number",
+            where=f"check {name}",
+            do="Check the calculation that produced it",
+        )
+    if lim == 0:
+        raise SheetError(
+            "the limit is zero, so a margin in percent is undefined",
+            where=f"check {name}",
+            do="Give a non-zero limit",
+        )
+    margin = check_margin(v, lim, relation, unit_text)
+    if relation in ("<=", "<"):
+        met = v <= lim if relation == "<=" else v < lim
+    else:
+        met = v >= lim if relation == ">=" else v > lim
+    shown_v = shown_text(Q_(v, unit_text) if unit_text else v)
+    shown_l = shown_text(Q_(lim, unit_text) if unit_text else lim)
+    return Check(name, v, lim, relation, unit_text, margin, bool(met), basis, shown_v, shown_l)
+
+
+def separation_percent(name: str, operating: Any, natural: Any) -> float:
+    """``|omega_op / omega_n - 1|`` in percent, for the check *name*; frequencies in any unit or rad/s.
+
+    Raises
+    ------
+    SheetError
+        A frequency is not a real number, or the natural frequency is not above zero.
+
+    Examples
+    --------
+    >>> round(separation_percent("speed", "1480 rpm", "20 Hz"), 2)
+    23.33
+    """
+
+    def rad_per_s(given, label):
+        require_real(given, f"check {name}", label)
+        if isinstance(given, str) or hasattr(given, "units"):
+            where = f"check {name} {label}"
+            return float(angular_frequency(quantity(given, where), where))
+        return float(given)
+
+    w_op = rad_per_s(operating, "operating frequency")
+    w_n = rad_per_s(natural, "natural frequency")
+    if not w_n > 0 or not math.isfinite(w_op) or w_op < 0:
+        raise SheetError(
+            f"the frequencies must be finite with a natural frequency above zero (got {w_op:g} and "
+            f"{w_n:g} rad/s)",
+            where=f"check {name}",
+            do="Check the natural frequency: a model with no spring has none to separate from",
+        )
+    return abs(w_op / w_n - 1) * 100
+
+
+def require_real(value: Any, where: str, label: str) -> None:
+    """Refuse what a check cannot compare: None, truth values, complex numbers, symbols.
+
+    Raises
+    ------
+    SheetError
+        *value* is not a real number, a quantity or text of one.
+    """
+    if isinstance(value, str) or hasattr(value, "units"):
+        return
+    if value is None or isinstance(value, (bool, complex)):
+        ok = False
+    elif isinstance(value, sp.Basic):
+        ok = bool(value.is_number and value.is_real)
+    else:
+        try:
+            float(value)  # numbers of any kind, numpy scalars included
+            ok = True
+        except (TypeError, ValueError):
+            ok = False
+    if not ok:
+        raise SheetError(
+            f"the {label} {value!r} is not a real number or quantity",
+            where=where,
+            do='Give a number, a quantity with its unit (e.g. "0.1 mm"), or substitute numbers for symbols first',
+        )
+
+
+def same_unit(value: Any, limit: Any, unit: str | None, name: str) -> tuple[float, float, str]:
+    """Bring value and limit of the check *name* to one unit (``unit`` or the limit's); return magnitudes.
+
+    Raises
+    ------
+    SheetError
+        Only one of the two has a unit and ``unit`` does not say what the bare one is in.
+    UnitsError
+        The two have different dimensions.
+    """
+    has_v, has_l = hasattr(value, "units"), hasattr(limit, "units")
+    if isinstance(limit, str):
+        limit, has_l = quantity(limit, f"check {name} limit"), True
+    if isinstance(value, str):
+        value, has_v = quantity(value, f"check {name} value"), True
+    if has_v or has_l:
+        if not (has_v and has_l):
+            if unit and unit != "percent":
+                value = value if has_v else Q_(float(value), unit)
+                limit = limit if has_l else Q_(float(limit), unit)
+            else:
+                raise SheetError(
+                    "one of value and limit has a unit and the other has none",
+                    where=f"check {name}",
+                    do="Give both with units, or pass unit=... for the bare number",
+                )
+        target = unit or f"{limit.units}"
+        try:
+            return float(value.to(target).magnitude), float(limit.to(target).magnitude), target
+        except Exception as exc:  # pint DimensionalityError
+            raise UnitsError(
+                f"cannot compare {fmt(value)} with {fmt(limit)}: the dimensions differ",
+                where=f"check {name}",
+                do="Give the value and the limit in compatible units",
+            ) from exc
+    return float(value), float(limit), unit or ""
