@@ -17,6 +17,7 @@ import sympy as sp
 
 from calckit.core.units import Q_, angular_frequency, fmt, quantity
 from calckit.errors import SheetError, UnitsError
+from calckit.physics.criteria import speed_separation
 from calckit.sheet.blocks import RELATIONS, Check, check_margin
 from calckit.sheet.values import shown_text
 
@@ -105,7 +106,7 @@ def separation_percent(name: str, operating: Any, natural: Any) -> float:
             where=f"check {name}",
             do="Check the natural frequency: a model with no spring has none to separate from",
         )
-    return abs(w_op / w_n - 1) * 100
+    return speed_separation(w_op, w_n) * 100
 
 
 def require_real(value: Any, where: str, label: str) -> None:

@@ -47,6 +47,7 @@ from calckit.core.files import write_file
 from calckit.core.rounding import as_shown
 from calckit.core.units import fmt, quantity
 from calckit.errors import OverwriteError, SheetError
+from calckit.physics.criteria import SEPARATION_BAND, SEPARATION_BASIS
 from calckit.sheet.blocks import (
     DEFAULT_CAUTION,
     CalcStep,
@@ -389,9 +390,8 @@ class Sheet:
         operating: Any,
         natural: Any,
         *,
-        band: float = 0.20,
-        basis: str = "common practice, no source: keep the operating frequency outside about "
-        "+/-20 % of a natural frequency",
+        band: float = SEPARATION_BAND,
+        basis: str = SEPARATION_BASIS,
     ) -> Check:
         """Check that an operating frequency is at least ``band`` away from a natural frequency.
 
