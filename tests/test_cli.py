@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 
-from calckit.workflow import build as workflow
+import calckit.workflow as workflow
 from calckit.workflow import cli
 from calckit.workflow import diff as diffing
 

@@ -18,13 +18,12 @@ import nbformat
 import pytest
 
 from calckit.core.units import fmt_number
-from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
+from calckit.errors import BuildError, CalcError, CellError, InputsError, OverwriteError
 from calckit.sheet.sheet import existing_fingerprint
-from calckit.workflow.build import (
+from calckit.workflow import (
     INPUTS_TAG,
     PARAMETERS_TAG,
     SAVE_TAG,
-    CellError,
     build_sheet,
     bundled_templates,
     demos,
@@ -261,7 +260,7 @@ class TestBuildSheet:
     def test_pdf_print_dates_do_not_count(self, tmp_path):
         """Two prints of one sheet differ only in their dates and count as the same file; a signed PDF
         (bytes appended) does not."""
-        from calckit.workflow.build import _same_file
+        from calckit.workflow.build import same_file as _same_file
 
         head = b"%PDF-1.4\n1 0 obj\n<</Producer (Skia/PDF m156)\n"
         first, second, signed = tmp_path / "a.pdf", tmp_path / "b.pdf", tmp_path / "c.pdf"
