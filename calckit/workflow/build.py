@@ -29,7 +29,9 @@ finished, after the template has run and before anything is moved into the
 folder. Bytes, and not the fingerprint alone: an equal fingerprint says the
 calculation is the same, not that the files there are the ones a build wrote.
 
-Every file lands through :func:`calckit.core.files.write_file`.
+Every file lands through :func:`calckit.core.files.write_file` (whole, with the
+permissions of a new file under the umask); a file of the sheet that appears in
+the output folder while the build runs is refused, not replaced.
 
 Examples
 --------
