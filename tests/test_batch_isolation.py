@@ -24,7 +24,7 @@ from pathlib import Path
 import nbformat
 import pytest
 
-from calckit.workflow.build import PARAMETERS_TAG, build_sheet, bundled_templates, run_batch
+from calckit.workflow import PARAMETERS_TAG, build_sheet, bundled_templates, run_batch
 
 EXAMPLE = Path(__file__).parent.parent / "examples" / "harrow_creek_p101.toml"
 

@@ -17,11 +17,13 @@ from pathlib import Path
 
 import pytest
 
-from calckit.workflow import build as workflow
+import calckit.workflow as workflow
 from calckit.workflow import cli
 from calckit.workflow import diff as diffing
 
 ROOT = Path(__file__).parent.parent
+DATA = Path(__file__).parent / "data"
+REPRODUCE = "import calckit as ck; ck.Oscillator(1, 0, 4).response('cos(2*t)')"
 EXAMPLE = ROOT / "examples" / "harrow_creek_p101.toml"
 TEMPLATE = "single_mass_harmonic"
 INPUT_NAMES = ", ".join(workflow.load_template(TEMPLATE).inputs)
@@ -128,6 +130,10 @@ def runs(tmp_path_factory):
     )
     jobs["demo"] = ("demo", "--out", "demo")
     jobs["slow"] = ("build", TEMPLATE, "--inputs", "slow.toml", "--out", "slow")
+    (root / "internal.toml").write_text('subject = "x"\n', encoding="utf-8")
+    jobs["internal_in_cell"] = (
+        "build", str(DATA / "internal_error.ipynb"), "--inputs", "internal.toml", "--out", "internal",
+    )  # fmt: skip
     jobs["missing_template"] = ("build", "no_such_template", "--inputs", "slow.toml", "--out", "x")
     with open(root / "cases.csv", "w", newline="", encoding="utf-8") as handle:
         writer = csv.writer(handle)
@@ -193,6 +199,79 @@ class TestBadInputs:
             f"bundled template. Give the path of a .ipynb file or a bundled template's name "
             f"({', '.join(workflow.bundled_templates())}).\n"
         )
+
+
+class TestExitCodes:
+    def test_internal_error_in_a_template_cell(self, runs):
+        """calckit's InternalError raised in a template's cell exits with 1 (a defect, not bad input)."""
+        root, done, _ = runs
+        run = done["internal_in_cell"]
+        _no_traceback(run)
+        assert (run.returncode, run.stdout) == (1, "")
+        assert run.stderr.startswith("calckit build: error: internal_error.ipynb, cell 3, line 2 ")
+        assert run.stderr.endswith(
+            "InternalError: self-check: the particular solution does not satisfy the equation. This is a "
+            "defect of calckit, not of your input; please report it with this line: import calckit as ck; "
+            "ck.Oscillator(1, 0, 4).response('cos(2*t)').\n"
+        )
+        assert not (root / "internal").exists()
+
+    @pytest.mark.parametrize(
+        ("command", "module", "function"),
+        [
+            (["build", TEMPLATE, "--inputs", "in.toml", "--out", "out"], "build", "build_sheet"),
+            (["new", TEMPLATE, "calc.ipynb"], "starter", "new_calculation"),
+            (["batch", TEMPLATE, "--cases", "c.csv", "--out", "out"], "batch", "run_batch"),
+        ],
+    )
+    def test_internal_error_raised_directly(self, monkeypatch, capsys, command, module, function):
+        """An InternalError out of the function a command calls exits with 1 and says it is calckit's."""
+        import functools
+        import importlib
+
+        from calckit.errors import InternalError
+
+        held = importlib.import_module(f"calckit.workflow.{module}")
+
+        @functools.wraps(getattr(held, function))  # the command's help is read from the docstring
+        def broken(*args, **kwargs):
+            raise InternalError("the residual check failed", reproduce=REPRODUCE, where="solve")
+
+        monkeypatch.setattr(held, function, broken)
+        assert cli.main(command) == 1
+        captured = capsys.readouterr()
+        assert (captured.out, captured.err) == (
+            "",
+            f"calckit {command[0]}: internal error: solve: the residual check failed. This is a defect of "
+            f"calckit, not of your input; please report it with this line: {REPRODUCE}.\n",
+        )
+
+    def test_bad_input_raised_directly(self, monkeypatch, capsys):
+        """A calckit error about the input, out of the same function, still exits with 2."""
+        import functools
+
+        from calckit.errors import InputsError
+        from calckit.workflow import build
+
+        @functools.wraps(build.build_sheet)
+        def refused(*args, **kwargs):
+            raise InputsError("must be greater than zero, got 0 kg", where="p101.toml, line 16, mass")
+
+        monkeypatch.setattr(build, "build_sheet", refused)
+        assert cli.main(["build", TEMPLATE, "--inputs", "p101.toml", "--out", "out"]) == 2
+        assert capsys.readouterr().err == (
+            "calckit build: error: p101.toml, line 16, mass: must be greater than zero, got 0 kg.\n"
+        )
+
+    @pytest.mark.parametrize("command", [[], ["build"], ["batch"], ["demo"], ["diff"], ["new"]])
+    def test_help_says_the_exit_codes(self, capsys, command):
+        """The help of the command and of each sub-command states the exit codes."""
+        with pytest.raises(SystemExit):
+            cli.main([*command, "--help"])
+        out = " ".join(capsys.readouterr().out.split())
+        assert " ".join(cli.EXIT_CODES.split()) in out
+        assert "1 a template cell that failed on another error" in out
+        assert "a defect of calckit (an internal error" in out
 
 
 class TestDemo:

@@ -232,8 +232,7 @@ class TestKeep:
         assert "<td>mass</td><td>1850 kg</td><td>2000 kg</td>" in status
 
     def test_direct_values_give_a_full_inputs_file(self, tmp_path):
-        from calckit.workflow.build import load_template
-        from calckit.workflow.inputs import check_keys, read_inputs
+        from calckit.workflow import check_keys, load_template, read_inputs
 
         ex = explore(
             mass="2 t",
@@ -673,7 +672,7 @@ def test_example_notebook_runs():
         warnings.simplefilter("ignore")
         import nbformat
         from nbclient import NotebookClient
-        from calckit.workflow.build import _kernel_env, _kernel_manager
+        from calckit.workflow.kernels import kernel_env as _kernel_env, kernel_manager as _kernel_manager
         nb = nbformat.read({str(NOTEBOOK)!r}, as_version=4)
         NotebookClient(nb, timeout=300, kernel_name="python3", km=_kernel_manager(),
                        resources={{"metadata": {{"path": {str(NOTEBOOK.parent)!r}}}}}).execute(env=_kernel_env())

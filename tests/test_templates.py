@@ -21,8 +21,8 @@ import pytest
 import sympy as sp
 
 from calckit.core.units import angular_frequency, quantity, to_si
-from calckit.errors import CalcError
-from calckit.workflow.build import CellError, build_sheet, bundled_templates, demos
+from calckit.errors import CalcError, CellError
+from calckit.workflow import build_sheet, bundled_templates, demos
 from calckit.workflow.inputs import read_inputs
 
 pytestmark = pytest.mark.slow

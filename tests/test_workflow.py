@@ -18,13 +18,12 @@ import nbformat
 import pytest
 
 from calckit.core.units import fmt_number
-from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
+from calckit.errors import BuildError, CalcError, CellError, InputsError, OverwriteError
 from calckit.sheet.sheet import existing_fingerprint
-from calckit.workflow.build import (
+from calckit.workflow import (
     INPUTS_TAG,
     PARAMETERS_TAG,
     SAVE_TAG,
-    CellError,
     build_sheet,
     bundled_templates,
     demos,
@@ -261,7 +260,7 @@ class TestBuildSheet:
     def test_pdf_print_dates_do_not_count(self, tmp_path):
         """Two prints of one sheet differ only in their dates and count as the same file; a signed PDF
         (bytes appended) does not."""
-        from calckit.workflow.build import _same_file
+        from calckit.workflow.build import same_file as _same_file
 
         head = b"%PDF-1.4\n1 0 obj\n<</Producer (Skia/PDF m156)\n"
         first, second, signed = tmp_path / "a.pdf", tmp_path / "b.pdf", tmp_path / "c.pdf"
@@ -317,6 +316,32 @@ class TestBuildSheet:
         )
         assert info.value.user_error
         assert not (tmp_path / "out").exists()
+
+    def test_internal_error_in_a_cell(self, tmp_path):
+        """calckit's InternalError raised in a template cell is a defect of calckit, not the user's error."""
+        inputs = tmp_path / "in.toml"
+        inputs.write_text('subject = "x"\n')
+        with pytest.raises(CellError) as info:
+            build_sheet(DATA / "internal_error.ipynb", inputs, tmp_path / "out")
+        error = info.value
+        assert (error.ename, error.cell, error.line, error.user_error) == ("InternalError", 3, 2, False)
+        assert str(error).startswith("internal_error.ipynb, cell 3, line 2 'raise ck.InternalError(")
+        assert str(error).endswith(
+            "InternalError: self-check: the particular solution does not satisfy the equation. This is a "
+            "defect of calckit, not of your input; please report it with this line: import calckit as ck; "
+            "ck.Oscillator(1, 0, 4).response('cos(2*t)')."
+        )
+        assert not (tmp_path / "out").exists()
+
+    def test_file_permissions(self, built):
+        """The sheet's files are readable by all, as a new file under the umask is (0644 under 022)."""
+        import os
+
+        umask = os.umask(0)
+        os.umask(umask)
+        _, base, _ = built
+        for path in base.files:
+            assert path.stat().st_mode & 0o777 == 0o666 & ~umask, path
 
 
 class TestDiff:
@@ -889,6 +914,70 @@ class TestNewCalculation:
             str(info.value)
             == f"{notebook}: the file exists already. Choose another name; nothing was written."
         )
+
+    def test_inputs_text_reads_back(self):
+        """The starter inputs file of every bundled template reads back (tomllib) to the template's values."""
+        import tomllib
+
+        from calckit.workflow import inputs_text
+
+        for name in bundled_templates():
+            template = load_template(name)
+            data = tomllib.loads(inputs_text(template))
+            read = {**{k: v for k, v in data.items() if k != "sheet"}, **data.get("sheet", {})}
+            assert read == dict(template.parameters), name
+            assert list(read) == [n for n in template.parameters if n not in TITLE_FIELDS] + [
+                n for n in template.parameters if n in TITLE_FIELDS
+            ]
+
+    def test_inputs_file_appearing_meanwhile(self, tmp_path, monkeypatch):
+        """An inputs file that appears while the notebook is written is not replaced, and the notebook is
+        taken back: nothing was written, as the message says."""
+        from calckit.workflow import starter
+
+        target = tmp_path / "p103.toml"
+        real = starter.inputs_text
+
+        def racing(template):
+            target.write_text("# someone else's\n")
+            return real(template)
+
+        monkeypatch.setattr(starter, "inputs_text", racing)
+        with pytest.raises(OverwriteError) as info:
+            new_calculation(TEMPLATE, tmp_path / "p103")
+        assert (
+            str(info.value) == f"{target}: the file exists already. Choose another name; nothing was written."
+        )
+        assert target.read_text() == "# someone else's\n"
+        assert not (tmp_path / "p103.ipynb").exists()
+
+
+class TestFolderNames:
+    def test_table_is_true(self):
+        """Each name the folder gives lazily is in the __all__ of the module the table names."""
+        import importlib
+
+        import calckit.workflow as folder
+
+        for name, module in folder._NAMES.items():
+            held = importlib.import_module(module)
+            assert name in held.__all__, (name, module)
+            assert getattr(folder, name) is getattr(held, name)
+        assert sorted(folder.__all__) == sorted(folder._NAMES)
+        with pytest.raises(AttributeError):
+            folder.no_such_name  # noqa: B018
+
+    def test_modules_are_small(self):
+        """Each module of the folder has a docstring and stays under about 600 lines."""
+        import importlib
+
+        folder = Path(__file__).parent.parent / "calckit" / "workflow"
+        for path in sorted(folder.glob("*.py")):
+            module = importlib.import_module(
+                f"calckit.workflow.{path.stem}" if path.stem != "__init__" else "calckit.workflow"
+            )
+            assert module.__doc__ and module.__doc__.strip(), path.name
+            assert len(path.read_text(encoding="utf-8").splitlines()) <= 610, path.name
 
 
 def test_errors_are_calc_errors():

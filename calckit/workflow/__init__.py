@@ -1,7 +1,23 @@
 """Re-running calculations: inputs files, templates, kernels, build, batch, diff, the command line.
 
-Kept light: nothing here imports sympy, pint or numpy at import time, so the
-command line starts quickly and a build starts its kernel first.
+One module per job:
+
+- :mod:`~calckit.workflow.inputs`: inputs files, the parameters cell's values, safe expressions;
+- :mod:`~calckit.workflow.templates`: the template contract, :func:`load_template`, the bundled templates;
+- :mod:`~calckit.workflow.kernels` and :mod:`~calckit.workflow.kernel_state`: the kernel a template runs
+  in, its warm-up and its reset between cases;
+- :mod:`~calckit.workflow.build`: one sheet, :func:`build_sheet`, and the refusals that keep a user's files;
+- :mod:`~calckit.workflow.cases` and :mod:`~calckit.workflow.batch`: a table of cases, :func:`run_batch`
+  and its summary;
+- :mod:`~calckit.workflow.starter`: ``calckit new`` and ``calckit demo``;
+- :mod:`~calckit.workflow.diff`: what changed between two built sheets;
+- :mod:`~calckit.workflow.cli`: the ``calckit`` command.
+
+The folder's public names below load on first use (PEP 562), so that other
+folders import them from here (``from calckit.workflow import load_template``)
+without knowing which module holds them. Kept light: nothing here imports
+sympy, pint or numpy at import time, so the command line starts quickly and a
+build starts its kernel first.
 """
 
 import importlib
@@ -12,11 +28,26 @@ _NAMES = {
     "check_keys": "calckit.workflow.inputs",
     "read_inputs": "calckit.workflow.inputs",
     "InputsFile": "calckit.workflow.inputs",
-    "load_template": "calckit.workflow.build",
-    "Template": "calckit.workflow.build",
+    "PARAMETERS_TAG": "calckit.workflow.templates",
+    "INPUTS_TAG": "calckit.workflow.templates",
+    "SAVE_TAG": "calckit.workflow.templates",
+    "Template": "calckit.workflow.templates",
+    "load_template": "calckit.workflow.templates",
+    "bundled_templates": "calckit.workflow.templates",
+    "BuildResult": "calckit.workflow.build",
     "build_sheet": "calckit.workflow.build",
-    "run_batch": "calckit.workflow.build",
+    "save_built_sheet": "calckit.workflow.build",
+    "Case": "calckit.workflow.cases",
+    "read_cases": "calckit.workflow.cases",
+    "CaseResult": "calckit.workflow.batch",
+    "BatchResult": "calckit.workflow.batch",
+    "run_batch": "calckit.workflow.batch",
+    "inputs_text": "calckit.workflow.starter",
+    "new_calculation": "calckit.workflow.starter",
+    "demos": "calckit.workflow.starter",
+    "run_demo": "calckit.workflow.starter",
     "diff_sheets": "calckit.workflow.diff",
+    "read_record": "calckit.workflow.diff",
 }
 
 
@@ -26,6 +57,10 @@ def __getattr__(name: str):
     value = getattr(importlib.import_module(_NAMES[name]), name)
     globals()[name] = value
     return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_NAMES))
 
 
 __all__ = sorted(_NAMES)

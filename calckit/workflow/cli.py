@@ -1,4 +1,4 @@
-"""The ``calckit`` command line: a thin layer over :mod:`calckit.workflow.build` and :mod:`calckit.workflow.diff`.
+"""The ``calckit`` command line: a thin layer over the workflow's modules (build, batch, starter, diff).
 
 Commands
 --------
@@ -13,12 +13,26 @@ Commands
 ``calckit new TEMPLATE DEST``
     Copy a bundled template (and an inputs file of its values) to start a calculation.
 
-Help texts are the library's docstrings. Exit codes: 0 done; 2 bad input (the
-message names the file, the key and the line where known), a refused overwrite,
-or a template cell that failed on a calckit error; 1 a template cell that
-failed on another error, a batch in which some case failed (the summary is
-written), or an internal error. Errors are one line on stderr, never a
-traceback.
+Help texts are the library's docstrings.
+
+Exit codes
+----------
+0
+    Done.
+2
+    Bad input: the message names the file, the key and the line where known; a
+    refused overwrite; or a template cell that failed on one of calckit's errors
+    about the input (``CellError.user_error``).
+1
+    A template cell that failed on another error (the template's own), a batch
+    in which some case failed (the summary is written), or a defect of calckit:
+    an :class:`~calckit.errors.InternalError`, raised directly or in a template's
+    cell, or any other unexpected error. The message then says so and carries a
+    line to report.
+130
+    Interrupted.
+
+Errors are one line on stderr, never a traceback.
 """
 
 from __future__ import annotations
@@ -36,8 +50,9 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 
 from calckit._version import __version__
-from calckit.errors import CalcError
-from calckit.workflow import build as workflow
+from calckit.core.files import write_text
+from calckit.errors import CalcError, CellError, InternalError, OverwriteError
+from calckit.workflow import batch, build, starter
 
 __all__ = ["main", "parser"]
 
@@ -96,12 +111,23 @@ def _documented(module: str, name: str) -> Callable | types.SimpleNamespace:
     return getattr(importlib.import_module(module), name)
 
 
+#: The exit codes, as the help of every command shows them.
+EXIT_CODES = (
+    "Exit codes: 0 done; 2 bad input, a refused overwrite, or a template cell that failed on one of "
+    "calckit's errors about the input; 1 a template cell that failed on another error, a batch in which "
+    "some case failed (the summary is written), or a defect of calckit (an internal error, also one raised "
+    "in a template cell: the message carries a line to report); 130 interrupted."
+)
+
+
 def parser() -> argparse.ArgumentParser:
     """The argument parser of the ``calckit`` command."""
     top = argparse.ArgumentParser(
         prog="calckit",
         description="Build, compare and batch-run forced-vibration calculation sheets from template notebooks.",
-        epilog="Run 'calckit COMMAND --help' for a command's options. Start with: calckit demo --out demo",
+        epilog="Run 'calckit COMMAND --help' for a command's options. Start with: calckit demo --out demo\n\n"
+        + textwrap.fill(EXIT_CODES, 78),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     top.add_argument("--version", action="version", version=f"calckit {__version__}")
     commands = top.add_subparsers(dest="command", metavar="COMMAND", required=True)
@@ -111,20 +137,23 @@ def parser() -> argparse.ArgumentParser:
             name,
             help=_summary(func),
             description=_description(func),
+            epilog=textwrap.fill(EXIT_CODES, 78),
             formatter_class=argparse.RawDescriptionHelpFormatter,
         )
 
-    demo = command("demo", workflow.run_demo)
-    demo.add_argument("--out", default="calckit-demo", metavar="DIR", help=_param(workflow.run_demo, "out"))
-    demo.add_argument("--pdf", action="store_true", help=_param(workflow.run_demo, "pdf"))
-    demo.add_argument("--overwrite", action="store_true", help=_param(workflow.run_demo, "overwrite"))
+    demo = command("demo", starter.run_demo)
+    demo.add_argument("--out", default="calckit-demo", metavar="DIR", help=_param(starter.run_demo, "out"))
+    demo.add_argument("--pdf", action="store_true", help=_param(starter.run_demo, "pdf"))
+    demo.add_argument("--overwrite", action="store_true", help=_param(starter.run_demo, "overwrite"))
 
-    build = command("build", workflow.build_sheet)
-    build.add_argument("template", metavar="TEMPLATE", help=_param(workflow.build_sheet, "template"))
-    build.add_argument("--inputs", required=True, metavar="FILE", help=_param(workflow.build_sheet, "inputs"))
-    build.add_argument("--out", required=True, metavar="DIR", help=_param(workflow.build_sheet, "out"))
-    build.add_argument("--pdf", action="store_true", help=_param(workflow.build_sheet, "pdf"))
-    build.add_argument("--overwrite", action="store_true", help=_param(workflow.build_sheet, "overwrite"))
+    build_cmd = command("build", build.build_sheet)
+    build_cmd.add_argument("template", metavar="TEMPLATE", help=_param(build.build_sheet, "template"))
+    build_cmd.add_argument(
+        "--inputs", required=True, metavar="FILE", help=_param(build.build_sheet, "inputs")
+    )
+    build_cmd.add_argument("--out", required=True, metavar="DIR", help=_param(build.build_sheet, "out"))
+    build_cmd.add_argument("--pdf", action="store_true", help=_param(build.build_sheet, "pdf"))
+    build_cmd.add_argument("--overwrite", action="store_true", help=_param(build.build_sheet, "overwrite"))
 
     diff_sheets = _documented("calckit.workflow.diff", "diff_sheets")
     diff = command("diff", diff_sheets)
@@ -141,20 +170,20 @@ def parser() -> argparse.ArgumentParser:
         help="Replace FILE of --html if it exists (never a compared sheet).",
     )
 
-    batch = command("batch", workflow.run_batch)
-    batch.add_argument("template", metavar="TEMPLATE", help=_param(workflow.run_batch, "template"))
-    batch.add_argument("--cases", required=True, metavar="FILE", help=_param(workflow.run_batch, "cases"))
-    batch.add_argument("--out", required=True, metavar="DIR", help=_param(workflow.run_batch, "out"))
-    batch.add_argument("--inputs", metavar="FILE", help=_param(workflow.run_batch, "inputs"))
-    batch.add_argument(
-        "--workers", type=_positive_int, metavar="N", help=_param(workflow.run_batch, "workers")
+    batch_cmd = command("batch", batch.run_batch)
+    batch_cmd.add_argument("template", metavar="TEMPLATE", help=_param(batch.run_batch, "template"))
+    batch_cmd.add_argument("--cases", required=True, metavar="FILE", help=_param(batch.run_batch, "cases"))
+    batch_cmd.add_argument("--out", required=True, metavar="DIR", help=_param(batch.run_batch, "out"))
+    batch_cmd.add_argument("--inputs", metavar="FILE", help=_param(batch.run_batch, "inputs"))
+    batch_cmd.add_argument(
+        "--workers", type=_positive_int, metavar="N", help=_param(batch.run_batch, "workers")
     )
-    batch.add_argument("--pdf", action="store_true", help=_param(workflow.run_batch, "pdf"))
-    batch.add_argument("--overwrite", action="store_true", help=_param(workflow.run_batch, "overwrite"))
+    batch_cmd.add_argument("--pdf", action="store_true", help=_param(batch.run_batch, "pdf"))
+    batch_cmd.add_argument("--overwrite", action="store_true", help=_param(batch.run_batch, "overwrite"))
 
-    new = command("new", workflow.new_calculation)
-    new.add_argument("template", metavar="TEMPLATE", help=_param(workflow.new_calculation, "template"))
-    new.add_argument("dest", metavar="DEST", help=_param(workflow.new_calculation, "dest"))
+    new = command("new", starter.new_calculation)
+    new.add_argument("template", metavar="TEMPLATE", help=_param(starter.new_calculation, "template"))
+    new.add_argument("dest", metavar="DEST", help=_param(starter.new_calculation, "dest"))
     return top
 
 
@@ -168,7 +197,7 @@ def _positive_int(text: str) -> int:
     return value
 
 
-def _print_build(result: workflow.BuildResult, heading: str) -> None:
+def _print_build(result: build.BuildResult, heading: str) -> None:
     summary = result.record.get("summary", {})
     checks = summary.get("checks", 0)
     met = summary.get("met", 0)
@@ -181,7 +210,7 @@ def _print_build(result: workflow.BuildResult, heading: str) -> None:
 
 
 def _run_demo(args: argparse.Namespace) -> int:
-    built = workflow.run_demo(args.out, pdf=args.pdf, overwrite=args.overwrite)
+    built = starter.run_demo(args.out, pdf=args.pdf, overwrite=args.overwrite)
     for demo, result in built:
         _print_build(result, f"Built demo {demo.name} ({demo.template} with {demo.inputs.name})")
     if built:
@@ -190,9 +219,7 @@ def _run_demo(args: argparse.Namespace) -> int:
 
 
 def _run_build(args: argparse.Namespace) -> int:
-    result = workflow.build_sheet(
-        args.template, args.inputs, args.out, pdf=args.pdf, overwrite=args.overwrite
-    )
+    result = build.build_sheet(args.template, args.inputs, args.out, pdf=args.pdf, overwrite=args.overwrite)
     _print_build(result, f"Built {Path(args.template).stem} from {Path(args.inputs).name}")
     return 0
 
@@ -208,16 +235,13 @@ def _run_diff(args: argparse.Namespace) -> int:
     print(f"     with {report.new}")
     print(report.text())
     if path is not None:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        workflow.write_text_file(path, report.html(), overwrite=args.overwrite)
+        write_text(path, report.html(), overwrite=args.overwrite, refuse=_REPORT_EXISTS)
         print(f"Report written to {path}")
     return 0
 
 
 def _check_report_target(path: Path, report, *, overwrite: bool) -> None:
     """The --html file of diff: not a folder, not a file of the sheets compared, new unless --overwrite."""
-    from calckit.errors import OverwriteError
-
     if path.is_dir():
         raise OverwriteError(
             "the report's file is a folder", where=str(path), do="Give a file name ending in .html"
@@ -238,12 +262,15 @@ def _check_report_target(path: Path, report, *, overwrite: bool) -> None:
             raise OverwriteError(
                 "the file exists already",
                 where=str(path),
-                do="Give another file for --html, or pass --overwrite to replace it; nothing was written",
+                do=_REPORT_EXISTS,
             )
 
 
+_REPORT_EXISTS = "Give another file for --html, or pass --overwrite to replace it; nothing was written"
+
+
 def _run_batch(args: argparse.Namespace) -> int:
-    def progress(done: int, total: int, case: workflow.CaseResult) -> None:
+    def progress(done: int, total: int, case: batch.CaseResult) -> None:
         if case.ok:
             summary = (case.record or {}).get("summary", {})
             what = f"built, {summary.get('met', 0)} of {summary.get('checks', 0)} checks met"
@@ -251,7 +278,7 @@ def _run_batch(args: argparse.Namespace) -> int:
             what = f"FAILED: {case.message}"
         print(f"[{done}/{total}] {case.name}: {what} ({case.seconds:.1f} s)", file=sys.stderr, flush=True)
 
-    result = workflow.run_batch(
+    result = batch.run_batch(
         args.template,
         args.cases,
         args.out,
@@ -262,16 +289,14 @@ def _run_batch(args: argparse.Namespace) -> int:
         progress=progress,
     )
     failed = len(result.failed)
-    print(
-        f"{workflow._count(len(result.cases), 'case')}: {len(result.cases) - failed} built, {failed} failed"
-    )
+    print(f"{batch.counted(len(result.cases), 'case')}: {len(result.cases) - failed} built, {failed} failed")
     print(f"  summary: {result.summary_html}")
     print(f"           {result.summary_csv}")
     return 1 if failed else 0
 
 
 def _run_new(args: argparse.Namespace) -> int:
-    notebook, inputs = workflow.new_calculation(args.template, args.dest)
+    notebook, inputs = starter.new_calculation(args.template, args.dest)
     print(f"Wrote {notebook} and {inputs}.")
     print(f"Edit the inputs, then: calckit build {notebook} --inputs {inputs} --out built/{notebook.stem}")
     return 0
@@ -285,9 +310,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = parser().parse_args(argv)
     try:
         return _COMMANDS[args.command](args)
-    except workflow.CellError as exc:
+    except CellError as exc:  # a template's cell failed: the input's fault, the template's or calckit's
         print(f"calckit {args.command}: error: {exc}", file=sys.stderr)
         return 2 if exc.user_error else 1
+    except InternalError as exc:  # a defect of calckit, never "bad input"
+        print(f"calckit {args.command}: internal error: {exc}", file=sys.stderr)
+        return 1
     except CalcError as exc:
         print(f"calckit {args.command}: error: {exc}", file=sys.stderr)
         return 2

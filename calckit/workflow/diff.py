@@ -367,9 +367,14 @@ def _record_path(path: Path) -> Path:
     )
 
 
+def _record_json(path: Path) -> Any:
+    """A record file's content (the one place diff reads one)."""
+    return json.loads(path.read_text(encoding="utf-8"))
+
+
 def _is_record(path: Path) -> bool:
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
+        data = _record_json(path)
     except (OSError, ValueError):
         return False
     return isinstance(data, dict) and "fingerprint" in data
@@ -388,7 +393,7 @@ def read_record(path: str | os.PathLike) -> dict:
         raise InputsError("no such file or folder", where=str(path), do="Check the path")
     record_path = _record_path(path)
     try:
-        data = json.loads(record_path.read_text(encoding="utf-8"))
+        data = _record_json(record_path)
     except FileNotFoundError:
         raise InputsError("no such file", where=str(record_path), do="Check the path") from None
     except (OSError, UnicodeDecodeError, ValueError) as exc:

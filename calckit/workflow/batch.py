@@ -1,0 +1,387 @@
+"""Batches: one sheet per case of a table, run in parallel, and a summary of them all.
+
+:func:`run_batch` builds one sheet per case of a table into ``<out>/<case>/``
+and writes ``summary.csv`` and ``summary.html``; a summary already in the
+folder (another batch's, or one the user edited) is refused before any case
+runs unless ``overwrite=True``. Every case is dispatched
+through one :class:`concurrent.futures.Executor`: by default a
+:class:`~concurrent.futures.ProcessPoolExecutor` (processes started by
+*spawn*, one per available core, at most one per case). Any object with the
+same ``submit`` interface whose futures work with
+:func:`concurrent.futures.as_completed` can be passed instead, for example a
+Dask cluster's executor::
+
+    from dask.distributed import Client
+    client = Client("tcp://scheduler:8786")
+    run_batch("single_mass_harmonic", "cases.csv", "built/", executor=client.get_executor())
+
+The workers must see the template, the inputs and the output folder at the same
+paths (a shared file system) and have calckit and ipykernel installed. A case
+that fails is recorded in the summary with its message; the others go on. Each
+worker (process, or thread of one) keeps one kernel for the cases it runs.
+
+How a worker keeps its kernel from case to case, and why a case cannot see
+the one before it, is said in :mod:`calckit.workflow.kernels` and
+:mod:`calckit.workflow.kernel_state`.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures as cf
+import csv
+import io
+import multiprocessing
+import os
+import time
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from calckit.core.files import write_text
+from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
+from calckit.workflow.build import (
+    CELL_TIMEOUT_S,
+    build_in_kernel,
+    check_out_folder,
+    held_fingerprint,
+    prepared_values,
+)
+from calckit.workflow.cases import read_cases
+from calckit.workflow.kernels import loop_running, run_in_kept_kernel, run_sync
+from calckit.workflow.templates import Template, load_template
+
+__all__ = ["CaseResult", "BatchResult", "default_workers", "run_batch", "counted"]
+
+
+@dataclass(frozen=True)
+class CaseResult:
+    """How one case went.
+
+    Attributes
+    ----------
+    name : str
+    ok : bool
+        The sheet was built.
+    folder : str
+        The case's output folder.
+    message : str
+        The error, for a failed case.
+    record : dict or None
+        The sheet's JSON record, for a built case.
+    seconds : float
+    """
+
+    name: str
+    ok: bool
+    folder: str
+    message: str = ""
+    record: dict | None = field(default=None, repr=False)
+    seconds: float = 0.0
+
+    @property
+    def status(self) -> str:
+        """``"built"`` or ``"failed"``."""
+        return "built" if self.ok else "failed"
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """What :func:`run_batch` did: one result per case, in the table's order, and the summaries."""
+
+    out: Path
+    cases: tuple[CaseResult, ...]
+    summary_csv: Path
+    summary_html: Path
+
+    @property
+    def failed(self) -> list[CaseResult]:
+        return [case for case in self.cases if not case.ok]
+
+
+def default_workers() -> int:
+    """The number of cores this process may use."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def _run_case(
+    template_path: str,
+    assignments: dict[str, Any],
+    wheres: dict[str, str],
+    inputs_label: str,
+    folder: str,
+    name: str,
+    pdf: bool,
+    overwrite: bool,
+    sources: dict[str, str] | None = None,
+) -> CaseResult:
+    """Build one case; never raises for a case that fails (runs in a worker)."""
+    started = time.monotonic()
+    try:
+        template = load_template(template_path)
+        out = Path(folder)
+        check_out_folder(out)
+        held = held_fingerprint(out, template.name)
+        options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
+        options["sources"] = sources
+        once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
+
+        async def job(kernel):
+            return await build_in_kernel(
+                kernel, template, assignments, wheres, inputs_label, out, held, **options
+            )
+
+        result = run_sync(lambda: run_in_kept_kernel(job, once=once))
+    except CalcError as exc:
+        return CaseResult(name, False, folder, str(exc), None, time.monotonic() - started)
+    except Exception as exc:  # a bug must not stop the other cases
+        return CaseResult(
+            name,
+            False,
+            folder,
+            f"internal error: {type(exc).__name__}: {exc}",
+            None,
+            time.monotonic() - started,
+        )
+    return CaseResult(name, True, folder, "", result.record, result.seconds)
+
+
+def run_batch(
+    template: str | os.PathLike,
+    cases: str | os.PathLike,
+    out: str | os.PathLike,
+    *,
+    inputs: str | os.PathLike | None = None,
+    executor: cf.Executor | None = None,
+    workers: int | None = None,
+    pdf: bool = False,
+    overwrite: bool = False,
+    progress: Callable[[int, int, CaseResult], None] | None = None,
+) -> BatchResult:
+    """Build one sheet per case of a table, in parallel, and a summary of them.
+
+    Each case's inputs are the base inputs file's with the case's values put
+    over them. Each sheet goes to ``<out>/<case>/``; ``<out>/summary.csv`` and
+    ``<out>/summary.html`` list every case with its key results and check
+    verdicts. A failing case is reported in the summary and does not stop the
+    others.
+
+    Parameters
+    ----------
+    template : str or path
+        A template notebook, or the name of a bundled template.
+    cases : str or path
+        The table of cases: CSV (a ``case`` column, then input columns) or TOML
+        (``[[case]]`` tables with ``name``).
+    out : str or path
+        The output folder; created if missing.
+    inputs : str or path, optional
+        The base inputs file the cases change; without it, the template's own values.
+    executor : concurrent.futures.Executor, optional
+        Where the cases run. By default a process pool of ``workers``
+        processes; a Dask client's ``get_executor()`` also works.
+    workers : int, optional
+        Processes of the default pool; by default one per available core.
+    pdf : bool
+        Also print each sheet to PDF.
+    overwrite : bool
+        Replace a summary already in the output folder, and sheets in the
+        cases' folders that differ from what the batch writes (see
+        :func:`build_sheet`).
+    progress : callable, optional
+        Called as ``progress(done, total, case_result)`` after each case.
+
+    Returns
+    -------
+    BatchResult
+
+    Raises
+    ------
+    InputsError
+        The base inputs or the cases cannot be read, or name inputs the
+        template does not have (checked before any case runs).
+    OverwriteError
+        The output folder holds a summary already (checked before any case
+        runs).
+    """
+    from calckit.workflow.inputs import check_keys, read_inputs
+
+    tmpl = load_template(template)
+    base = read_inputs(inputs) if inputs is not None else None
+    table = read_cases(cases, tmpl)
+    out = Path(out)
+    check_out_folder(out)
+    if workers is not None and workers < 1:
+        raise InputsError(f"{workers} workers cannot run anything", where="workers", do="Give 1 or more")
+    _check_summaries(out, overwrite)
+    base_values = prepared_values(tmpl, base) if base is not None else dict(tmpl.parameters)
+    base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
+    base_sources = dict(base.sources) if base is not None else {}
+    if base is not None:  # unknown names only: a case may give what the base leaves out
+        check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
+    cases_label = Path(cases).name
+    jobs = []
+    for case in table:
+        values = {**base_values, **case.values}
+        missing = [name for name in tmpl.inputs if name not in values]
+        if missing:
+            raise InputsError(
+                f"case {case.name} gives no value for {', '.join(missing)}",
+                where=str(cases),
+                do="Give it in the base inputs file (--inputs) or in the case",
+            )
+        wheres = {**base_wheres, **case.wheres}
+        label = (
+            f"{base.path.name} with case {case.name} of {cases_label}"
+            if base
+            else f"case {case.name} of {cases_label}"
+        )
+        # a source of the base file stays with its value: an input the case changes has none
+        sources = {n: s for n, s in base_sources.items() if n not in case.values}
+        jobs.append(
+            (str(tmpl.path), values, wheres, label, str(out / case.name), case.name, pdf, overwrite, sources)
+        )
+
+    own = executor is None
+    if own:
+        count = min(workers or default_workers(), len(jobs))
+        executor = cf.ProcessPoolExecutor(max_workers=count, mp_context=multiprocessing.get_context("spawn"))
+    results: dict[str, CaseResult] = {}
+    try:
+        futures = {executor.submit(_run_case, *job): job for job in jobs}
+        for done, future in enumerate(cf.as_completed(futures), start=1):
+            job = futures[future]
+            try:
+                result = future.result()
+            except Exception as exc:  # the worker itself broke (killed, unpicklable ...)
+                result = CaseResult(job[5], False, job[4], f"the worker failed: {type(exc).__name__}: {exc}")
+            results[result.name] = result
+            if progress is not None:
+                progress(done, len(jobs), result)
+    finally:
+        if own:
+            executor.shutdown(wait=True, cancel_futures=True)
+    ordered = tuple(results[case.name] for case in table)
+    csv_path, html_path = _write_summary(out, tmpl, ordered, overwrite=overwrite)
+    return BatchResult(out, ordered, csv_path, html_path)
+
+
+# ---------------------------------------------------------------------------
+# The summary of a batch
+
+
+def _summary_columns(results: Sequence[CaseResult]) -> tuple[list[str], list[tuple[str, str]]]:
+    checks: list[str] = []
+    quantities: list[tuple[str, str]] = []
+    for result in results:
+        if not result.record:
+            continue
+        for check in result.record.get("checks", []):
+            if check["name"] not in checks:
+                checks.append(check["name"])
+        for item in result.record.get("results", []):
+            key = (item["name"], item.get("unit", ""))
+            if item.get("value") is not None and key not in quantities:
+                quantities.append(key)
+    return checks, quantities
+
+
+def _summary_rows(results: Sequence[CaseResult]) -> tuple[list[str], list[list[Any]]]:
+    checks, quantities = _summary_columns(results)
+    header = ["case", "status", "checks met"]
+    for name in checks:
+        header += [f"{name}: verdict", f"{name}: margin %"]
+    header += [f"{name} [{unit}]" if unit else name for name, unit in quantities]
+    header += ["message"]
+    rows = []
+    for result in results:
+        record = result.record or {}
+        by_check = {c["name"]: c for c in record.get("checks", [])}
+        by_result = {(r["name"], r.get("unit", "")): r for r in record.get("results", [])}
+        summary = record.get("summary")
+        row: list[Any] = [
+            result.name,
+            result.status,
+            f"{summary['met']} of {summary['checks']}" if summary else "",
+        ]
+        for name in checks:
+            check = by_check.get(name)
+            row += [check["verdict"], check["margin_percent"]] if check else ["", ""]
+        for key in quantities:
+            item = by_result.get(key)
+            row.append(item["value"] if item else "")
+        row.append(result.message)
+        rows.append(row)
+    return header, rows
+
+
+_SUMMARIES = ("summary.csv", "summary.html")
+
+
+def _check_summaries(out: Path, overwrite: bool) -> None:
+    """Refuse a batch whose summary would replace one in the folder (before any case runs)."""
+    for name in _SUMMARIES:
+        if (out / name).is_dir():
+            raise BuildError(
+                "a folder stands where the batch writes its summary",
+                where=str(out / name),
+                do="Batch into another folder",
+            )
+    held = [name for name in _SUMMARIES if (out / name).exists()]
+    if held and not overwrite:
+        raise OverwriteError(
+            f"the output folder already holds a batch summary ({', '.join(held)})",
+            where=str(out / held[0]),
+            do="Batch into another folder, or pass overwrite=True (--overwrite) to replace it; "
+            "no case was run",
+        )
+
+
+def _write_summary(
+    out: Path, template: Template, results: Sequence[CaseResult], *, overwrite: bool = False
+) -> tuple[Path, Path]:
+    from calckit.core.units import fmt_number
+    from calckit.render.page import Html, escape, html_page, table
+
+    out.mkdir(parents=True, exist_ok=True)
+    header, rows = _summary_rows(results)
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(header)
+    writer.writerows([[repr(c) if isinstance(c, float) else c for c in row] for row in rows])
+    csv_path = write_text(out / "summary.csv", buffer.getvalue(), overwrite=overwrite)
+
+    def shown(column: str, cell: Any) -> Any:
+        if isinstance(cell, float):
+            return f"{cell:+.1f}" if column.endswith("margin %") else fmt_number(cell, 4)
+        if cell == "not met":
+            return Html('<strong class="verdict verdict-not-met">NOT MET</strong>')
+        if cell == "failed":
+            return Html("<strong>failed</strong>")
+        if column == "case" and isinstance(cell, str):
+            return Html(f'<a href="{escape(cell)}/{escape(template.name)}.html">{escape(cell)}</a>')
+        return cell
+
+    html_rows = [[shown(h, c) for h, c in zip(header, row, strict=True)] for row in rows]
+    built = sum(r.ok for r in results)
+    body = (
+        f"<h1>Batch of {counted(len(results), 'case')}: {escape(template.name)}</h1>"
+        f"<p>{built} built, {len(results) - built} failed. Each case's sheet is in its own folder; "
+        "margins are in percent of the limit (in percentage points where the checked value is "
+        "itself a percentage), positive when the check is met.</p>" + table(header, html_rows, cls="checks")
+    )
+    page = html_page(f"Batch summary: {template.name}", body, footer_left=template.name)
+    html_path = write_text(out / "summary.html", page, overwrite=overwrite)
+    return csv_path, html_path
+
+
+def counted(number: int, noun: str) -> str:
+    """A number and its noun, plural when it is not one.
+
+    >>> counted(1, "case"), counted(3, "case")
+    ('1 case', '3 cases')
+    """
+    return f"{number} {noun}" if number == 1 else f"{number} {noun}s"
