@@ -19,7 +19,7 @@ import pytest
 
 from calckit.core.units import fmt_number
 from calckit.errors import BuildError, CalcError, CellError, InputsError, OverwriteError
-from calckit.sheet.sheet import existing_fingerprint
+from calckit.sheet import existing_fingerprint
 from calckit.workflow import (
     INPUTS_TAG,
     PARAMETERS_TAG,
@@ -750,7 +750,7 @@ class TestSources:
 
     def test_sheet_sources_win(self):
         """Sheet(sources=...) wins over input(source=...) for the inputs it names, and enters the fingerprint."""
-        from calckit.sheet.sheet import Sheet
+        from calckit.sheet import Sheet
 
         def sheet(sources):
             s = Sheet("P-101", sources=sources, show=False)

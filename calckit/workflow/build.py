@@ -44,7 +44,6 @@ from __future__ import annotations
 
 import asyncio
 import contextlib
-import json
 import os
 import re
 import shutil
@@ -136,7 +135,7 @@ def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -
     BuildError
         The template made no :class:`calckit.Sheet` named ``sheet``.
     """
-    from calckit.sheet.sheet import Sheet
+    from calckit.sheet import Sheet
 
     if not isinstance(sheet, Sheet):
         got = "nothing" if sheet is None else f"a {type(sheet).__name__}"
@@ -208,7 +207,7 @@ def held_fingerprint(out: Path, stem: str) -> tuple[bool, str | None]:
     present = [out / f"{stem}{suffix}" for suffix in SHEET_SUFFIXES if (out / f"{stem}{suffix}").exists()]
     if not present:
         return False, None
-    from calckit.sheet.sheet import existing_fingerprint
+    from calckit.sheet import existing_fingerprint
 
     for suffix in (".json", ".html"):
         found = existing_fingerprint(out / f"{stem}{suffix}")
@@ -374,8 +373,14 @@ async def build_in_kernel(
 
 
 def _read_record(path: Path) -> dict:
-    """The JSON record the build's kernel wrote (the one place the build reads it)."""
-    return json.loads(path.read_text(encoding="utf-8"))
+    """The JSON record the build's kernel wrote, read through the one definition of a record.
+
+    :func:`calckit.sheet.read_record` checks its version and its fields; the build and the
+    batch summary use its dictionary form, the one :meth:`calckit.Sheet.record` gives.
+    """
+    from calckit.sheet import read_record
+
+    return read_record(path).to_dict()
 
 
 def _prepare_build(

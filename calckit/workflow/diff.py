@@ -1,14 +1,12 @@
 """What changed between two built calculation sheets.
 
-A built sheet is read from its JSON record (:meth:`calckit.Sheet.record`): give
-the ``.json`` file, the ``.html`` sheet (its record sits beside it under the same
-name), or the output folder of a build. The comparison lists title-block
-changes, inputs changed (old and new text), inputs added or removed, the
-inputs' descriptions and sources changed, results that moved (with the change
-in percent), checks whose verdict flipped, checks whose margin moved, checks
-whose basis or limit changed, and assumptions, references and notes added or
-removed, and a changed caution. Two sheets with the same fingerprint came from
-the same inputs through the same calculation.
+A built sheet is read from its JSON record, through the one definition of a record
+(:func:`calckit.sheet.read_record`'s checks of version and fields): give the ``.json``
+file, the ``.html`` sheet (its record sits beside it), or a build's output folder.
+The comparison lists what changed in the title block, the inputs (text, description,
+source), the results (with the change in percent), the checks (verdict, margin, basis,
+limit), the assumptions, references and notes, and the caution. Two sheets with the
+same fingerprint came from the same inputs through the same calculation.
 
 Results are shown as the sheet shows them: the record's ``shown`` text where it
 has one, else the value (kept in SI in the record) in the unit a sheet would
@@ -39,6 +37,7 @@ from typing import Any
 
 from calckit.core.units import fmt, fmt_number
 from calckit.errors import InputsError
+from calckit.sheet import SheetRecord, existing_fingerprint
 
 __all__ = [
     "Change",
@@ -409,8 +408,6 @@ def read_record(path: str | os.PathLike) -> dict:
             do="Give a record written by calckit build or Sheet.save",
         )
     if path.suffix.lower() == ".html":
-        from calckit.sheet.sheet import existing_fingerprint
-
         shown = existing_fingerprint(path)
         if shown and shown != data["fingerprint"]:
             raise InputsError(
@@ -418,6 +415,7 @@ def read_record(path: str | os.PathLike) -> dict:
                 where=str(path),
                 do="Rebuild the sheet: the HTML and its .json record come from different builds",
             )
+    data = SheetRecord.from_dict(data, where=str(record_path)).to_dict()  # the version and fields checked
     data.setdefault("_source", str(record_path))
     return data
 

@@ -1,4 +1,4 @@
-"""Inputs files for ``calckit build``, template parameters, and a safe expression reader.
+"""Inputs files for ``calckit build`` and the template's parameters cell.
 
 Inputs file format
 ------------------
@@ -48,20 +48,8 @@ given in both places is refused. All are optional except ``subject``
 (:data:`REQUIRED_TITLE_FIELDS`): a template that declares it needs it from the
 inputs file, so that no sheet goes out under the template's example subject.
 
-Expressions
------------
-:func:`parse_expression` reads a forcing expression such as ``"F0*cos(w*t)"``
-without running it: Python's parser builds a syntax tree, and only numbers, the
-declared names, ``t``, ``pi``, ``+ - * / **``, parentheses and the functions
-``sin cos exp sinh cosh sqrt`` are turned into sympy objects. Numbers are taken
-as the exact decimal written.
-
-Examples
---------
->>> import sympy as sp
->>> F0, w = sp.symbols("F0 w", positive=True)
->>> parse_expression("F0*cos(w*t) + 2.5", {"F0": F0, "w": w}, where="forcing")
-F0*cos(t*w) + 5/2
+Expressions such as ``forcing = "F0*cos(w*t)"`` are text; templates read them with
+:func:`calckit.parse_expression` (``calckit/core/expressions.py``), which never runs them.
 """
 
 from __future__ import annotations

@@ -44,8 +44,8 @@ _BASELINE: dict[str, Any] = {}
 def kernel_warm_up() -> None:
     """Run once in a new kernel: import what templates use, then record the state to reset to.
 
-    The imports are the ones every template makes (``import calckit`` imports
-    all of calckit); they hold no case's data. What is recorded is what a
+    The imports are the ones every template makes (``import calckit as ck`` and the
+    layers its names come from); they hold no case's data. What is recorded is what a
     template can change and :func:`kernel_reset` puts back.
     """
     import builtins
@@ -58,13 +58,19 @@ def kernel_warm_up() -> None:
     import matplotlib.pyplot  # noqa: F401
     import numpy as np
     import sympy  # noqa: F401
+    from IPython import get_ipython
     from sympy.core.parameters import global_parameters
 
-    import calckit
-
-    for name in calckit.__all__:  # the package loads lazily; a kernel wants all of it
-        getattr(calckit, name)
-    from IPython import get_ipython
+    # the layers a template's ``import calckit as ck`` reaches (the package loads them lazily;
+    # a kernel wants them loaded before the first case): everything but the explorer
+    import calckit.core.checks
+    import calckit.core.expressions
+    import calckit.core.units
+    import calckit.engine
+    import calckit.physics
+    import calckit.render.display
+    import calckit.render.numbers
+    import calckit.sheet  # noqa: F401
 
     shell = get_ipython()
     rc = dict(matplotlib.rcParams.copy())
