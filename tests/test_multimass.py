@@ -213,7 +213,7 @@ class TestSymbolic:
         """Two equal masses on three equal springs: sqrt(k/m) and sqrt(3k/m) (common practice, no source)."""
         m, k = sp.symbols("m k", positive=True)
         model = MultiMass([[m, 0], [0, m]], None, [[2 * k, -k], [-k, 2 * k]])
-        assert {sp.simplify(f**2) for f in model.natural_frequencies()} == {k / m, 3 * k / m}
+        assert {sp.simplify(f**2) for f in model.natural_frequencies} == {k / m, 3 * k / m}
 
 
 # ---------------------------------------------------------------------------
@@ -234,9 +234,9 @@ def test_natural_frequencies_against_eigh(name):
     m, k = MODELS[name]
     model = MultiMass(m, None, k)
     w2, _ = scipy.linalg.eigh(np.array(k, float), np.array(m, float))  # scipy.linalg.eigh
-    freqs = np.array([float(f) for f in model.natural_frequencies()])
+    freqs = np.array([float(f) for f in model.natural_frequencies])
     np.testing.assert_allclose(freqs, np.sqrt(w2), rtol=1e-12)
-    shapes = model.mode_shapes()
+    shapes = model.mode_shapes
     mass, stiff = np.array(m, float), np.array(k, float)
     phi = np.array(shapes.evalf(30).tolist(), dtype=float) if model.modes().exact else shapes
     np.testing.assert_allclose(phi.T @ mass @ phi, np.eye(len(m)), atol=1e-12)
@@ -250,7 +250,7 @@ def test_exact_or_float_policy():
     assert MultiMass(*([MODELS["2-DOF"][0], None, MODELS["2-DOF"][1]])).modes().exact
     chain = MultiMass(MODELS["3-DOF chain (floats)"][0], None, MODELS["3-DOF chain (floats)"][1])
     assert not chain.modes().exact
-    assert isinstance(chain.mode_shapes(), np.ndarray)
+    assert isinstance(chain.mode_shapes, np.ndarray)
 
 
 def test_rayleigh_damping_ratios():
@@ -259,12 +259,12 @@ def test_rayleigh_damping_ratios():
     a, b = R(1, 5), R(1, 50)
     c = (a * sp.Matrix(m) + b * sp.Matrix(k)).tolist()
     model = MultiMass(m, c, k)
-    for zeta, omega in zip(model.modal_damping_ratios(), model.natural_frequencies(), strict=True):
+    for zeta, omega in zip(model.modal_damping_ratios, model.natural_frequencies, strict=True):
         assert sp.simplify(zeta - (a / (2 * omega) + b * omega / 2)) == 0
     chain = MultiMass(
         MODELS["3-DOF chain (floats)"][0], [[0.01 * v for v in row] for row in CHAIN_K], CHAIN_K
     )
-    for zeta, omega in zip(chain.modal_damping_ratios(), chain.natural_frequencies(), strict=True):
+    for zeta, omega in zip(chain.modal_damping_ratios, chain.natural_frequencies, strict=True):
         assert zeta == pytest.approx(0.01 * float(omega) / 2, rel=1e-12)
 
 

@@ -20,6 +20,10 @@ from calckit.engine.steps import (
     ForcingSplitStep,
     HomogeneousStep,
     InitialConditionsStep,
+    MatrixEquationStep,
+    ModeExcitationStep,
+    ModeResonanceStep,
+    ModesStep,
     ParticularSolutionStep,
     ResonanceStep,
     SolvedCoefficientsStep,
@@ -27,6 +31,8 @@ from calckit.engine.steps import (
     SubstitutionStep,
     TotalResponseStep,
     TrialFormStep,
+    VectorCoefficientEquationsStep,
+    VectorForcingStep,
     VerificationStep,
 )
 from calckit.render.tex import (
@@ -236,3 +242,67 @@ def _(step: TotalResponseStep, nt: Notation) -> tuple[Row, ...]:
 
 
 # ------------------------------------------------------------------ printers
+
+
+# ---------------------------------------------------------------------------
+# the vector method's records
+
+
+def _name(latex: str, text: str | None = None) -> Tex:
+    """A fixed name, spelled in LaTeX and (default: the same) in plain text."""
+    return Tex(latex, latex if text is None else text)
+
+
+@step_rows.register
+def _(step: MatrixEquationStep, nt: Notation) -> tuple[Row, ...]:
+    lhs = Tex(r"M \ddot{x} + C \dot{x} + K x", "M x'' + C x' + K x")
+    rows = [Row((lhs,), (EQ, _name("F(t)")))]
+    for label, matrix in (("M", step.mass), ("C", step.damping), ("K", step.stiffness)):
+        rows.append(Row((_name(label),), (EQ, _e(matrix, nt))))
+    rows.append(Row((_name("F(t)"),), (EQ, _e(step.forcing, nt))))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: VectorForcingStep, nt: Notation) -> tuple[Row, ...]:
+    many = len(step.groups) > 1
+    rows = []
+    for g, group in enumerate(step.groups, start=1):
+        f = _name(f"F_{{{g}}}(t)", f"F_{g}(t)") if many else _name("F(t)")
+        lam = _name(rf"\lambda_{{{g}}}", f"lambda_{g}") if many else _name(r"\lambda", "lambda")
+        exponent = _e(group.exponent, nt)
+        rows.append(Row((f,), (EQ, _e(group.expr(step.t), nt)), (lam, EQ, exponent)))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: VectorCoefficientEquationsStep, nt: Notation) -> tuple[Row, ...]:
+    words = Tex(r"\text{coefficients of }", "coefficients of ")
+    return tuple(
+        Row((_e(lhs, nt),), (EQ, _e(rhs, nt)), (words, _e(basis, nt)))
+        for basis, (lhs, rhs) in zip(step.basis, step.equations, strict=True)
+    )
+
+
+@step_rows.register
+def _(step: ModesStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [
+        Row((_name(rf"\omega_{{{i}}}", f"omega_{i}"),), (EQ, _e(sp.sympify(w), nt)))
+        for i, w in enumerate(step.frequencies, start=1)
+    ]
+    rows.append(Row((_name(r"\Phi", "Phi"),), (EQ, _e(step.shapes, nt))))
+    rows.extend(
+        Row((_name(rf"\zeta_{{{i}}}", f"zeta_{i}"),), (EQ, _e(sp.sympify(z), nt)))
+        for i, z in enumerate(step.damping_ratios, start=1)
+        if z is not None
+    )
+    return tuple(rows)
+
+
+# a mode resonance shows as a resonance; whether the mode is excited is said in its sentence
+step_rows.register(ModeResonanceStep, step_rows.registry[ResonanceStep])
+
+
+@step_rows.register
+def _(step: ModeExcitationStep, nt: Notation) -> tuple[Row, ...]:
+    return ()  # the finding is the step's sentence, it has no formula of its own
