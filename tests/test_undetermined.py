@@ -324,3 +324,46 @@ def test_nan_coefficient_message():
         "coefficient a_1 (position 2, highest derivative first): the value nan is not a finite number. "
         "Give a finite number."
     )
+
+
+class TestDefectOfCalckit:
+    """A failed check by substitution is calckit's defect: InternalError with a line to paste."""
+
+    def test_failed_check_raises_internal_error(self, monkeypatch):
+        """The check is forced to fail; the message says where, what, and how to reproduce."""
+        import calckit.engine.scalar
+
+        monkeypatch.setattr(calckit.engine.scalar, "satisfies", lambda *args: False)
+        with pytest.raises(ck.InternalError) as info:
+            ck.LinearODE([1, 0, 4]).particular(sp.cos(2 * t), t=t)
+        reproduce = (
+            "import calckit as ck; from sympy import *; t = Symbol('t', real=True); "
+            "ck.LinearODE([Integer(1), Integer(0), Integer(4)]).particular(cos(Mul(Integer(2), Symbol('t', "
+            "real=True))), t=t)"
+        )
+        assert str(info.value) == (
+            "forcing cos(2*t): the derived particular solution does not satisfy the equation (residual 0). "
+            "This is a defect of calckit, not of your input; please report it with this line: "
+            + reproduce
+            + "."
+        )
+        assert info.value.reproduce == reproduce
+        assert isinstance(info.value, RuntimeError) and isinstance(info.value, ck.CalcError)
+
+    def test_reproducer_repeats_the_case(self, monkeypatch):
+        """The pasted line runs the same derivation (it fails the same way while the check is broken)."""
+        import calckit.engine.scalar
+
+        m_, c_ = sp.symbols("m c", positive=True)
+        monkeypatch.setattr(calckit.engine.scalar, "satisfies", lambda *args: False)
+        with pytest.raises(ck.InternalError) as info:
+            ck.LinearODE([m_, c_, 3]).particular(t * sp.exp(-2 * t), t=t)
+        with pytest.raises(ck.InternalError) as again:
+            exec(info.value.reproduce, {})
+        assert str(again.value) == str(info.value)
+        monkeypatch.undo()
+        namespace: dict = {}
+        exec(info.value.reproduce.replace("ck.LinearODE", "der = ck.LinearODE"), namespace)
+        der = namespace["der"]
+        # checked by sympy alone, outside the engine
+        assert residual([m_, c_, 3], der.solution, t * sp.exp(-2 * t)) == 0

@@ -305,6 +305,8 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
         or ``particular``.
     times : array-like or pint Quantity
         Times in s.
+        The result has the shape of *times*, or ``(n, len(times))`` for the
+        column solution of an n-coordinate model.
     part : {"solution", "transient", "steady_state"}
         Which part of a Response to evaluate (a Derivation has only its solution).
     **values
@@ -321,7 +323,11 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     array([ 1., -1.])
     """
     expr, t = _source(response_or_derivation, part)
-    compiled = compile_expr(expr, t, parameters=sorted(expr.free_symbols - {t}, key=lambda s: s.name))
+    parameters = sorted(expr.free_symbols - {t}, key=lambda s: s.name)
+    if isinstance(expr, sp.MatrixBase):  # a multi-mass model: one row per coordinate, shape (n, len(times))
+        rows = [compile_expr(row, t, parameters=parameters)(times, **values) for row in expr]
+        return np.vstack([np.broadcast_to(row, np.shape(rows[0])) for row in rows])
+    compiled = compile_expr(expr, t, parameters=parameters)
     return compiled(times, **values)
 
 
