@@ -273,9 +273,7 @@ class Oscillator(LinearODE):
             return exact(f.magnitude, where="forcing") * exact(scale, where="forcing")
         return f
 
-    def response(
-        self, f, x0=0, v0=0, *, t: sp.Symbol | None = None, initial_values=None
-    ) -> Response:
+    def response(self, f, x0=0, v0=0, *, t: sp.Symbol | None = None, initial_values=None) -> Response:
         """Total response meeting ``x(0) = x0`` and ``x'(0) = v0``.
 
         The initial state may also be given as the base class takes it, a list
