@@ -358,7 +358,12 @@ def _over_power_of(value, det_expr: sp.Expr, field) -> sp.Expr:
     num, den = value.numer, value.denom
     if num == 0:
         return sp.S.Zero
-    det_poly = field.from_expr(det_expr).numer
+    # the field writes det_expr as det_poly / det_scale with det_poly free of fractions
+    # (c - 1/2 is (2c - 1)/2): a division by det_poly**e is one by (det_scale det_expr)**e
+    det_field = field.from_expr(det_expr)
+    det_poly, det_scale = det_field.numer, det_field.denom
+    if not det_scale.is_ground:
+        return tidy(value.as_expr())
     power = 0
     if det_poly.is_ground is False:
         while not den.is_ground:
@@ -366,7 +371,7 @@ def _over_power_of(value, det_expr: sp.Expr, field) -> sp.Expr:
             if remainder != 0:
                 return tidy(value.as_expr())
             den, power = quotient, power + 1
-    scale = den.as_expr()
+    scale = den.as_expr() * det_scale.as_expr() ** power
     numerator = sp.factor_terms(num.as_expr() / scale)
     return numerator / det_expr**power if power else numerator
 

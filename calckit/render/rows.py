@@ -69,6 +69,7 @@ def step_rows(step: Step, nt: Notation) -> tuple[Row, ...]:
     --------
     >>> import sympy as sp
     >>> from calckit.engine.steps import ParticularSolutionStep
+    >>> from calckit.render.tex import rows_text
     >>> t = sp.Symbol("t")
     >>> step = ParticularSolutionStep("Particular solution", "It is.", sp.cos(t) / 2, t)
     >>> rows_text(step_rows(step, Notation()))
