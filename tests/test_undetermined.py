@@ -261,6 +261,82 @@ def test_property_random_operator_and_forcing(coeffs, f):
     assert residual(coeffs, der.solution, f) == 0, f"reproduce: ck.LinearODE({coeffs}).particular({f}, t=t)"
 
 
+def test_fractional_exponent_symbolic_first_order():
+    """x' + c x = e^{-t/2}: A (c - 1/2) = 1, so x_p = e^{-t/2} / (c - 1/2) (worked by hand)."""
+    cs = sp.Symbol("c")
+    der = ck.LinearODE([1, cs]).particular(sp.exp(-t / 2), t=t)
+    assert der.verified and residual([1, cs], der.solution, sp.exp(-t / 2)) == 0
+    assert sp.simplify(der.solution - sp.exp(-t / 2) / (cs - sp.Rational(1, 2))) == 0
+
+
+def test_fractional_exponent_symbolic_oscillator():
+    """m x'' + c x' + k x = e^{-t/2}: A (m/4 - c/2 + k) = 1 (worked by hand)."""
+    der = ck.Oscillator(m, c, k).particular(sp.exp(-t / 2), t=t)
+    assert der.verified and residual([m, c, k], der.solution, sp.exp(-t / 2)) == 0
+    assert sp.simplify(der.solution - sp.exp(-t / 2) / (m / 4 - c / 2 + k)) == 0
+
+
+fractions = st.sampled_from(
+    [sp.Rational(-1, 2), sp.Rational(-1, 3), sp.Rational(1, 4), sp.Rational(3, 2), 0, -1]
+)
+
+
+@st.composite
+def symbolic_operators(draw):
+    """Orders 1 to 3 with symbolic and fractional coefficients (leading one non-zero)."""
+    order = draw(st.integers(1, 3))
+    pool = st.sampled_from([m, c, k, sp.Rational(1, 2), sp.Rational(-3, 4), sp.Rational(5, 3), 1, 0])
+    lead = draw(st.sampled_from([1, m, sp.Rational(2, 3)]))
+    return [lead] + [draw(pool) for _ in range(order)]
+
+
+@st.composite
+def fractional_forcings(draw):
+    """Quasi-polynomial terms with fractional decays and frequencies and fractional coefficients."""
+    terms = draw(
+        st.lists(
+            st.tuples(
+                fractions,
+                st.integers(0, 1),
+                fractions,
+                st.sampled_from([0, sp.Rational(1, 2), 2]),
+                st.sampled_from("cs1"),
+            ),
+            min_size=1,
+            max_size=2,
+        )
+    )
+    total = sp.S.Zero
+    for coef, n, decay, freq, kind in terms:
+        trig = {"c": sp.cos(freq * t), "s": sp.sin(freq * t), "1": 1}[kind]
+        total += (coef or 1) * t**n * sp.exp(decay * t) * trig
+    return total
+
+
+@settings(max_examples=20, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(symbolic_operators(), fractional_forcings())
+def test_property_symbolic_fractional(coeffs, f):
+    """Symbolic coefficients and fractional exponents: back-substitution by sympy alone holds."""
+    der = ck.LinearODE(coeffs).particular(f, t=t)
+    assert der.verified
+    assert residual(coeffs, der.solution, f) == 0, f"reproduce: ck.LinearODE({coeffs}).particular({f}, t=t)"
+
+
+FRACTIONAL_DSOLVE_CASES = [
+    ([1, sp.Rational(1, 2)], sp.exp(-t / 3)),
+    ([1, sp.Rational(1, 3), sp.Rational(1, 4)], sp.sin(t / 2)),
+    ([2, sp.Rational(3, 2), sp.Rational(1, 4)], t * sp.exp(-t / 4)),
+    ([1, 1, sp.Rational(1, 4)], sp.exp(-t / 2)),  # -1/2 is a double root of the characteristic polynomial
+]
+
+
+@pytest.mark.parametrize("coeffs, f", FRACTIONAL_DSOLVE_CASES)
+def test_fractional_agrees_with_dsolve(coeffs, f):
+    """Fractional coefficients and exponents: calckit - dsolve solves the homogeneous equation
+    (sympy.dsolve, hint nth_linear_constant_coeff_undetermined_coefficients)."""
+    test_agrees_with_dsolve(coeffs, f)
+
+
 # --- errors -------------------------------------------------------------------------------
 
 
