@@ -301,7 +301,7 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     Parameters
     ----------
     response_or_derivation : Response or Derivation
-        From :meth:`Oscillator.response`, :func:`calckit.response.total_response`
+        From :meth:`Oscillator.response`, :func:`calckit.engine.response.total_response`
         or ``particular``.
     times : array-like or pint Quantity
         Times in s.

@@ -217,6 +217,8 @@ _CALCKIT_ERRORS = frozenset({*errors.__all__, "CellError"})  # the names of calc
 # Errors
 
 
+
+
 # ---------------------------------------------------------------------------
 # Templates
 
@@ -615,12 +617,7 @@ def _installed_module(module: Any) -> bool:
     where = getattr(module, "__file__", None)
     if not where:
         return True
-    roots = {
-        sys.prefix,
-        sys.base_prefix,
-        sys.exec_prefix,
-        str(Path(__file__).resolve().parents[1]),
-    }  # calckit/
+    roots = {sys.prefix, sys.base_prefix, sys.exec_prefix, str(Path(__file__).resolve().parents[1])}  # calckit/
     roots.update(site.getsitepackages(), [site.getusersitepackages()])
     where = os.path.realpath(where)
     return any(where.startswith(os.path.realpath(root) + os.sep) for root in roots)

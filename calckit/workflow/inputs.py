@@ -588,3 +588,5 @@ def injected_source(values: Mapping[str, Any]) -> str:
             )
         lines.append(f"{name} = {value!r}")
     return "\n".join(lines) + "\n"
+
+
