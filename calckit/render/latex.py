@@ -1,6 +1,7 @@
 r"""Formulas of derivation steps, in hand-calculation reading order.
 
-Each step record (:mod:`calckit.engine.steps`) becomes a few *rows*: an aligned
+Each step record (:mod:`calckit.engine.steps`, scalar and multi-mass alike) becomes a few
+*rows* (:mod:`calckit.render.rows`; the pieces are in :mod:`calckit.render.tex`): an aligned
 left side, a right side starting with a relation, and an optional note, each
 piece spelled twice, once in LaTeX and once in plain text. The rows are the one
 formatter behind every output: :func:`rows_latex` prints them for the notebook
@@ -24,6 +25,7 @@ verification              ``m \ddot{x}_p + c \dot{x}_p + k x_p - f(t) = 0`` and 
 homogeneous               ``x_h(t) = ...``
 initial conditions        ``x(0) = ... = x_0`` and the constants
 total response            ``x(t) = x_h(t) + x_p(t) = ...``
+modes (multi-mass)        ``\omega_i = ...``, ``\Phi = ...`` and ``\zeta_i = ...``
 ========================  ==============================================================
 
 Symbol names
