@@ -213,7 +213,7 @@ class TestSymbolic:
         """Two equal masses on three equal springs: sqrt(k/m) and sqrt(3k/m) (common practice, no source)."""
         m, k = sp.symbols("m k", positive=True)
         model = MultiMass([[m, 0], [0, m]], None, [[2 * k, -k], [-k, 2 * k]])
-        assert {sp.simplify(f**2) for f in model.natural_frequencies()} == {k / m, 3 * k / m}
+        assert {sp.simplify(f**2) for f in model.natural_frequencies} == {k / m, 3 * k / m}
 
 
 # ---------------------------------------------------------------------------
@@ -234,9 +234,9 @@ def test_natural_frequencies_against_eigh(name):
     m, k = MODELS[name]
     model = MultiMass(m, None, k)
     w2, _ = scipy.linalg.eigh(np.array(k, float), np.array(m, float))  # scipy.linalg.eigh
-    freqs = np.array([float(f) for f in model.natural_frequencies()])
+    freqs = np.array([float(f) for f in model.natural_frequencies])
     np.testing.assert_allclose(freqs, np.sqrt(w2), rtol=1e-12)
-    shapes = model.mode_shapes()
+    shapes = model.mode_shapes
     mass, stiff = np.array(m, float), np.array(k, float)
     phi = np.array(shapes.evalf(30).tolist(), dtype=float) if model.modes().exact else shapes
     np.testing.assert_allclose(phi.T @ mass @ phi, np.eye(len(m)), atol=1e-12)
@@ -250,7 +250,7 @@ def test_exact_or_float_policy():
     assert MultiMass(*([MODELS["2-DOF"][0], None, MODELS["2-DOF"][1]])).modes().exact
     chain = MultiMass(MODELS["3-DOF chain (floats)"][0], None, MODELS["3-DOF chain (floats)"][1])
     assert not chain.modes().exact
-    assert isinstance(chain.mode_shapes(), np.ndarray)
+    assert isinstance(chain.mode_shapes, np.ndarray)
 
 
 def test_rayleigh_damping_ratios():
@@ -259,12 +259,12 @@ def test_rayleigh_damping_ratios():
     a, b = R(1, 5), R(1, 50)
     c = (a * sp.Matrix(m) + b * sp.Matrix(k)).tolist()
     model = MultiMass(m, c, k)
-    for zeta, omega in zip(model.modal_damping_ratios(), model.natural_frequencies(), strict=True):
+    for zeta, omega in zip(model.modal_damping_ratios, model.natural_frequencies, strict=True):
         assert sp.simplify(zeta - (a / (2 * omega) + b * omega / 2)) == 0
     chain = MultiMass(
         MODELS["3-DOF chain (floats)"][0], [[0.01 * v for v in row] for row in CHAIN_K], CHAIN_K
     )
-    for zeta, omega in zip(chain.modal_damping_ratios(), chain.natural_frequencies(), strict=True):
+    for zeta, omega in zip(chain.modal_damping_ratios, chain.natural_frequencies, strict=True):
         assert zeta == pytest.approx(0.01 * float(omega) / 2, rel=1e-12)
 
 
@@ -540,3 +540,74 @@ def test_tuned_absorber_template_builds(tmp_path):
         abs(results["peak_low"] - results["peak_high"]) / max(results["peak_low"], results["peak_high"])
         < 0.05
     )
+
+
+class TestQuantities:
+    """MultiMass takes pint quantities, as Oscillator does, converted to SI."""
+
+    def test_matrices_of_quantities(self):
+        """Entries in g, N/mm and N*s/mm give the same model as the SI numbers."""
+        from calckit.core.units import Q_
+
+        si = MultiMass([[2, 0], [0, 1]], [[3, -1], [-1, 1]], [[3000, -1000], [-1000, 1000]])
+        mass = [[Q_(2000, "g"), Q_(0, "kg")], [Q_(0, "kg"), Q_(1, "kg")]]
+        damping = [[Q_(3, "N*s/m"), Q_(-1, "N*s/m")], [Q_(-1, "N*s/m"), Q_(1, "N*s/m")]]
+        stiffness = [[Q_(3, "N/mm"), Q_(-1, "N/mm")], [Q_(-1, "N/mm"), Q_(1, "N/mm")]]
+        model = MultiMass(mass, damping, stiffness)
+        assert model.M == si.M and model.C == si.C and model.K == si.K  # 1 N/mm = 1000 N/m, 1 kg = 1000 g
+
+    def test_quantity_array(self):
+        """A quantity whose magnitude is a numpy array is read entry by entry."""
+        from calckit.core.units import Q_
+
+        model = MultiMass(Q_(np.eye(2), "kg"), None, Q_(np.array([[2.0, -1.0], [-1.0, 2.0]]), "kN/m"))
+        assert model.K == sp.ImmutableMatrix([[2000, -1000], [-1000, 2000]])
+        assert model.natural_frequencies == (sp.sqrt(1000), sp.sqrt(3000))  # sqrt(k/m), sqrt(3k/m)
+
+    def test_wrong_dimension_names_the_entry(self):
+        """A mass in N/m is refused with a UnitsError naming M[2,2]."""
+        from calckit.core.units import Q_
+        from calckit.errors import UnitsError
+
+        with pytest.raises(UnitsError) as info:
+            MultiMass([[Q_(1, "kg"), 0], [0, Q_(5, "N/m")]], None, [[2, -1], [-1, 2]])
+        assert str(info.value).startswith("M[2,2]: expected a mass")
+
+
+class TestProperties:
+    """Modal quantities are properties, like Oscillator.natural_frequency."""
+
+    def test_modal_properties(self):
+        """natural_frequencies, mode_shapes and modal_damping_ratios are read without a call."""
+        for name in ("natural_frequencies", "mode_shapes", "modal_damping_ratios"):
+            assert isinstance(getattr(MultiMass, name), property), name
+        model = MultiMass([[1, 0], [0, 1]], [[2, -1], [-1, 2]], [[20, -10], [-10, 20]])
+        # C = K / 10: zeta_i = omega_i / 20 (proportional damping; Rao, 5th ed., sec. 6.11, from memory)
+        assert model.modal_damping_ratios == tuple(sp.sqrt(w**2) / 20 for w in model.natural_frequencies)
+
+
+class TestDefectOfCalckit:
+    """A failed check by substitution of the vector method raises InternalError with a reproducer."""
+
+    def test_failed_check(self, monkeypatch):
+        """The check is forced to fail; the full message is pinned and the line reproduces the case."""
+        import calckit.engine.vector
+        from calckit.errors import InternalError
+
+        monkeypatch.setattr(calckit.engine.vector, "vanishes", lambda *args: False)
+        with pytest.raises(InternalError) as info:
+            MultiMass([[1, 0], [0, 1]], None, [[2, -1], [-1, 2]]).particular([sp.cos(2 * t), 0], t=t)
+        reproduce = (
+            "import calckit as ck; from sympy import *; t = Symbol('t', real=True); ck.MultiMass("
+            "ImmutableDenseMatrix([[Integer(1), Integer(0)], [Integer(0), Integer(1)]]), "
+            "ImmutableDenseMatrix([[Integer(0), Integer(0)], [Integer(0), Integer(0)]]), "
+            "ImmutableDenseMatrix([[Integer(2), Integer(-1)], [Integer(-1), Integer(2)]])).particular("
+            "[cos(Mul(Integer(2), Symbol('t', real=True))), Integer(0)], t=t)"
+        )
+        assert str(info.value) == (
+            "forcing [cos(2*t), 0]: the derived particular solution does not satisfy every row of the equations "
+            "(residual Matrix([[0], [0]])). This is a defect of calckit, not of your input; please report it "
+            "with this line: " + reproduce + "."
+        )
+        with pytest.raises(InternalError):
+            exec(info.value.reproduce, {})

@@ -461,3 +461,47 @@ def test_frequency_response_at_undamped_resonance():
     """At an undamped resonance the receptance is infinite, quietly (as in calckit.physics.harmonic)."""
     h = Oscillator(1, 0, 4).frequency_response([2.0])
     assert np.isinf(np.abs(h[0]))
+
+
+class TestInitialValuesList:
+    """Oscillator.response also takes the base class's initial_values list."""
+
+    def test_list_in_place_of_x0(self):
+        """[x0, v0] gives the same response as x0, v0."""
+        osc = Oscillator(2, 4, 50)
+        f = sp.cos(3 * t)
+        by_list = osc.response(f, [1, sp.Rational(1, 2)], t=t).solution
+        by_keyword = osc.response(f, initial_values=(1, sp.Rational(1, 2)), t=t).solution
+        by_pair = osc.response(f, 1, sp.Rational(1, 2), t=t).solution
+        assert sp.simplify(by_list - by_pair) == 0 and sp.simplify(by_keyword - by_pair) == 0
+        # x(0) = 1, x'(0) = 1/2 checked here with sympy alone
+        assert sp.simplify(by_list.subs(t, 0)) == 1
+        assert sp.simplify(sp.diff(by_list, t).subs(t, 0)) == sp.Rational(1, 2)
+
+    def test_wrong_length(self):
+        """A list of the wrong length is refused, naming the order."""
+        with pytest.raises(ModelError) as info:
+            Oscillator(2, 4, 50).response(sp.cos(3 * t), [1, 0, 0], t=t)
+        assert (
+            str(info.value)
+            == "initial values: got 3 initial value(s) for an equation of order 2. Give [x0, v0]."
+        )
+
+    def test_given_twice(self):
+        """initial_values and v0 together are refused."""
+        with pytest.raises(ModelError) as info:
+            Oscillator(2, 4, 50).response(sp.cos(3 * t), [1, 0], 2, t=t)
+        assert str(info.value) == (
+            "initial values: the initial state is given twice, as initial_values and as x0 or v0. "
+            "Give either initial_values = [x0, v0] or x0 and v0."
+        )
+
+    def test_frequency_response_type(self):
+        """The method returns the engine's FrequencyResponse, the same as calckit.frequency_response."""
+        from calckit.engine.numeric import FrequencyResponse, frequency_response
+
+        osc = pump()
+        w = np.linspace(1.0, 60.0, 7)
+        h = osc.frequency_response(w)
+        assert isinstance(h, FrequencyResponse)
+        np.testing.assert_array_equal(h.receptance, frequency_response(osc, w).receptance)

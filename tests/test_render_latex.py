@@ -12,7 +12,7 @@ import sympy as sp
 from matplotlib.mathtext import MathTextParser
 
 from calckit import LinearODE, Oscillator
-from calckit.engine.steps import _KINDS, Step
+from calckit.engine.steps import STEP_KINDS, Step
 from calckit.errors import CalcError, SheetError
 from calckit.render.latex import (
     Notation,
@@ -254,7 +254,7 @@ class TestCoverage:
     def test_every_step_type_has_rows(self):
         """Each Step subclass is registered with step_rows (the base alone falls back to none)."""
         registered = set(step_rows.registry)
-        missing = [cls.__name__ for cls in _KINDS if cls is not Step and cls not in registered]
+        missing = [cls.__name__ for cls in STEP_KINDS if cls is not Step and cls not in registered]
         assert missing == []
 
     def test_every_step_in_corpus_has_a_formula(self, derivation):

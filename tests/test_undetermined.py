@@ -261,6 +261,82 @@ def test_property_random_operator_and_forcing(coeffs, f):
     assert residual(coeffs, der.solution, f) == 0, f"reproduce: ck.LinearODE({coeffs}).particular({f}, t=t)"
 
 
+def test_fractional_exponent_symbolic_first_order():
+    """x' + c x = e^{-t/2}: A (c - 1/2) = 1, so x_p = e^{-t/2} / (c - 1/2) (worked by hand)."""
+    cs = sp.Symbol("c")
+    der = ck.LinearODE([1, cs]).particular(sp.exp(-t / 2), t=t)
+    assert der.verified and residual([1, cs], der.solution, sp.exp(-t / 2)) == 0
+    assert sp.simplify(der.solution - sp.exp(-t / 2) / (cs - sp.Rational(1, 2))) == 0
+
+
+def test_fractional_exponent_symbolic_oscillator():
+    """m x'' + c x' + k x = e^{-t/2}: A (m/4 - c/2 + k) = 1 (worked by hand)."""
+    der = ck.Oscillator(m, c, k).particular(sp.exp(-t / 2), t=t)
+    assert der.verified and residual([m, c, k], der.solution, sp.exp(-t / 2)) == 0
+    assert sp.simplify(der.solution - sp.exp(-t / 2) / (m / 4 - c / 2 + k)) == 0
+
+
+fractions = st.sampled_from(
+    [sp.Rational(-1, 2), sp.Rational(-1, 3), sp.Rational(1, 4), sp.Rational(3, 2), 0, -1]
+)
+
+
+@st.composite
+def symbolic_operators(draw):
+    """Orders 1 to 3 with symbolic and fractional coefficients (leading one non-zero)."""
+    order = draw(st.integers(1, 3))
+    pool = st.sampled_from([m, c, k, sp.Rational(1, 2), sp.Rational(-3, 4), sp.Rational(5, 3), 1, 0])
+    lead = draw(st.sampled_from([1, m, sp.Rational(2, 3)]))
+    return [lead] + [draw(pool) for _ in range(order)]
+
+
+@st.composite
+def fractional_forcings(draw):
+    """Quasi-polynomial terms with fractional decays and frequencies and fractional coefficients."""
+    terms = draw(
+        st.lists(
+            st.tuples(
+                fractions,
+                st.integers(0, 1),
+                fractions,
+                st.sampled_from([0, sp.Rational(1, 2), 2]),
+                st.sampled_from("cs1"),
+            ),
+            min_size=1,
+            max_size=2,
+        )
+    )
+    total = sp.S.Zero
+    for coef, n, decay, freq, kind in terms:
+        trig = {"c": sp.cos(freq * t), "s": sp.sin(freq * t), "1": 1}[kind]
+        total += (coef or 1) * t**n * sp.exp(decay * t) * trig
+    return total
+
+
+@settings(max_examples=20, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(symbolic_operators(), fractional_forcings())
+def test_property_symbolic_fractional(coeffs, f):
+    """Symbolic coefficients and fractional exponents: back-substitution by sympy alone holds."""
+    der = ck.LinearODE(coeffs).particular(f, t=t)
+    assert der.verified
+    assert residual(coeffs, der.solution, f) == 0, f"reproduce: ck.LinearODE({coeffs}).particular({f}, t=t)"
+
+
+FRACTIONAL_DSOLVE_CASES = [
+    ([1, sp.Rational(1, 2)], sp.exp(-t / 3)),
+    ([1, sp.Rational(1, 3), sp.Rational(1, 4)], sp.sin(t / 2)),
+    ([2, sp.Rational(3, 2), sp.Rational(1, 4)], t * sp.exp(-t / 4)),
+    ([1, 1, sp.Rational(1, 4)], sp.exp(-t / 2)),  # -1/2 is a double root of the characteristic polynomial
+]
+
+
+@pytest.mark.parametrize("coeffs, f", FRACTIONAL_DSOLVE_CASES)
+def test_fractional_agrees_with_dsolve(coeffs, f):
+    """Fractional coefficients and exponents: calckit - dsolve solves the homogeneous equation
+    (sympy.dsolve, hint nth_linear_constant_coeff_undetermined_coefficients)."""
+    test_agrees_with_dsolve(coeffs, f)
+
+
 # --- errors -------------------------------------------------------------------------------
 
 
@@ -324,3 +400,46 @@ def test_nan_coefficient_message():
         "coefficient a_1 (position 2, highest derivative first): the value nan is not a finite number. "
         "Give a finite number."
     )
+
+
+class TestDefectOfCalckit:
+    """A failed check by substitution is calckit's defect: InternalError with a line to paste."""
+
+    def test_failed_check_raises_internal_error(self, monkeypatch):
+        """The check is forced to fail; the message says where, what, and how to reproduce."""
+        import calckit.engine.scalar
+
+        monkeypatch.setattr(calckit.engine.scalar, "satisfies", lambda *args: False)
+        with pytest.raises(ck.InternalError) as info:
+            ck.LinearODE([1, 0, 4]).particular(sp.cos(2 * t), t=t)
+        reproduce = (
+            "import calckit as ck; from sympy import *; t = Symbol('t', real=True); "
+            "ck.LinearODE([Integer(1), Integer(0), Integer(4)]).particular(cos(Mul(Integer(2), Symbol('t', "
+            "real=True))), t=t)"
+        )
+        assert str(info.value) == (
+            "forcing cos(2*t): the derived particular solution does not satisfy the equation (residual 0). "
+            "This is a defect of calckit, not of your input; please report it with this line: "
+            + reproduce
+            + "."
+        )
+        assert info.value.reproduce == reproduce
+        assert isinstance(info.value, RuntimeError) and isinstance(info.value, ck.CalcError)
+
+    def test_reproducer_repeats_the_case(self, monkeypatch):
+        """The pasted line runs the same derivation (it fails the same way while the check is broken)."""
+        import calckit.engine.scalar
+
+        m_, c_ = sp.symbols("m c", positive=True)
+        monkeypatch.setattr(calckit.engine.scalar, "satisfies", lambda *args: False)
+        with pytest.raises(ck.InternalError) as info:
+            ck.LinearODE([m_, c_, 3]).particular(t * sp.exp(-2 * t), t=t)
+        with pytest.raises(ck.InternalError) as again:
+            exec(info.value.reproduce, {})
+        assert str(again.value) == str(info.value)
+        monkeypatch.undo()
+        namespace: dict = {}
+        exec(info.value.reproduce.replace("ck.LinearODE", "der = ck.LinearODE"), namespace)
+        der = namespace["der"]
+        # checked by sympy alone, outside the engine
+        assert residual([m_, c_, 3], der.solution, t * sp.exp(-2 * t)) == 0

@@ -1,13 +1,32 @@
 """The method: forcing split into exponent groups, operators, undetermined coefficients.
 
-Step records, derivations, total responses and compiled numbers live here; the
-trade's models (:mod:`calckit.physics`) hand their equations to this layer.
+One skeleton (:mod:`calckit.engine.method`) with a scalar and a vector strategy
+(:mod:`~calckit.engine.scalar`, :mod:`~calckit.engine.vector`); the operator
+``LinearODE`` (:mod:`~calckit.engine.operator`); step records
+(:mod:`~calckit.engine.steps`); the ``Derivation`` and ``Response`` records;
+the check by substitution (:mod:`~calckit.engine.verify`); total responses and
+compiled numbers. The trade's models (:mod:`calckit.physics`) hand their
+equations to this layer.
 """
 
-from calckit.engine.forcing import ExponentGroup, ForcingSplit, ForcingTerm, split_forcing
-from calckit.engine.numeric import Compiled, FrequencyResponse, compile_expr, frequency_response, time_history
-from calckit.engine.response import Response, total_response  # noqa: I001 (after undetermined)
-from calckit.engine.undetermined import LAMBDA, Derivation, LinearODE, vanishes
+from calckit.engine.algebra import LAMBDA, is_zero, plain, real_imag, tidy
+from calckit.engine.derivation import Derivation, LinearOperator, ScalarOperator
+from calckit.engine.forcing import ExponentGroup, ForcingSplit, ForcingTerm, resolve_time, split_forcing
+from calckit.engine.method import GroupSolution, Strategy, derive, particular_step
+from calckit.engine.numeric import (
+    Compiled,
+    FrequencyResponse,
+    compile_expr,
+    float_matrix,
+    frequency_response,
+    time_history,
+)
+from calckit.engine.operator import LinearODE
+from calckit.engine.response import Response, homogeneous_basis, total_response
+from calckit.engine.scalar import ScalarStrategy
+from calckit.engine.vector import VectorStrategy
+from calckit.engine.vector_forcing import VectorForcing, VectorGroup, forcing_entries, split_forcing_vector
+from calckit.engine.verify import vanishes, verification_step
 
 __all__ = [
     "LAMBDA",
@@ -17,12 +36,32 @@ __all__ = [
     "ForcingSplit",
     "ForcingTerm",
     "FrequencyResponse",
+    "GroupSolution",
     "LinearODE",
+    "LinearOperator",
     "Response",
+    "ScalarOperator",
+    "ScalarStrategy",
+    "Strategy",
+    "VectorForcing",
+    "VectorGroup",
+    "VectorStrategy",
     "compile_expr",
+    "derive",
+    "float_matrix",
+    "forcing_entries",
     "frequency_response",
+    "homogeneous_basis",
+    "is_zero",
+    "particular_step",
+    "plain",
+    "real_imag",
+    "resolve_time",
     "split_forcing",
+    "split_forcing_vector",
+    "tidy",
     "time_history",
     "total_response",
     "vanishes",
+    "verification_step",
 ]

@@ -37,6 +37,9 @@ __all__ = [
     "split_forcing",
     "quasi_polynomial",
     "resolve_time",
+    "add_into",
+    "COS",
+    "SIN",
 ]
 
 # kind of the harmonic factor of a term
@@ -121,7 +124,9 @@ def _canon_rate(expr: sp.Expr) -> sp.Expr:
     return sp.expand(expr)
 
 
-def _add_into(acc: dict, key: tuple, coef: sp.Expr) -> None:
+def add_into(acc: dict, key: tuple, coef: sp.Expr) -> None:
+    """Add ``coef`` to the term ``key = (a, b, kind, n)`` of a real-form table, in canonical form
+    (``b >= 0``, no sine at ``b = 0``)."""
     a, b, kind, n = key
     b = _canon_rate(b)
     if b == 0:
@@ -143,7 +148,7 @@ def _sum(parts: list[dict]) -> dict:
     acc: dict = {}
     for part in parts:
         for key, coef in part.items():
-            _add_into(acc, key, coef)
+            add_into(acc, key, coef)
     return acc
 
 
@@ -154,23 +159,23 @@ def _product(p: dict, q: dict) -> dict:
         for (a2, b2, k2, n2), c2 in q.items():
             a, n, c = a1 + a2, n1 + n2, c1 * c2
             if b1 == 0 and b2 == 0:
-                _add_into(acc, (a, 0, COS, n), c)
+                add_into(acc, (a, 0, COS, n), c)
             elif b2 == 0:
-                _add_into(acc, (a, b1, k1, n), c)
+                add_into(acc, (a, b1, k1, n), c)
             elif b1 == 0:
-                _add_into(acc, (a, b2, k2, n), c)
+                add_into(acc, (a, b2, k2, n), c)
             elif k1 == COS and k2 == COS:  # cos x cos y = [cos(x-y) + cos(x+y)]/2
-                _add_into(acc, (a, b1 - b2, COS, n), half * c)
-                _add_into(acc, (a, b1 + b2, COS, n), half * c)
+                add_into(acc, (a, b1 - b2, COS, n), half * c)
+                add_into(acc, (a, b1 + b2, COS, n), half * c)
             elif k1 == SIN and k2 == SIN:  # sin x sin y = [cos(x-y) - cos(x+y)]/2
-                _add_into(acc, (a, b1 - b2, COS, n), half * c)
-                _add_into(acc, (a, b1 + b2, COS, n), -half * c)
+                add_into(acc, (a, b1 - b2, COS, n), half * c)
+                add_into(acc, (a, b1 + b2, COS, n), -half * c)
             elif k1 == SIN:  # sin x cos y = [sin(x+y) + sin(x-y)]/2
-                _add_into(acc, (a, b1 + b2, SIN, n), half * c)
-                _add_into(acc, (a, b1 - b2, SIN, n), half * c)
+                add_into(acc, (a, b1 + b2, SIN, n), half * c)
+                add_into(acc, (a, b1 - b2, SIN, n), half * c)
             else:  # cos x sin y = [sin(x+y) - sin(x-y)]/2
-                _add_into(acc, (a, b1 + b2, SIN, n), half * c)
-                _add_into(acc, (a, b1 - b2, SIN, n), -half * c)
+                add_into(acc, (a, b1 + b2, SIN, n), half * c)
+                add_into(acc, (a, b1 - b2, SIN, n), -half * c)
     return acc
 
 

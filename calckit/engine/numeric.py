@@ -43,7 +43,14 @@ import sympy as sp
 from calckit.core.exact import exact
 from calckit.errors import ModelError, UnitsError
 
-__all__ = ["Compiled", "FrequencyResponse", "compile_expr", "time_history", "frequency_response"]
+__all__ = [
+    "Compiled",
+    "FrequencyResponse",
+    "compile_expr",
+    "float_matrix",
+    "frequency_response",
+    "time_history",
+]
 
 #: imaginary parts below this fraction of the largest magnitude count as rounding
 IMAG_TOLERANCE = 1e-9
@@ -294,10 +301,12 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     Parameters
     ----------
     response_or_derivation : Response or Derivation
-        From :meth:`Oscillator.response`, :func:`calckit.response.total_response`
+        From :meth:`Oscillator.response`, :func:`calckit.engine.response.total_response`
         or ``particular``.
     times : array-like or pint Quantity
         Times in s.
+        The result has the shape of *times*, or ``(n, len(times))`` for the
+        column solution of an n-coordinate model.
     part : {"solution", "transient", "steady_state"}
         Which part of a Response to evaluate (a Derivation has only its solution).
     **values
@@ -314,13 +323,22 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     array([ 1., -1.])
     """
     expr, t = _source(response_or_derivation, part)
-    compiled = compile_expr(expr, t, parameters=sorted(expr.free_symbols - {t}, key=lambda s: s.name))
+    parameters = sorted(expr.free_symbols - {t}, key=lambda s: s.name)
+    if isinstance(expr, sp.MatrixBase):  # a multi-mass model: one row per coordinate, shape (n, len(times))
+        rows = [compile_expr(row, t, parameters=parameters)(times, **values) for row in expr]
+        return np.vstack([np.broadcast_to(row, np.shape(rows[0])) for row in rows])
+    compiled = compile_expr(expr, t, parameters=parameters)
     return compiled(times, **values)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class FrequencyResponse:
     """Steady-state response to a unit harmonic force at each frequency.
+
+    The one return type of ``calckit.frequency_response``,
+    ``Oscillator.frequency_response`` and ``MultiMass.frequency_response``. It
+    reads as its receptance array (``H[0]``, ``H[:, 0, 0]``, ``np.abs(H)``,
+    ``H.shape``), so code written for the bare array keeps working.
 
     Attributes
     ----------
@@ -328,14 +346,30 @@ class FrequencyResponse:
         Forcing frequencies, rad/s.
     receptance : numpy.ndarray (complex)
         ``H(omega) = X / F = 1 / p(i omega)``, m/N: for the oscillator
-        ``1 / (k - m omega^2 + i c omega)``.
-    static_stiffness : numpy.ndarray
-        ``a_0`` (``k`` for the oscillator), N/m, broadcast to the shape of omega.
+        ``1 / (k - m omega^2 + i c omega)``; for a multi-mass model the matrices
+        ``(K - omega^2 M + i omega C)^{-1}``, shape ``(len(omega), n, n)``.
+    static_stiffness : numpy.ndarray or None
+        ``a_0`` (``k`` for the oscillator), N/m, broadcast to the shape of omega;
+        None for a multi-mass model (its static stiffness is the matrix K).
     """
 
     omega: np.ndarray
     receptance: np.ndarray
-    static_stiffness: np.ndarray
+    static_stiffness: np.ndarray | None = None
+
+    def __array__(self, dtype=None, copy=None) -> np.ndarray:
+        return self.receptance if dtype is None else self.receptance.astype(dtype)
+
+    def __getitem__(self, index):
+        return self.receptance[index]
+
+    def __len__(self) -> int:
+        return len(self.receptance)
+
+    @property
+    def shape(self) -> tuple[int, ...]:
+        """The receptance array's shape."""
+        return self.receptance.shape
 
     @property
     def amplitude(self) -> np.ndarray:
@@ -358,6 +392,12 @@ class FrequencyResponse:
     @property
     def magnification(self) -> np.ndarray:
         """``k |H|``: amplitude over the static deflection ``F / k``."""
+        if self.static_stiffness is None:
+            raise ModelError(
+                "a receptance matrix has no single static deflection to compare with",
+                where="FrequencyResponse.magnification",
+                do="Use the amplitude |H| (m/N), or multiply a column by the stiffness you compare with",
+            )
         if np.any(self.static_stiffness == 0):
             raise ModelError(
                 "with no spring (k = 0) there is no static deflection to compare with",
@@ -385,7 +425,9 @@ def frequency_response(osc, omegas, **values) -> FrequencyResponse:
 
     Parameters
     ----------
-    osc : Oscillator or LinearODE
+    osc : Oscillator, LinearODE or MultiMass
+        For a multi-mass model the receptance is the matrix
+        ``(K - omega^2 M + i omega C)^{-1}`` at each frequency.
     omegas : array-like
         Forcing frequencies, rad/s.
     **values
@@ -399,6 +441,8 @@ def frequency_response(osc, omegas, **values) -> FrequencyResponse:
     >>> fr.magnification
     array([1.        , 1.33333333])
     """
+    if all(hasattr(osc, name) for name in ("M", "C", "K")):
+        return _matrix_response(osc, omegas, values)
     coefficients = getattr(osc, "coefficients", None)
     if coefficients is None:
         raise ModelError(
@@ -415,7 +459,11 @@ def frequency_response(osc, omegas, **values) -> FrequencyResponse:
         h = h.astype(complex)
     k = stiffness(w, **values)
     shape = np.broadcast_shapes(h.shape, np.shape(w))
-    return FrequencyResponse(np.array(np.broadcast_to(w, shape)), h, np.array(np.broadcast_to(k, shape)))
+    return FrequencyResponse(
+        omega=np.array(np.broadcast_to(w, shape)),
+        receptance=h,
+        static_stiffness=np.array(np.broadcast_to(k, shape)),
+    )
 
 
 def _omega_array(omegas) -> np.ndarray:
@@ -435,3 +483,45 @@ def _omega_array(omegas) -> np.ndarray:
             where="omega",
             do="Give rad/s or rpm",
         ) from exc
+
+
+def float_matrix(matrix: sp.ImmutableMatrix, label: str) -> np.ndarray:
+    """*matrix* as a numpy float array; ModelError naming *label* when it has symbols."""
+    if matrix.free_symbols:
+        raise ModelError(
+            f"{label} has symbols ({', '.join(sorted(map(str, matrix.free_symbols)))}); this needs numbers",
+            where=label,
+            do="Substitute numbers first, e.g. MultiMass(M.subs(values), C.subs(values), K.subs(values))",
+        )
+    return np.array(matrix.tolist(), dtype=float)
+
+
+def _matrix_response(model, omegas, values: dict) -> FrequencyResponse:
+    """Receptance matrices ``(K - omega^2 M + i omega C)^{-1}`` of a multi-mass model."""
+    given = {
+        s: values[s.name] for m in (model.M, model.C, model.K) for s in m.free_symbols if s.name in values
+    }
+    mass, damping, stiffness = (
+        float_matrix(m.subs(given) if given else m, label)
+        for m, label in ((model.M, "M"), (model.C, "C"), (model.K, "K"))
+    )
+    w = _times_array(omegas, "omega") if not _is_quantity(omegas) else _omega_array(omegas)
+    w = np.atleast_1d(w)
+    if w.ndim != 1:
+        raise ModelError(
+            f"expected a list of frequencies, got an array of shape {w.shape}",
+            where="frequency_response",
+            do="Give a one-dimensional sequence of angular frequencies in rad/s",
+        )
+    z = stiffness[None] - (w**2)[:, None, None] * mass[None] + 1j * w[:, None, None] * damping[None]
+    try:
+        receptance = np.linalg.inv(z)
+    except np.linalg.LinAlgError as exc:
+        dets = np.abs(np.linalg.det(z))
+        where = float(w[int(np.argmin(dets))])
+        raise ModelError(
+            f"the receptance is unbounded at omega = {where:g} rad/s (undamped resonance)",
+            where="frequency_response",
+            do="Leave the natural frequencies out of the list, or add damping",
+        ) from exc
+    return FrequencyResponse(omega=w, receptance=receptance)

@@ -16,20 +16,22 @@ import sympy as sp
 
 from calckit.core.display import Displayable
 from calckit.core.exact import exact
+from calckit.engine.algebra import is_zero, real_imag, tidy
+from calckit.engine.derivation import Derivation, ScalarOperator
 from calckit.engine.steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
-from calckit.engine.undetermined import Derivation, LinearODE, _is_zero, _tidy
 from calckit.errors import ModelError
 
 __all__ = ["Response", "homogeneous_basis", "total_response"]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class Response(Displayable):
     """Total response ``x(t) = transient + steady state`` meeting the initial values.
 
     Attributes
     ----------
-    solution, transient, steady_state : sympy.Expr
+    solution, transient, steady_state : sympy.Expr or sympy.ImmutableMatrix
+        Columns for a multi-mass model.
     particular : Derivation
         The derivation of the steady state (particular solution).
     constants : tuple of (Symbol, value)
@@ -39,12 +41,13 @@ class Response(Displayable):
         initial-value equations and the total.
     """
 
-    solution: sp.Expr
-    transient: sp.Expr
-    steady_state: sp.Expr
+    solution: sp.Expr | sp.ImmutableMatrix
+    transient: sp.Expr | sp.ImmutableMatrix
+    steady_state: sp.Expr | sp.ImmutableMatrix
     particular: Derivation
     constants: tuple[tuple[sp.Symbol, sp.Expr], ...]
-    initial_values: tuple[sp.Expr, ...]
+    # x(0), x'(0), ... of a scalar model; (x0, v0) columns of a multi-mass model
+    initial_values: tuple[sp.Expr, ...] | tuple[sp.ImmutableMatrix, sp.ImmutableMatrix]
     t: sp.Symbol
     steps: tuple[Step, ...]
 
@@ -60,14 +63,14 @@ class Response(Displayable):
         return self.particular.verified
 
 
-def _root_groups(ode: LinearODE, roots):
+def _root_groups(roots):
     """Pair complex roots as (a, b, multiplicity) with b > 0; real ones with b = 0."""
     out = []
     seen = set()
     for root, mult in roots:
-        real, imag = root.as_real_imag() if root.is_number else _split_symbolic(root)
+        real, imag = root.as_real_imag() if root.is_number else real_imag(root)
         real, imag = sp.simplify(real), sp.simplify(imag)
-        if _is_zero(imag):
+        if is_zero(imag):
             out.append((real, sp.S.Zero, mult))
             continue
         key = (real, abs(imag) if imag.is_number else sp.sqrt(sp.factor(imag**2)))
@@ -78,18 +81,7 @@ def _root_groups(ode: LinearODE, roots):
     return out
 
 
-def _split_symbolic(root):
-    real, imag = sp.S.Zero, sp.S.Zero
-    for term in sp.Add.make_args(sp.expand(root)):
-        coef, rest = term.as_independent(sp.I, as_Add=False)
-        if rest == sp.I:
-            imag += coef
-        else:
-            real += term
-    return real, imag
-
-
-def homogeneous_basis(ode: LinearODE, t: sp.Symbol, roots=None) -> tuple[sp.Expr, ...]:
+def homogeneous_basis(ode: ScalarOperator, t: sp.Symbol, roots=None) -> tuple[sp.Expr, ...]:
     """Real basis functions of the homogeneous solution.
 
     Raises ModelError when the roots of a symbolic characteristic polynomial are
@@ -103,7 +95,7 @@ def homogeneous_basis(ode: LinearODE, t: sp.Symbol, roots=None) -> tuple[sp.Expr
             do="Give numeric coefficients, or a lower-order model",
         )
     basis = []
-    for a, b, mult in _root_groups(ode, roots):
+    for a, b, mult in _root_groups(roots):
         for j in range(mult):
             if b == 0:
                 basis.append(t**j * sp.exp(a * t))
@@ -120,7 +112,7 @@ def homogeneous_basis(ode: LinearODE, t: sp.Symbol, roots=None) -> tuple[sp.Expr
 
 
 def total_response(
-    ode: LinearODE,
+    ode: ScalarOperator,
     f,
     initial_values,
     *,
@@ -182,7 +174,7 @@ def total_response(
             do="Please report this model to the calckit maintainers",
         ) from exc
     found = tuple(
-        (c, _tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
+        (c, tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
         for c, v in zip(constants, solved, strict=True)
     )
     mapping = dict(found)
@@ -207,12 +199,12 @@ def total_response(
     )
     steps = der.steps + (homogeneous, ic_step, total_step)
     return Response(
-        transient + der.solution,
-        transient,
-        der.solution,
-        der,
-        found,
-        tuple(values),
-        t,
-        steps,
+        solution=transient + der.solution,
+        transient=transient,
+        steady_state=der.solution,
+        particular=der,
+        constants=found,
+        initial_values=tuple(values),
+        t=t,
+        steps=steps,
     )

@@ -16,6 +16,7 @@ import sympy as sp
 
 from calckit.core.display import Displayable
 from calckit.engine.forcing import ExponentGroup
+from calckit.engine.vector_forcing import VectorGroup
 
 __all__ = [
     "Deferred",
@@ -34,6 +35,13 @@ __all__ = [
     "HomogeneousStep",
     "InitialConditionsStep",
     "TotalResponseStep",
+    "MatrixEquationStep",
+    "VectorForcingStep",
+    "ModeResonanceStep",
+    "VectorCoefficientEquationsStep",
+    "ModeExcitationStep",
+    "ModesStep",
+    "STEP_KINDS",
 ]
 
 
@@ -86,7 +94,7 @@ class Step(Displayable):
     @property
     def kind(self) -> str:
         """A stable name of the step's type, e.g. ``"trial-form"``."""
-        return _KINDS[type(self)]
+        return STEP_KINDS[type(self)]
 
 
 @dataclass(frozen=True)
@@ -215,7 +223,78 @@ class TotalResponseStep(Step):
     t: sp.Symbol
 
 
-_KINDS = {
+# ---------------------------------------------------------------------------
+# records of the vector method (the scalar records are reused where they fit)
+
+
+@dataclass(frozen=True)
+class MatrixEquationStep(Step):
+    """The equations of motion ``M x'' + C x' + K x = F(t)``."""
+
+    mass: sp.ImmutableMatrix
+    damping: sp.ImmutableMatrix
+    stiffness: sp.ImmutableMatrix
+    forcing: sp.ImmutableMatrix
+    t: sp.Symbol
+    unknown: sp.Symbol
+
+
+@dataclass(frozen=True)
+class VectorForcingStep(Step):
+    """The forcing vector's terms pooled into exponent groups over all rows."""
+
+    forcing: sp.ImmutableMatrix
+    groups: tuple[VectorGroup, ...]
+    t: sp.Symbol
+
+
+@dataclass(frozen=True)
+class ModeResonanceStep(ResonanceStep):
+    """Multiplicity of the exponent as a root of ``det Z``, and the mode(s) it meets.
+
+    ``modes`` are 1-based mode numbers (empty when not identified),
+    ``natural_frequency`` the undamped natural frequency met (None when the
+    exponent is not a pure harmonic of the undamped model), ``mode_shape`` a
+    vector spanning the free motion (None when not resonant).
+    """
+
+    modes: tuple[int, ...] = ()
+    natural_frequency: sp.Expr | None = None
+    mode_shape: sp.ImmutableMatrix | None = None
+
+
+@dataclass(frozen=True)
+class VectorCoefficientEquationsStep(Step):
+    """One vector equation per basis function: ``lhs[r] = rhs[r]`` for every row r."""
+
+    group: int
+    basis: tuple[sp.Expr, ...]
+    equations: tuple[tuple[sp.ImmutableMatrix, sp.ImmutableMatrix], ...]
+
+
+@dataclass(frozen=True)
+class ModeExcitationStep(Step):
+    """At a resonance: whether the resonant mode is excited, and whether x grows without bound."""
+
+    group: int
+    modes: tuple[int, ...]
+    natural_frequency: sp.Expr | None
+    excited: bool
+    growth_power: int  # highest extra power of t that survives (0 when not excited)
+    unbounded: bool
+
+
+@dataclass(frozen=True)
+class ModesStep(Step):
+    """Natural frequencies, mass-normalised mode shapes and modal damping ratios."""
+
+    frequencies: tuple
+    shapes: sp.ImmutableMatrix
+    damping_ratios: tuple
+
+
+#: the one table of kinds: each record type and its stable name
+STEP_KINDS = {
     Step: "step",
     EquationStep: "equation",
     ForcingSplitStep: "forcing-split",
@@ -231,4 +310,10 @@ _KINDS = {
     HomogeneousStep: "homogeneous",
     InitialConditionsStep: "initial-conditions",
     TotalResponseStep: "total-response",
+    MatrixEquationStep: "equation",
+    VectorForcingStep: "forcing-split",
+    ModeResonanceStep: "resonance",
+    VectorCoefficientEquationsStep: "coefficient-equations",
+    ModeExcitationStep: "mode-excitation",
+    ModesStep: "modes",
 }

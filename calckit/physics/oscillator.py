@@ -19,13 +19,18 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numpy as np
 import sympy as sp
 
 from calckit.core.exact import exact
-from calckit.engine.forcing import split_forcing
-from calckit.engine.response import Response, total_response
-from calckit.engine.undetermined import Derivation, LinearODE
+from calckit.engine import (
+    Derivation,
+    FrequencyResponse,
+    LinearODE,
+    Response,
+    frequency_response,
+    split_forcing,
+    total_response,
+)
 from calckit.errors import ModelError
 
 __all__ = ["Oscillator", "HarmonicLine", "REGIMES"]
@@ -268,12 +273,26 @@ class Oscillator(LinearODE):
             return exact(f.magnitude, where="forcing") * exact(scale, where="forcing")
         return f
 
-    def response(self, f, x0=0, v0=0, *, t: sp.Symbol | None = None) -> Response:
+    def response(self, f, x0=0, v0=0, *, t: sp.Symbol | None = None, initial_values=None) -> Response:
         """Total response meeting ``x(0) = x0`` and ``x'(0) = v0``.
+
+        The initial state may also be given as the base class takes it, a list
+        ``initial_values = [x0, v0]`` (``[x0]`` for a massless model), in the place
+        of x0 or by keyword: ``osc.response(f, [0.002, 0], t=t)``.
 
         For a massless model (``m = 0``) the equation is first order and only
         ``x0`` is used; ``v0`` must then be left at 0 or None.
+
+        Examples
+        --------
+        >>> t = sp.Symbol("t", real=True)
+        >>> Oscillator(1, 0, 4).response(0, [1, 0], t=t).solution
+        cos(2*t)
         """
+        if initial_values is None and isinstance(x0, (list, tuple)):
+            initial_values, x0 = x0, 0
+        if initial_values is not None:
+            x0, v0 = self._unpack(initial_values, x0, v0)
         f = self._forcing_si(f)
         x0 = self._initial(x0, "x0", "length")
         if self.m == 0:
@@ -289,6 +308,23 @@ class Oscillator(LinearODE):
         t = split_forcing(f, t).t
         regime = self.regime if (self.m != 0 and self.k != 0) else ""
         return total_response(self, f, values, t=t, basis=self.transient_basis(t), regime=regime)
+
+    def _unpack(self, initial_values, x0, v0):
+        values = list(initial_values)
+        order = 1 if self.m == 0 else 2
+        if len(values) != order:
+            raise ModelError(
+                f"got {len(values)} initial value(s) for an equation of order {order}",
+                where="initial values",
+                do="Give [x0, v0]" if order == 2 else "Give [x0]; a massless model has no initial velocity",
+            )
+        if x0 not in (None, 0) or v0 not in (None, 0):
+            raise ModelError(
+                "the initial state is given twice, as initial_values and as x0 or v0",
+                where="initial values",
+                do="Give either initial_values = [x0, v0] or x0 and v0",
+            )
+        return values[0], (values[1] if order == 2 else 0)
 
     def _initial(self, value, label, kind):
         if _is_quantity(value):
@@ -326,16 +362,28 @@ class Oscillator(LinearODE):
             lines.append(HarmonicLine(w, force, sp.atan2(fs, fc), amplitude, lag, mag))
         return tuple(lines)
 
-    def frequency_response(self, omega) -> np.ndarray:
-        """Receptance ``H(omega) = 1 / (k - m omega^2 + i c omega)`` at numeric frequencies (m/N)."""
+    def frequency_response(self, omega, **values) -> FrequencyResponse:
+        """Receptance ``H(omega) = 1 / (k - m omega^2 + i c omega)`` at numeric frequencies (m/N).
+
+        Returns a :class:`~calckit.engine.numeric.FrequencyResponse` (``receptance``,
+        ``amplitude``, ``phase_lag``, ``magnification``), the type
+        :func:`calckit.engine.numeric.frequency_response` and
+        ``MultiMass.frequency_response`` return; it reads as the receptance array
+        (``np.abs(H)``, ``H[0]``). Symbols take numbers from *values* by name. At an
+        undamped resonance the receptance is infinite, quietly.
+
+        Examples
+        --------
+        >>> H = Oscillator(1, 0, 4).frequency_response([0.0, 1.0])
+        >>> H.magnification
+        array([1.        , 1.33333333])
+        """
         params = [self.m, self.c, self.k]
-        if any(p.free_symbols for p in params):
+        missing = sorted({s.name for p in params for s in p.free_symbols} - set(values))
+        if missing:
             raise ModelError(
                 "the frequency response needs numeric m, c and k",
                 where="frequency_response",
                 do="Substitute numbers first (Oscillator(m, c, k) with values)",
             )
-        m, c, k = (float(p) for p in params)
-        w = np.asarray(omega, dtype=float)
-        with np.errstate(divide="ignore", invalid="ignore"):  # inf at an undamped resonance
-            return 1.0 / (k - m * w**2 + 1j * c * w)
+        return frequency_response(self, omega, **values)

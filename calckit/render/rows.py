@@ -1,0 +1,309 @@
+"""Step records to rows: one entry of :func:`step_rows` per kind of step, scalar and vector.
+
+The scalar method's records (equation, forcing split, characteristic polynomial,
+resonance, trial form, ...) and the vector method's (matrix equation, vector
+forcing, vector coefficient equations, modes) are turned into the rows of
+:mod:`calckit.render.tex`; :mod:`calckit.render.latex` prints them.
+"""
+
+from __future__ import annotations
+
+import functools
+
+import sympy as sp
+
+from calckit.engine.steps import (
+    CharacteristicStep,
+    CoefficientEquationsStep,
+    DerivativesStep,
+    EquationStep,
+    ForcingSplitStep,
+    HomogeneousStep,
+    InitialConditionsStep,
+    MatrixEquationStep,
+    ModeExcitationStep,
+    ModeResonanceStep,
+    ModesStep,
+    ParticularSolutionStep,
+    ResonanceStep,
+    SolvedCoefficientsStep,
+    Step,
+    SubstitutionStep,
+    TotalResponseStep,
+    TrialFormStep,
+    VectorCoefficientEquationsStep,
+    VectorForcingStep,
+    VerificationStep,
+)
+from calckit.render.tex import (
+    EQ,
+    NE,
+    Notation,
+    Row,
+    Tex,
+    _call,
+    _combination,
+    _derivative,
+    _e,
+    _exponent,
+    _group_sub,
+    _long_rows,
+    _operator,
+    _words,
+)
+
+__all__ = ["step_rows"]
+
+
+@functools.singledispatch
+def step_rows(step: Step, nt: Notation) -> tuple[Row, ...]:
+    """The rows of one step's formula (no rows for a step type without one).
+
+    Parameters
+    ----------
+    step : Step
+    nt : Notation
+        From :func:`notation`.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> from calckit.engine.steps import ParticularSolutionStep
+    >>> from calckit.render.tex import rows_text
+    >>> t = sp.Symbol("t")
+    >>> step = ParticularSolutionStep("Particular solution", "It is.", sp.cos(t) / 2, t)
+    >>> rows_text(step_rows(step, Notation()))
+    'x_p(t) = cos(t)/2'
+    """
+    return ()
+
+
+@step_rows.register
+def _(step: EquationStep, nt: Notation) -> tuple[Row, ...]:
+    n = len(step.coefficients) - 1
+    lhs = _combination(((c, _derivative(nt, n - i)) for i, c in enumerate(step.coefficients)), nt)
+    f = Tex("f(t)", "f(t)")
+    return (Row((lhs,), (EQ, f)), Row((f,), (EQ, _e(step.forcing, nt))))
+
+
+@step_rows.register
+def _(step: ForcingSplitStep, nt: Notation) -> tuple[Row, ...]:
+    many = len(step.groups) > 1
+    rows = []
+    for g, group in enumerate(step.groups, start=1):
+        f = Tex(f"f_{{{g}}}(t)", f"f_{g}(t)") if many else Tex("f(t)", "f(t)")
+        lam = Tex(rf"\lambda_{{{g}}}", f"lambda_{g}") if many else Tex(r"\lambda", "lambda")
+        exponent = _exponent(group, nt)
+        rows.append(Row((f,), (EQ, _e(group.expr(step.t), nt)), (lam, EQ, exponent)))
+    if not rows:
+        rows.append(Row((Tex("f(t)", "f(t)"),), (EQ, Tex("0", "0")), (_words("no forcing terms"),)))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: CharacteristicStep, nt: Notation) -> tuple[Row, ...]:
+    lam = _e(step.variable, nt)
+    p = Tex(rf"p({lam.latex})", f"p({lam.text})")
+    poly = sp.Poly(step.polynomial, step.variable)
+    n = poly.degree()
+    power = {
+        j: None if j == 0 else (lam if j == 1 else Tex(f"{lam.latex}^{{{j}}}", f"{lam.text}**{j}"))
+        for j in range(n + 1)
+    }
+    body = _combination(((c, power[n - i]) for i, c in enumerate(poly.all_coeffs())), nt)
+    rows = [Row((p,), (EQ, body, EQ, Tex("0", "0")))]
+    if step.roots is None or len(step.roots) == 0:  # a Deferred search may find none
+        rows.append(Row((), (), (_words("roots not found in closed form"),)))
+        return tuple(rows)
+    which = {1: "simple root", 2: "double root", 3: "triple root"}
+    for root, mult in step.roots:
+        rows.append(
+            Row((lam,), (EQ, _e(root, nt)), (_words(which.get(mult, f"root of multiplicity {mult}")),))
+        )
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: ResonanceStep, nt: Notation) -> tuple[Row, ...]:
+    many = nt.groups > 1
+    p_of = _call(Tex("p", "p"), step.exponent, nt)
+    if many:
+        lhs: tuple[Tex, ...] = (Tex(rf"p(\lambda_{{{step.group}}})", f"p(lambda_{step.group})"), EQ, p_of)
+        s = Tex(f"s_{{{step.group}}}", f"s_{step.group}")
+    else:
+        lhs = (p_of,)
+        s = Tex("s", "s")
+    if step.multiplicity == 0:
+        rhs = (EQ, _e(step.value, nt), NE, Tex("0", "0"))
+        note = (_words("not a root, multiplicity "), s, EQ, Tex("0", "0"))
+    else:
+        rhs = (EQ, Tex("0", "0"))
+        kind = {1: "simple", 2: "double", 3: "triple"}.get(step.multiplicity, "multiple")
+        note = (_words(f"{kind} root (resonance), multiplicity "), s, EQ, _e(step.multiplicity, nt))
+    return (Row(lhs, rhs, note),)
+
+
+@step_rows.register
+def _(step: TrialFormStep, nt: Notation) -> tuple[Row, ...]:
+    return (Row((_derivative(nt, 0, _group_sub(nt, step.group), "t"),), (EQ, _e(step.trial, nt))),)
+
+
+@step_rows.register
+def _(step: DerivativesStep, nt: Notation) -> tuple[Row, ...]:
+    sub = _group_sub(nt, step.group)
+    return tuple(
+        Row((_derivative(nt, j, sub, "t"),), (EQ, _e(d, nt))) for j, d in enumerate(step.derivatives, start=1)
+    )
+
+
+@step_rows.register
+def _(step: SubstitutionStep, nt: Notation) -> tuple[Row, ...]:
+    sub = _group_sub(nt, step.group)
+    f = Tex(f"f_{{{step.group}}}(t)", f"f_{step.group}(t)") if nt.groups > 1 else Tex("f(t)", "f(t)")
+    return (
+        Row((_operator(nt, sub),), (EQ, f)),
+        Row((_e(step.lhs, nt),), (EQ, _e(step.rhs, nt))),
+    )
+
+
+def _linear(expr: sp.Expr, unknowns: tuple[sp.Symbol, ...], nt: Notation) -> Tex:
+    """A linear form written coefficient first: ``(k - m r^2) A + c r B``."""
+    expr = sp.sympify(expr)
+    used = [u for u in unknowns if expr.has(u)]
+    if not used:
+        return _e(expr, nt)
+    poly = sp.Poly(expr, *used)
+    if poly.total_degree() > 1:
+        return _e(expr, nt)
+    pairs = [(poly.coeff_monomial(u), _e(u, nt)) for u in used]
+    pairs.append((poly.coeff_monomial(1), None))
+    return _combination(pairs, nt)
+
+
+@step_rows.register
+def _(step: CoefficientEquationsStep, nt: Notation) -> tuple[Row, ...]:
+    unknowns = nt.unknowns_of(step.group)
+    return tuple(
+        Row(
+            (_linear(eq.lhs, unknowns, nt),),
+            (EQ, _e(eq.rhs, nt)),
+            (_words("coefficients of "), _e(basis, nt)),
+        )
+        for basis, eq in zip(step.basis, step.equations, strict=True)
+    )
+
+
+@step_rows.register
+def _(step: SolvedCoefficientsStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [Row((_e(u, nt),), (EQ, _e(v, nt))) for u, v in step.values]
+    for cond in step.conditions:
+        rows.append(Row((), (), (_words("provided "), _e(cond, nt))))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: ParticularSolutionStep, nt: Notation) -> tuple[Row, ...]:
+    return _long_rows((_derivative(nt, 0, "p", "t"),), step.solution, nt)
+
+
+@step_rows.register
+def _(step: VerificationStep, nt: Notation) -> tuple[Row, ...]:
+    operator = _operator(nt, "p")
+    lhs = Tex(f"{operator.latex} - f(t)", f"{operator.text} - f(t)")
+    if step.verified:
+        return (Row((lhs,), (EQ, Tex("0", "0")), (_words("verified"),)),)
+    return (Row((lhs,), (EQ, _e(step.residual, nt), NE, Tex("0", "0")), (_words("not verified"),)),)
+
+
+@step_rows.register
+def _(step: HomogeneousStep, nt: Notation) -> tuple[Row, ...]:
+    return _long_rows((_derivative(nt, 0, "h", "t"),), step.solution, nt)
+
+
+@step_rows.register
+def _(step: InitialConditionsStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [
+        Row((_derivative(nt, j, None, "0"),), (EQ, _e(eq.lhs, nt), EQ, _e(eq.rhs, nt)))
+        for j, eq in enumerate(step.equations)
+    ]
+    rows.extend(Row((_e(c, nt),), (EQ, _e(v, nt))) for c, v in step.values)
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: TotalResponseStep, nt: Notation) -> tuple[Row, ...]:
+    x = _derivative(nt, 0, None, "t")
+    xh, xp = _derivative(nt, 0, "h", "t"), _derivative(nt, 0, "p", "t")
+    total = _long_rows((), step.solution, nt)
+    return (
+        *_long_rows((xh,), step.transient, nt),
+        Row((x,), (EQ, Tex(f"{xh.latex} + {xp.latex}", f"{xh.text} + {xp.text}"))),
+        *total,
+    )
+
+
+# ------------------------------------------------------------------ printers
+
+
+# ---------------------------------------------------------------------------
+# the vector method's records
+
+
+def _name(latex: str, text: str | None = None) -> Tex:
+    """A fixed name, spelled in LaTeX and (default: the same) in plain text."""
+    return Tex(latex, latex if text is None else text)
+
+
+@step_rows.register
+def _(step: MatrixEquationStep, nt: Notation) -> tuple[Row, ...]:
+    lhs = Tex(r"M \ddot{x} + C \dot{x} + K x", "M x'' + C x' + K x")
+    rows = [Row((lhs,), (EQ, _name("F(t)")))]
+    for label, matrix in (("M", step.mass), ("C", step.damping), ("K", step.stiffness)):
+        rows.append(Row((_name(label),), (EQ, _e(matrix, nt))))
+    rows.append(Row((_name("F(t)"),), (EQ, _e(step.forcing, nt))))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: VectorForcingStep, nt: Notation) -> tuple[Row, ...]:
+    many = len(step.groups) > 1
+    rows = []
+    for g, group in enumerate(step.groups, start=1):
+        f = _name(f"F_{{{g}}}(t)", f"F_{g}(t)") if many else _name("F(t)")
+        lam = _name(rf"\lambda_{{{g}}}", f"lambda_{g}") if many else _name(r"\lambda", "lambda")
+        exponent = _e(group.exponent, nt)
+        rows.append(Row((f,), (EQ, _e(group.expr(step.t), nt)), (lam, EQ, exponent)))
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: VectorCoefficientEquationsStep, nt: Notation) -> tuple[Row, ...]:
+    words = Tex(r"\text{coefficients of }", "coefficients of ")
+    return tuple(
+        Row((_e(lhs, nt),), (EQ, _e(rhs, nt)), (words, _e(basis, nt)))
+        for basis, (lhs, rhs) in zip(step.basis, step.equations, strict=True)
+    )
+
+
+@step_rows.register
+def _(step: ModesStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [
+        Row((_name(rf"\omega_{{{i}}}", f"omega_{i}"),), (EQ, _e(sp.sympify(w), nt)))
+        for i, w in enumerate(step.frequencies, start=1)
+    ]
+    rows.append(Row((_name(r"\Phi", "Phi"),), (EQ, _e(step.shapes, nt))))
+    rows.extend(
+        Row((_name(rf"\zeta_{{{i}}}", f"zeta_{i}"),), (EQ, _e(sp.sympify(z), nt)))
+        for i, z in enumerate(step.damping_ratios, start=1)
+        if z is not None
+    )
+    return tuple(rows)
+
+
+# a mode resonance shows as a resonance; whether the mode is excited is said in its sentence
+step_rows.register(ModeResonanceStep, step_rows.registry[ResonanceStep])
+
+
+@step_rows.register
+def _(step: ModeExcitationStep, nt: Notation) -> tuple[Row, ...]:
+    return ()  # the finding is the step's sentence, it has no formula of its own
