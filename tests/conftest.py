@@ -18,7 +18,9 @@ from pathlib import Path
 import pytest
 
 #: test files whose tests (nearly all) start kernels, through module-scoped built sheets
-KERNEL_MODULES = frozenset({"test_workflow.py", "test_cli.py", "test_templates.py", "test_batch_isolation.py"})
+KERNEL_MODULES = frozenset(
+    {"test_workflow.py", "test_cli.py", "test_templates.py", "test_batch_isolation.py"}
+)
 
 
 def pytest_collection_modifyitems(config: pytest.Config, items: list[pytest.Item]) -> None:

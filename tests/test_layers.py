@@ -253,8 +253,12 @@ class TestTheChecker:
 
     def test_finds_an_upward_import(self, tmp_path):
         """An engine module importing the sheet is reported, with its line."""
-        root = _tree(tmp_path, {"engine/solve.py": "x = 1\nfrom calckit.sheet.page import Page\n", "sheet/page.py": ""})
-        assert upward(root) == ["calckit.engine.solve line 2: imports calckit.sheet.page, a later layer (sheet)"]
+        root = _tree(
+            tmp_path, {"engine/solve.py": "x = 1\nfrom calckit.sheet.page import Page\n", "sheet/page.py": ""}
+        )
+        assert upward(root) == [
+            "calckit.engine.solve line 2: imports calckit.sheet.page, a later layer (sheet)"
+        ]
 
     def test_finds_an_upward_import_inside_a_function(self, tmp_path):
         """A late import up the layers counts too, unless it is the documented exception."""
@@ -266,12 +270,16 @@ class TestTheChecker:
                 "core/display.py": "def show():\n    from calckit.render import rows\n",
             },
         )
-        assert upward(root) == ["calckit.physics.model line 2: imports calckit.render.rows, a later layer (render)"]
+        assert upward(root) == [
+            "calckit.physics.model line 2: imports calckit.render.rows, a later layer (render)"
+        ]
 
     def test_finds_a_relative_upward_import(self, tmp_path):
         """A relative import is resolved before it is judged."""
         root = _tree(tmp_path, {"core/units.py": "from ..workflow import build\n", "workflow/build.py": ""})
-        assert upward(root) == ["calckit.core.units line 1: imports calckit.workflow.build, a later layer (workflow)"]
+        assert upward(root) == [
+            "calckit.core.units line 1: imports calckit.workflow.build, a later layer (workflow)"
+        ]
 
     def test_finds_a_private_name_across_folders(self, tmp_path):
         """A private name taken from another folder is reported; one from the same folder is not."""
@@ -301,7 +309,9 @@ class TestTheChecker:
     def test_finds_a_confined_library_outside_its_folder(self, tmp_path):
         """ipywidgets imported by the sheet is reported."""
         root = _tree(tmp_path, {"sheet/view.py": "import ipywidgets\n"})
-        assert confined(root) == ["calckit.sheet.view line 1: imports ipywidgets, which belongs in ['explore'] only"]
+        assert confined(root) == [
+            "calckit.sheet.view line 1: imports ipywidgets, which belongs in ['explore'] only"
+        ]
 
     def test_a_module_outside_the_folders_is_refused(self, tmp_path):
         """A module left at the top of the package has no layer."""

@@ -45,7 +45,12 @@ CASES = {
         "equipment velocity",
         ("met", "not met"),
     ),
-    "arbitrary_forcing": ("harrow_creek_ps512_surge.toml", {"F0": '"3 kN"'}, "displacement", ("met", "not met")),
+    "arbitrary_forcing": (
+        "harrow_creek_ps512_surge.toml",
+        {"F0": '"3 kN"'},
+        "displacement",
+        ("met", "not met"),
+    ),
     # the example's frame resonates with its 13th harmonic; a frame four times stiffer, with harmonics
     # kept past its natural frequency, leaves every significant harmonic (1 to 8) well clear
     "periodic_load": (
@@ -131,7 +136,9 @@ class TestBundled:
         listed = demos()
         assert {d.template for d in listed} == set(bundled_templates())
         assert all(d.inputs.is_file() for d in listed)
-        assert ("tuned_absorber", "harrow_creek_b201_absorber.toml") in {(d.template, d.inputs.name) for d in listed}
+        assert ("tuned_absorber", "harrow_creek_b201_absorber.toml") in {
+            (d.template, d.inputs.name) for d in listed
+        }
 
     @pytest.mark.parametrize("template", sorted(CASES))
     def test_built_and_verified(self, built, template):
@@ -182,7 +189,9 @@ class TestSources:
         assert {n for n, s in shown.items() if s == example} == PLAIN.get(template, set())
         assert all(shown[name] == source for name, source in sources.items())
         moved_shown = {i["name"]: i["source"] for i in moved["inputs"]}
-        assert {n for n, s in moved_shown.items() if s == f"{template}_moved.toml"} == set(changes) | PLAIN.get(template, set())
+        assert {n for n, s in moved_shown.items() if s == f"{template}_moved.toml"} == set(
+            changes
+        ) | PLAIN.get(template, set())
 
 
 class TestFrequencyInHz:
@@ -198,7 +207,9 @@ class TestFrequencyInHz:
         assert unit == "rpm"
         hz = f"{float(number) / 60!r} Hz"
         inputs = tmp_path / f"{template}_hz.toml"
-        inputs.write_text(_changed((EXAMPLES / example).read_text(encoding="utf-8"), name, f'"{hz}"'), encoding="utf-8")
+        inputs.write_text(
+            _changed((EXAMPLES / example).read_text(encoding="utf-8"), name, f'"{hz}"'), encoding="utf-8"
+        )
         record = build_sheet(template, inputs, tmp_path / "built").record
         assert [i["text"] for i in record["inputs"] if i["name"] == name] == [hz]
         base, got = _results(built[template][0]), _results(record)
@@ -206,8 +217,10 @@ class TestFrequencyInHz:
             assert got[result] == pytest.approx(base[result], rel=1e-9), result
         # and against the book form, so that a frequency ratio 2 pi too small in both builds would fail
         v = _inputs(example)
-        mass, stiffness = ("machine_mass", "isolator_stiffness") if template == "machine_on_isolators" else (
-            "equipment_mass", "mount_stiffness"
+        mass, stiffness = (
+            ("machine_mass", "isolator_stiffness")
+            if template == "machine_on_isolators"
+            else ("equipment_mass", "mount_stiffness")
         )
         r = float(number) / 60 * 2 * math.pi / math.sqrt(_si(v, stiffness) / _si(v, mass))
         assert got["r"] == pytest.approx(r, rel=1e-3)

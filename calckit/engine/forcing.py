@@ -32,6 +32,7 @@ from calckit.errors import CalcError, ForcingError
 
 __all__ = [
     "ForcingTerm",
+    "Exponent",
     "ExponentGroup",
     "ForcingSplit",
     "split_forcing",
@@ -68,18 +69,15 @@ class ForcingTerm:
         return out
 
 
-@dataclass(frozen=True)
-class ExponentGroup:
-    """Terms sharing the exponent ``lambda = decay +/- i frequency``."""
+class Exponent:
+    """What a group of forcing terms with one exponent ``lambda = decay +/- i frequency`` tells.
+
+    Shared by a scalar :class:`ExponentGroup` and a vector group (the rows of F pooled);
+    the subclass gives ``decay`` and ``frequency``.
+    """
 
     decay: sp.Expr
     frequency: sp.Expr
-    terms: tuple[ForcingTerm, ...]
-
-    @property
-    def degree(self) -> int:
-        """Highest power of t among the terms."""
-        return max(term.power for term in self.terms)
 
     @property
     def exponent(self) -> sp.Expr:
@@ -90,6 +88,20 @@ class ExponentGroup:
     def harmonic(self) -> bool:
         """True when the group oscillates (``b != 0``)."""
         return self.frequency != 0
+
+
+@dataclass(frozen=True)
+class ExponentGroup(Exponent):
+    """Terms sharing the exponent ``lambda = decay +/- i frequency``."""
+
+    decay: sp.Expr
+    frequency: sp.Expr
+    terms: tuple[ForcingTerm, ...]
+
+    @property
+    def degree(self) -> int:
+        """Highest power of t among the terms."""
+        return max(term.power for term in self.terms)
 
     def expr(self, t: sp.Symbol) -> sp.Expr:
         """Sum of the group's terms as a sympy expression in *t*."""

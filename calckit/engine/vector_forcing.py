@@ -16,14 +16,14 @@ from numbers import Number
 import numpy as np
 import sympy as sp
 
-from calckit.engine.forcing import ExponentGroup, ForcingSplit, resolve_time, split_forcing
+from calckit.engine.forcing import Exponent, ExponentGroup, ForcingSplit, resolve_time, split_forcing
 from calckit.errors import ForcingError
 
 __all__ = ["VectorForcing", "VectorGroup", "forcing_entries", "split_forcing_vector"]
 
 
 @dataclass(frozen=True)
-class VectorGroup:
+class VectorGroup(Exponent):
     """One exponent ``lambda = decay +/- i frequency`` pooled over the rows of F.
 
     ``rows[r]`` is row ``r``'s :class:`~calckit.engine.forcing.ExponentGroup` at this
@@ -38,16 +38,6 @@ class VectorGroup:
     def degree(self) -> int:
         """Highest power of t in any row."""
         return max(group.degree for group in self.rows if group is not None)
-
-    @property
-    def exponent(self) -> sp.Expr:
-        """``a + i b`` (``b >= 0``)."""
-        return self.decay + sp.I * self.frequency
-
-    @property
-    def harmonic(self) -> bool:
-        """True when the group oscillates (``b != 0``)."""
-        return self.frequency != 0
 
     def expr(self, t: sp.Symbol) -> sp.ImmutableMatrix:
         """The group's part of F(t) as a column."""

@@ -1,1 +1,1 @@
-"""Rendering: LaTeX to MathML and self-contained HTML pages for exported sheets."""
+"""Rendering: step records and numbers to LaTeX, text and HTML with MathML; the page; PDF through Chromium."""

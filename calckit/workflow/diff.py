@@ -35,7 +35,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from calckit.core.units import fmt, fmt_number
+from calckit.core.units import Q_, fmt, fmt_number
 from calckit.errors import InputsError
 from calckit.sheet import SheetRecord, existing_fingerprint
 
@@ -366,14 +366,9 @@ def _record_path(path: Path) -> Path:
     )
 
 
-def _record_json(path: Path) -> Any:
-    """A record file's content (the one place diff reads one)."""
-    return json.loads(path.read_text(encoding="utf-8"))
-
-
 def _is_record(path: Path) -> bool:
     try:
-        data = _record_json(path)
+        data = json.loads(path.read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return False
     return isinstance(data, dict) and "fingerprint" in data
@@ -392,7 +387,7 @@ def read_record(path: str | os.PathLike) -> dict:
         raise InputsError("no such file or folder", where=str(path), do="Check the path")
     record_path = _record_path(path)
     try:
-        data = _record_json(record_path)
+        data = json.loads(record_path.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise InputsError("no such file", where=str(record_path), do="Check the path") from None
     except (OSError, UnicodeDecodeError, ValueError) as exc:
@@ -579,8 +574,6 @@ def _shown_one(item: dict | None, unit: str, target: str | None) -> str:
     if not unit:
         return fmt_number(value, 4)
     try:
-        from calckit.core.units import Q_
-
         quantity = Q_(float(value), unit)
         return fmt(quantity.to(target) if target else quantity, 4)
     except Exception:  # a unit text pint does not read: the number and the unit as recorded
@@ -601,8 +594,7 @@ def diff_sheets(old: str | os.PathLike, new: str | os.PathLike) -> SheetDiff:
     Returns
     -------
     SheetDiff
-        Title-block changes, inputs changed, results moved with their change in
-        percent, checks whose verdict flipped or whose margin moved.
+        What changed: title block, inputs, results moved (in percent), checks flipped or moved.
     """
     a, b = read_record(old), read_record(new)
     return diff_records(a, b, old_name=a.pop("_source"), new_name=b.pop("_source"))
