@@ -34,6 +34,7 @@ import sympy as sp
 from calckit.engine.derivation import Derivation, LinearOperator
 from calckit.engine.steps import ParticularSolutionStep, Step
 from calckit.engine.verify import verification_step
+from calckit.errors import InternalError
 
 __all__ = ["GroupSolution", "Strategy", "derive", "particular_step"]
 
@@ -129,7 +130,8 @@ def derive(strategy: Strategy, forcing, t: sp.Symbol | None = None) -> Derivatio
     """Particular solution of the strategy's operator under *forcing*, step by step.
 
     Raises :class:`~calckit.errors.InternalError` when the result does not pass
-    the check by substitution (a defect of calckit, with a reproducer line).
+    the check by substitution, or a group's coefficient equations come out singular
+    (both defects of calckit, never of the input), with a reproducer line.
 
     Examples
     --------
@@ -154,7 +156,12 @@ def derive(strategy: Strategy, forcing, t: sp.Symbol | None = None) -> Derivatio
     parts: list = []
     conditions: list[sp.Expr] = list(strategy.conditions())
     for index, group in enumerate(split.groups, start=1):
-        solved = strategy.solve_group(group, index, many, letters, t)
+        try:
+            solved = strategy.solve_group(group, index, many, letters, t)
+        except InternalError as exc:  # a solver's own check failed: say how to reproduce it
+            if exc.reproduce:
+                raise
+            raise InternalError(exc.what, reproduce=strategy.reproducer(split), where=exc.where) from exc
         parts.append(solved.part)
         steps.extend(solved.steps)
         conditions.extend(c for c in solved.conditions if c not in conditions)

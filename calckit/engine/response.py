@@ -19,7 +19,7 @@ from calckit.core.exact import exact
 from calckit.engine.algebra import is_zero, real_imag, tidy
 from calckit.engine.derivation import Derivation, ScalarOperator
 from calckit.engine.steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
-from calckit.errors import ModelError
+from calckit.errors import InternalError, ModelError
 
 __all__ = ["Response", "homogeneous_basis", "total_response"]
 
@@ -103,10 +103,10 @@ def homogeneous_basis(ode: ScalarOperator, t: sp.Symbol, roots=None) -> tuple[sp
                 basis.append(t**j * sp.exp(a * t) * sp.cos(b * t))
                 basis.append(t**j * sp.exp(a * t) * sp.sin(b * t))
     if len(basis) != ode.order:
-        raise ModelError(
-            "the homogeneous solution has the wrong number of basis functions",
+        raise InternalError(
+            f"the homogeneous solution has {len(basis)} basis functions for an equation of order {ode.order}",
             where=f"{ode!r}",
-            do="Please report this model to the calckit maintainers",
+            reproduce=_reproducer(ode, 0, [0] * ode.order, t),
         )
     return tuple(basis)
 
@@ -168,10 +168,10 @@ def total_response(
     try:
         solved = matrix.LUsolve(rhs)
     except (ValueError, ZeroDivisionError) as exc:  # singular: basis not independent
-        raise ModelError(
-            "the initial-value equations are singular",
+        raise InternalError(
+            "the initial-value equations are singular, although the basis of free motions is independent",
             where=f"{ode!r}",
-            do="Please report this model to the calckit maintainers",
+            reproduce=_reproducer(ode, der.forcing, values, t),
         ) from exc
     found = tuple(
         (c, tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
@@ -207,4 +207,14 @@ def total_response(
         initial_values=tuple(values),
         t=t,
         steps=steps,
+    )
+
+
+def _reproducer(ode: ScalarOperator, forcing, values, t: sp.Symbol) -> str:
+    """A line that repeats a total response, for an :class:`~calckit.errors.InternalError`."""
+    coefficients = ", ".join(sp.srepr(c) for c in ode.coefficients)
+    initial = ", ".join(sp.srepr(sp.sympify(v)) for v in values)
+    return (
+        f"import calckit as ck; from sympy import *; t = {sp.srepr(t)}; "
+        f"ck.LinearODE([{coefficients}]).response({sp.srepr(sp.sympify(forcing))}, [{initial}], t=t)"
     )

@@ -49,7 +49,7 @@ from calckit.engine.steps import (
 )
 from calckit.engine.trial import LinearForm, basis_function, unknown_letters
 from calckit.engine.verify import satisfies
-from calckit.errors import ModelError
+from calckit.errors import InternalError, ModelError
 
 __all__ = ["ScalarStrategy"]
 
@@ -333,10 +333,9 @@ def _back_substitute(system, cos_u, sin_u, d, s, group):
             det = a_ * d_ - b_ * g_
             sol = [(r1 * d_ - b_ * r2) / det, (a_ * r2 - g_ * r1) / det]
         if det == 0 or (field is None and is_zero(det)):  # not when s is the true multiplicity
-            raise ModelError(
-                "the coefficient equations are singular",
+            raise InternalError(
+                "the coefficient equations are singular, although the exponent's multiplicity says they are not",
                 where=f"exponent {group.exponent}",
-                do="Please report this forcing and model to the calckit maintainers",
             )
         if j == d:
             # the determinant's numerator in readable form (a 1/tau**2 factor is not part of it)

@@ -55,7 +55,7 @@ from calckit.engine.steps import (
 from calckit.engine.trial import LinearForm, basis_function, unknown_letters
 from calckit.engine.vector_forcing import VectorForcing, VectorGroup, split_forcing_vector
 from calckit.engine.verify import vanishes
-from calckit.errors import ModelError
+from calckit.errors import InternalError, ModelError
 
 __all__ = ["VECTOR_LETTERS", "VectorStrategy"]
 
@@ -361,10 +361,9 @@ def _solve_group(model, det_ode: LinearODE, group: VectorGroup, gi, many, pair, 
 def _solve_linear(a: sp.Matrix, b: sp.Matrix, unknowns: tuple, group: VectorGroup) -> dict:
     found = sp.linsolve((a, b), list(unknowns))
     if not found:  # cannot happen when s is the true multiplicity
-        raise ModelError(
-            "the coefficient equations have no solution",
+        raise InternalError(
+            "the coefficient equations have no solution, although the exponent's multiplicity says they are not",
             where=f"exponent {group.exponent}",
-            do="Please report this forcing and model to the calckit maintainers",
         )
     (solved,) = found
     raw = dict(zip(unknowns, solved, strict=True))
