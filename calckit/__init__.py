@@ -32,7 +32,7 @@ _PUBLIC = {
         "FourierSeries", "half_power_bandwidth", "HarmonicLine", "isolation_efficiency", "magnification",
         "Modes", "MultiMass", "Oscillator", "peak_frequency_ratio", "peak_magnification", "phase_angle",
         "REGIMES", "transmissibility", "transmitted_force_amplitude", "unbalance_force_amplitude",
-        "ISOLATION_RATIO_BASIS", "isolator_results", "LEAST_ISOLATION_RATIO", "require_one_harmonic",
+        "ISOLATION_RATIO_BASIS", "isolator_refusal", "isolator_results", "isolator_run_up", "LEAST_ISOLATION_RATIO", "require_one_harmonic",
         "residual_unbalance", "run_up_results", "run_up_stage", "SEPARATION_BAND", "SEPARATION_BASIS",
         "speed_separation", "STANDARD_GRAVITY", "static_deflection",
     ),

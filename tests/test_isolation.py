@@ -15,6 +15,7 @@ import math
 import pytest
 import sympy as sp
 
+import calckit as ck
 from calckit.errors import InputsError
 from calckit.physics.criteria import (
     ISOLATION_RATIO_BASIS,
@@ -202,4 +203,53 @@ class TestOneHarmonic:
         assert str(caught.value) == (
             f'forcing: "{text}" is not one harmonic at the forcing frequency. The explorer takes a force at '
             "one frequency, for example F0*cos(w*t) or F0*sin(w*t)."
+        )
+
+
+class TestIsolatorRefusal:
+    """The refusals the template raises and the explorer shows come from one function."""
+
+    def test_takes_plain_values(self):
+        """A machine heavier than its rotor, lightly damped, asked for 95 % isolation: no refusal."""
+        assert (
+            ck.isolator_refusal(
+                machine_mass=1850, rotor_mass=140, damping_ratio=0.05, required_isolation=0.95, shown=("", "")
+            )
+            is None
+        )
+
+    def test_rotor_heavier_than_machine(self):
+        """The message names both masses as written and the inputs by the caller's names."""
+        error = ck.isolator_refusal(
+            machine_mass=100,
+            rotor_mass=200,
+            damping_ratio=0.05,
+            required_isolation=0.9,
+            shown=("200 kg", "100 kg"),
+            names={"rotor_mass": "rotor", "machine_mass": "machine"},
+        )
+        assert isinstance(error, ck.InputsError)
+        assert str(error) == (
+            "rotor: the rotor (200 kg) is heavier than everything on the isolators (100 kg). "
+            "Give the rotating parts only in rotor and the whole machine in machine."
+        )
+
+    def test_not_underdamped(self):
+        """A damping ratio of 1 is refused."""
+        error = ck.isolator_refusal(
+            machine_mass=100, rotor_mass=10, damping_ratio=1.0, required_isolation=0.9, shown=("", "")
+        )
+        assert str(error) == (
+            "damping_ratio: a damping ratio of 1 is not underdamped. Isolators are lightly damped; give a "
+            "damping ratio below 1 (steel springs about 0.01 to 0.05)."
+        )
+
+    def test_isolation_that_cannot_be_reached(self):
+        """100 % isolation is refused."""
+        error = ck.isolator_refusal(
+            machine_mass=100, rotor_mass=10, damping_ratio=0.05, required_isolation=1.0, shown=("", "")
+        )
+        assert str(error) == (
+            "required_isolation: an isolation efficiency of 100% cannot be reached. Give an efficiency below "
+            "100 %, e.g. 90 %."
         )

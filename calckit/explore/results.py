@@ -21,9 +21,9 @@ from calckit.errors import InputsError
 from calckit.explore.model import _Derived
 from calckit.explore.values import _Input, _unit_text, _written
 from calckit.physics.criteria import ISOLATION_RATIO_BASIS, LEAST_ISOLATION_RATIO, speed_separation
-from calckit.physics.excitation import eccentricity_from_grade, residual_unbalance, unbalance_force_amplitude
-from calckit.physics.isolation import isolator_results
-from calckit.physics.runup import RunUp, run_up_results
+from calckit.physics.excitation import eccentricity_from_grade, unbalance_force_amplitude
+from calckit.physics.isolation import isolator_refusal, isolator_results, isolator_run_up
+from calckit.physics.runup import RunUp
 from calckit.sheet import Check, check_margin
 
 Row = tuple[str, str, str, str]  # (name, label, shown value, SI value as text)
@@ -102,9 +102,14 @@ def _isolator_results(mv: _Move) -> tuple[dict[str, float], RunUp]:
         carry=mv.plan.carry,
     )
     results = got.as_dict()
-    unbalance = float(residual_unbalance(v["rotor_mass"], eccentricity_from_grade(_grade_mm_s(v), w)))
-    run = run_up_results(
-        m=m, c=got.c, k=k, omega=w, unbalance=unbalance, run_up_time=v["run_up_time"], zeta=zeta
+    run = isolator_run_up(
+        machine_mass=m,
+        isolator_stiffness=k,
+        damping_ratio=zeta,
+        rotor_mass=v["rotor_mass"],
+        balance_grade=_grade_mm_s(v),
+        running_speed=w,
+        run_up_time=v["run_up_time"],
     )
     results.update(
         run_up_steps=float(run.steps),
@@ -189,26 +194,19 @@ def _isolator_refusal(
     values: Mapping[str, float], quantities: Mapping[str, Any], names: Mapping[str, str]
 ) -> InputsError | None:
     """What the machine-on-isolators template refuses, with its own message (None if it takes the values)."""
-    if values["rotor_mass"] > values["mass"]:
-        return InputsError(
-            f"the rotor ({_written(quantities['rotor_mass'])}) is heavier than everything on the isolators "
-            f"({_written(quantities['mass'])})",
-            where=names["rotor_mass"],
-            do=f"Give the rotating parts only in {names['rotor_mass']} and the whole machine in {names['mass']}",
-        )
-    if not values["damping_ratio"] < 1:
-        return InputsError(
-            f"a damping ratio of {values['damping_ratio']:g} is not underdamped",
-            where=names["damping_ratio"],
-            do="Isolators are lightly damped; give a damping ratio below 1 (steel springs about 0.01 to 0.05)",
-        )
-    if not values["required_isolation"] < 1:
-        return InputsError(
-            f"an isolation efficiency of {values['required_isolation']:.0%} cannot be reached",
-            where=names["required_isolation"],
-            do="Give an efficiency below 100 %, e.g. 90 %",
-        )
-    return None
+    return isolator_refusal(
+        machine_mass=values["mass"],
+        rotor_mass=values["rotor_mass"],
+        damping_ratio=values["damping_ratio"],
+        required_isolation=values["required_isolation"],
+        shown=(_written(quantities["rotor_mass"]), _written(quantities["mass"])),
+        names={
+            "machine_mass": names["mass"],
+            "rotor_mass": names["rotor_mass"],
+            "damping_ratio": names["damping_ratio"],
+            "required_isolation": names["required_isolation"],
+        },
+    )
 
 
 # ---------------------------------------------------------------------------

@@ -56,7 +56,9 @@ from calckit.physics.harmonic import forced_amplitude  # noqa: E402
 from calckit.physics.isolation import (  # noqa: E402
     STANDARD_GRAVITY,
     IsolatorResults,
+    isolator_refusal,
     isolator_results,
+    isolator_run_up,
     static_deflection,
 )
 from calckit.physics.runup import RunUp, RunUpResults, run_up, run_up_results, run_up_stage, run_up_steps  # noqa: E402
@@ -71,7 +73,9 @@ __all__ += [
     "RunUp",
     "RunUpResults",
     "forced_amplitude",
+    "isolator_refusal",
     "isolator_results",
+    "isolator_run_up",
     "require_one_harmonic",
     "residual_unbalance",
     "run_up",

@@ -23,6 +23,7 @@ import math
 from dataclasses import asdict, dataclass
 
 from calckit.core.rounding import as_shown
+from calckit.errors import InputsError
 from calckit.physics.excitation import (
     eccentricity_from_grade,
     residual_unbalance,
@@ -30,8 +31,16 @@ from calckit.physics.excitation import (
     unbalance_force,
 )
 from calckit.physics.harmonic import forced_amplitude
+from calckit.physics.runup import RunUpResults, run_up_results
 
-__all__ = ["STANDARD_GRAVITY", "IsolatorResults", "isolator_results", "static_deflection"]
+__all__ = [
+    "STANDARD_GRAVITY",
+    "IsolatorResults",
+    "isolator_refusal",
+    "isolator_results",
+    "isolator_run_up",
+    "static_deflection",
+]
 
 #: Standard acceleration of gravity, m/s^2 (a defined constant, 3rd CGPM, 1901).
 STANDARD_GRAVITY = 9.80665
@@ -138,4 +147,88 @@ def isolator_results(
         F_T=f_t,
         T=t_ratio,
         eta=1 - as_shown(t_ratio, carry),
+    )
+
+
+def isolator_refusal(
+    *,
+    machine_mass: float,
+    rotor_mass: float,
+    damping_ratio: float,
+    required_isolation: float,
+    shown: tuple[str, str],
+    names: dict[str, str] | None = None,
+) -> InputsError | None:
+    """What a machine-on-isolators calculation refuses, with its message; None when it takes the values.
+
+    The template raises the error; the what-if explorer shows it beside the sliders.
+
+    Parameters
+    ----------
+    machine_mass, rotor_mass : float
+        kg (any one unit for both).
+    damping_ratio, required_isolation : float
+        Fractions (0.05, 0.95).
+    shown : (str, str)
+        The rotor's and the machine's mass as the user wrote them, for the message.
+    names : dict, optional
+        The inputs' names (keys ``machine_mass``, ``rotor_mass``, ``damping_ratio``,
+        ``required_isolation``), when the template calls them otherwise.
+
+    Examples
+    --------
+    >>> print(isolator_refusal(machine_mass=100, rotor_mass=200, damping_ratio=0.05,
+    ...                        required_isolation=0.9, shown=("200 kg", "100 kg")))
+    rotor_mass: the rotor (200 kg) is heavier than everything on the isolators (100 kg). Give the rotating \
+parts only in rotor_mass and the whole machine in machine_mass.
+    """
+    name = {key: key for key in ("machine_mass", "rotor_mass", "damping_ratio", "required_isolation")}
+    name.update(names or {})
+    if rotor_mass > machine_mass:
+        return InputsError(
+            f"the rotor ({shown[0]}) is heavier than everything on the isolators ({shown[1]})",
+            where=name["rotor_mass"],
+            do=f"Give the rotating parts only in {name['rotor_mass']} and the whole machine in {name['machine_mass']}",
+        )
+    if not damping_ratio < 1:
+        return InputsError(
+            f"a damping ratio of {damping_ratio:g} is not underdamped",
+            where=name["damping_ratio"],
+            do="Isolators are lightly damped; give a damping ratio below 1 (steel springs about 0.01 to 0.05)",
+        )
+    if not required_isolation < 1:
+        return InputsError(
+            f"an isolation efficiency of {required_isolation:.0%} cannot be reached",
+            where=name["required_isolation"],
+            do="Give an efficiency below 100 %, e.g. 90 %",
+        )
+    return None
+
+
+def isolator_run_up(
+    *,
+    machine_mass: float,
+    isolator_stiffness: float,
+    damping_ratio: float,
+    rotor_mass: float,
+    balance_grade: float,
+    running_speed: float,
+    run_up_time: float,
+) -> RunUpResults:
+    """The run-up from rest of a machine on isolators under its rotor's unbalance (:func:`run_up_results`).
+
+    The damping coefficient ``c = 2 zeta sqrt(k m)`` and the unbalance ``U = m_r G / Omega``
+    are taken unrounded (the run-up is a simulation, not a step a checker redoes by hand).
+    Units as :func:`isolator_results` (SI; the grade in mm/s, as the standard quotes it).
+    """
+    m, k, zeta = machine_mass, isolator_stiffness, damping_ratio
+    unbalance = float(residual_unbalance(rotor_mass, eccentricity_from_grade(balance_grade, running_speed)))
+    return run_up_results(
+        m=m,
+        c=2 * zeta * math.sqrt(k * m),
+        k=k,
+        omega=running_speed,
+        unbalance=unbalance,
+        run_up_time=run_up_time,
+        zeta=zeta,
     )
