@@ -22,6 +22,8 @@ _PUBLIC = {
     "calckit.core.exact": ("exact",),
     "calckit.core.checks": ("finite", "non_negative", "positive"),
     "calckit.core.expressions": ("parse_expression",),
+    "calckit.core.rounding": ("as_shown",),
+    "calckit.core": ("units",),  # modules exported by name (``ck.units.fmt``)
     "calckit.core.units": ("angular_frequency", "cyclic_frequency", "fmt", "Q_", "quantity", "to_si", "ureg"),
     "calckit.engine": (
         "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
@@ -35,6 +37,7 @@ _PUBLIC = {
         "ISOLATION_RATIO_BASIS", "isolator_refusal", "isolator_results", "isolator_run_up", "LEAST_ISOLATION_RATIO", "require_one_harmonic",
         "residual_unbalance", "run_up_results", "run_up_stage", "SEPARATION_BAND", "SEPARATION_BASIS",
         "speed_separation", "STANDARD_GRAVITY", "static_deflection",
+        "excitation", "fourier", "harmonic",  # modules exported by name (``ck.harmonic.magnification``)
     ),
     "calckit.render.display": ("show",),
     "calckit.render.numbers": ("put_through", "Substitution"),
@@ -42,14 +45,6 @@ _PUBLIC = {
     "calckit.workflow": ("build_sheet", "diff_sheets", "run_batch"),
     "calckit.explore.explorer": ("Explorer",),
 }  # fmt: skip
-
-# modules exported by name (``ck.harmonic.magnification``)
-_MODULES = {
-    "units": "calckit.core.units",
-    "harmonic": "calckit.physics.harmonic",
-    "excitation": "calckit.physics.excitation",
-    "fourier": "calckit.physics.fourier",
-}
 
 _HOME = {name: module for module, names in _PUBLIC.items() for name in names}
 
@@ -59,12 +54,13 @@ from calckit.explore import explore  # noqa: E402
 
 
 def __getattr__(name: str):
-    if name in _MODULES:
-        value = importlib.import_module(_MODULES[name])
-    elif name in _HOME:
-        value = getattr(importlib.import_module(_HOME[name]), name)
-    else:
+    if name not in _HOME:
         raise AttributeError(f"module 'calckit' has no attribute {name!r}")
+    home = importlib.import_module(_HOME[name])
+    try:
+        value = getattr(home, name)
+    except AttributeError:  # a module exported by name, not yet imported by its folder
+        value = importlib.import_module(f"{_HOME[name]}.{name}")
     globals()[name] = value
     return value
 
@@ -73,4 +69,4 @@ def __dir__():
     return sorted(set(globals()) | set(__all__))
 
 
-__all__ = ["__version__", "explore", *_MODULES, *_HOME]
+__all__ = ["__version__", "explore", *_HOME]

@@ -294,7 +294,7 @@ class TestDemo:
         """Building other inputs into the demo's folder is refused with exit 2; the sheet is kept."""
         root, done, _ = runs
         run = done["refused"]
-        record = diffing.read_record(root / "demo" / "p101")
+        record = diffing.load_built_record(root / "demo" / "p101")
         assert run.returncode == 2
         assert run.stderr == (
             f"calckit build: error: demo/p101/{TEMPLATE}.json: the output folder already holds a sheet with "

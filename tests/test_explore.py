@@ -3,7 +3,7 @@
 Closed forms used as references (independent of the explorer's compiled derivation):
 omega_n = sqrt(k/m), S. S. Rao, Mechanical Vibrations, 5th ed., sec. 2.2, from memory;
 X = (F0/k) M(r, zeta) and phi, ibid. eqs. (3.30)-(3.31), through calckit.physics.harmonic;
-T and F_T = T F0, ibid. sec. 9.10, through calckit.harmonic.transmissibility.
+T and F_T = T F0, ibid. sec. 9.10, through calckit.physics.harmonic.transmissibility.
 
 For machine_on_isolators the references are written out here, not taken from calckit:
 transmissibility T = sqrt(1 + (2 zeta r)^2) / sqrt((1 - r^2)^2 + (2 zeta r)^2), Rao 5th ed.
@@ -766,3 +766,12 @@ class TestEntry:
             os.umask(old)
         assert kept.path.stat().st_mode & 0o777 == 0o644
         assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]  # no temporary file left
+
+
+def test_starting_values_stay_when_values_move(p101):
+    """starting_values is what the inputs file gave (Harrow Creek P-101: 1850 kg); a move changes values only."""
+    before = p101.starting_values
+    assert before["mass"].to("kg").magnitude == pytest.approx(1850)
+    p101.set(mass="2000 kg")
+    assert p101.values["mass"].to("kg").magnitude == pytest.approx(2000)
+    assert p101.starting_values == before

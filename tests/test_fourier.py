@@ -442,7 +442,7 @@ class TestValidation:
 class TestWithOscillator:
     def test_series_feeds_the_derivation_engine(self):
         """The press series, fed to Oscillator.particular, is verified by back substitution, and each
-        harmonic's steady amplitude is |c_n| M(n r_1, zeta) / k with calckit.harmonic.magnification."""
+        harmonic's steady amplitude is |c_n| M(n r_1, zeta) / k with calckit.physics.harmonic.magnification."""
         from calckit.physics.harmonic import magnification
         from calckit.physics.oscillator import Oscillator
 

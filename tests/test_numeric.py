@@ -323,7 +323,7 @@ class TestTimeHistory:
 
 class TestFrequencyResponse:
     def test_pump_against_harmonic_closed_forms(self):
-        """k |H| and the lag equal magnification(r, zeta) and phase_angle(r, zeta) of calckit.harmonic."""
+        """k |H| and the lag equal magnification(r, zeta) and phase_angle(r, zeta) of calckit.physics.harmonic."""
         osc = Oscillator(PUMP_M, PUMP_C, PUMP_K)
         wn, zeta = math.sqrt(PUMP_K / PUMP_M), 0.05
         omegas = np.linspace(0.0, 200.0, 2001)

@@ -237,7 +237,7 @@ class TestHarmonics:
 
     @pytest.mark.parametrize("w", [R(10), R(20), sp.sqrt(720), R(40), PUMP_SPEED])
     def test_against_harmonic_closed_forms(self, w):
-        """Amplitude k / F0 and lag equal calckit.harmonic.magnification and phase_angle, exactly."""
+        """Amplitude k / F0 and lag equal calckit.physics.harmonic.magnification and phase_angle, exactly."""
         osc = pump()
         (line,) = osc.harmonics(120 * sp.cos(w * t), t=t)
         assert isinstance(line, HarmonicLine)
@@ -450,7 +450,7 @@ class TestModelErrors:
 
 
 def test_frequency_response_matches_closed_form():
-    """Oscillator.frequency_response: k |H| = magnification(r, zeta) of calckit.harmonic."""
+    """Oscillator.frequency_response: k |H| = magnification(r, zeta) of calckit.physics.harmonic."""
     osc = pump()
     w = np.linspace(0.0, 150.0, 301)
     h = osc.frequency_response(w)

@@ -32,7 +32,7 @@ from calckit.workflow import (
     read_cases,
     run_batch,
 )
-from calckit.workflow.diff import Change, diff_records, diff_sheets, read_record
+from calckit.workflow.diff import Change, diff_records, diff_sheets, load_built_record
 from calckit.workflow.inputs import TITLE_FIELDS, check_keys, read_inputs
 
 DATA = Path(__file__).parent / "data"
@@ -517,7 +517,7 @@ class TestDiff:
         for name in ("a", "b"):
             (tmp_path / f"{name}.json").write_text(json.dumps({"fingerprint": name}))
         with pytest.raises(InputsError) as info:
-            read_record(tmp_path)
+            load_built_record(tmp_path)
         assert str(info.value) == (
             f"{tmp_path}: the folder holds 2 sheets (a.json, b.json). Name the sheet's .json or .html file."
         )
@@ -527,7 +527,7 @@ class TestDiff:
         page = tmp_path / "sheet.html"
         page.write_text("<html></html>")
         with pytest.raises(InputsError) as info:
-            read_record(page)
+            load_built_record(page)
         assert str(info.value) == (
             f"{page}: the sheet's record sheet.json is not beside it. Keep the .json record that "
             "calckit build writes next to the sheet."

@@ -28,10 +28,22 @@ __all__ = ["new_file_mode", "refuse_existing", "toml_value", "write_file", "writ
 
 
 def new_file_mode() -> int:
-    """Permissions of a new file under the process's umask (``0o644`` under umask ``022``)."""
-    umask = os.umask(0)
-    os.umask(umask)
-    return 0o666 & ~umask
+    """Permissions of a new file under the process's umask (``0o644`` under umask ``022``).
+
+    The umask is read from ``/proc/self/status`` where the system has it: setting it to
+    read it back (the only other way) would leave it at 0 for a moment, and a file another
+    thread made in that moment would be writable by everyone.
+    """
+    try:
+        with open("/proc/self/status", encoding="ascii") as status:
+            for line in status:
+                if line.startswith("Umask:"):
+                    return 0o666 & ~int(line.split()[1], 8)
+    except (OSError, ValueError):  # pragma: no cover - systems without /proc
+        pass
+    umask = os.umask(0o077)  # pragma: no cover - briefly restrictive, never permissive
+    os.umask(umask)  # pragma: no cover
+    return 0o666 & ~umask  # pragma: no cover
 
 
 def _refused(path: Path, do: str | None) -> OverwriteError:

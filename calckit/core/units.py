@@ -10,7 +10,7 @@ Exactness
 ---------
 The number written in front of the unit is read as the decimal written: an
 integer stays an ``int``; a decimal becomes the ``float`` whose shortest repr is
-that decimal, so :func:`calckit.exact.exact` gives it back exactly (``"2.5 kg"``
+that decimal, so :func:`calckit.core.exact.exact` gives it back exactly (``"2.5 kg"``
 -> ``5/2`` kg). This holds for up to 15 significant digits. :func:`to_si`
 converts with exact conversion factors (pint's definitions read as fractions,
 and ``pi`` kept as a symbol for angles), so ``"45 lbf/in"`` gives the exact

@@ -188,7 +188,7 @@ def compile_expr(expr, t: sp.Symbol, parameters: Iterable[sp.Symbol | str] = ())
     Parameters
     ----------
     expr : sympy expression or number
-        Floats are read as the decimals they show (see :func:`calckit.exact.exact`).
+        Floats are read as the decimals they show (see :func:`calckit.core.exact.exact`).
     t : sympy.Symbol
         The variable the array of the first argument stands for.
     parameters : sequence of sympy.Symbol or str

@@ -45,7 +45,7 @@ _GENERIC_FROM = 4
 def satisfies(ode, x: sp.Expr, f: sp.Expr, t: sp.Symbol) -> bool:
     """True when ``L[x] - f`` vanishes identically (*x*, *f* quasi-polynomials in *t*).
 
-    First by the exponential shift rule (:func:`_shift_rule_satisfies`, fast and
+    First by the exponential shift rule (:func:`shift_rule_satisfies`, fast and
     exact when it says yes); otherwise by differentiation, the same decision as ``vanishes(ode.apply(x, t) - f, t)``, made by linearity:
     *x* is split into terms ``c_k b_k`` with ``b_k = t^n e^{at} cos|sin(bt)`` and
     ``L[x] = sum_k c_k L[b_k]``, each ``L[b_k]`` by ``sympy.diff`` on the small

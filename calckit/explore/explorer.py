@@ -167,6 +167,7 @@ class Explorer(_Plots, _Sliders):
 
     @property
     def starting_values(self) -> dict[str, Any]:
+        """The values the explorer opened with, by parameter name (quantities in the slider units)."""
         return {i.name: Q_(i.start, i.unit) if i.unit else i.start for i in self._inputs.values()}
 
     def changes(self) -> tuple[tuple[str, str, str], ...]:

@@ -22,7 +22,7 @@ class Role:
     """One input of the model: its keyword, kind of quantity and the parameter names it goes by."""
 
     key: str
-    kind: str | None  # units kind (calckit.units.KINDS); None for text
+    kind: str | None  # units kind (calckit.core.units.KINDS); None for text
     names: tuple[str, ...]
     label: str
     sign: str = "positive"  # "positive", "non-negative" or "" (text)

@@ -27,7 +27,8 @@ SEPARATION_BAND = 0.20
 
 #: Basis of the speed-separation check (:meth:`calckit.Sheet.separation_check` gives it in these words).
 SEPARATION_BASIS = (
-    "common practice, no source: keep the operating frequency outside about +/-20 % of a natural frequency"
+    "common practice, no source: keep the operating frequency outside about "
+    f"+/-{SEPARATION_BAND * 100:.0f} % of a natural frequency"
 )
 
 #: Least frequency ratio ``r = Omega / omega_n`` for isolation (common practice, no source).

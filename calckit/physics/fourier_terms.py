@@ -153,7 +153,7 @@ class FourierSeries:
         Exact coefficients are used as they are; float coefficients (from samples) are
         rounded to 12 significant figures, those below ``1e-12`` times the largest are
         dropped as round-off, and the rest are made exact decimals with
-        :func:`calckit.exact.exact`. ``omega`` is exact (``2*pi/T``).
+        :func:`calckit.core.exact.exact`. ``omega`` is exact (``2*pi/T``).
         """
         if not isinstance(t, sp.Symbol):
             raise ForcingError(

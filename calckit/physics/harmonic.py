@@ -6,7 +6,7 @@ damping ratio ``zeta = c / (2 sqrt(k m))`` of ``m x'' + c x' + k x = f(t)``.
 Two paths, chosen by the type of the inputs:
 
 * **exact**: if any argument is a sympy object, every argument goes through
-  :func:`calckit.exact.exact` (``0.1`` becomes ``1/10``) and the result is a sympy
+  :func:`calckit.core.exact.exact` (``0.1`` becomes ``1/10``) and the result is a sympy
   expression. Symbols are allowed; a result that would be infinite (undamped
   resonance) raises :class:`~calckit.errors.ModelError`, because a calculation sheet
   must not carry an infinite amplitude.

@@ -1,7 +1,7 @@
 r"""One display pipeline: LaTeX, Markdown, HTML with MathML, and plain text.
 
-Every displayable object (a :class:`~calckit.undetermined.Derivation`, a
-:class:`~calckit.response.Response`, a single :class:`~calckit.steps.Step`, a
+Every displayable object (a :class:`~calckit.engine.derivation.Derivation`, a
+:class:`~calckit.engine.response.Response`, a single :class:`~calckit.engine.steps.Step`, a
 :class:`~calckit.render.numbers.Substitution`) goes through the same
 formatter, :func:`calckit.render.latex.step_rows`, and comes out in four
 spellings with the same numbering and order:

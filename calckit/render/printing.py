@@ -80,7 +80,9 @@ def html_to_pdf(
     with tempfile.TemporaryDirectory(prefix="calckit-print-") as work:
         work_dir = Path(work)
         page = work_dir / "sheet.html"
-        page.write_text(html, encoding="utf-8")
+        page.write_text(
+            html, encoding="utf-8"
+        )  # a scratch copy for Chromium in a private folder, not a user file
         out = work_dir / "sheet.pdf"
         command = [
             browser,

@@ -47,7 +47,7 @@ _NAMES = {
     "demos": "calckit.workflow.starter",
     "run_demo": "calckit.workflow.starter",
     "diff_sheets": "calckit.workflow.diff",
-    "read_record": "calckit.workflow.diff",
+    "load_built_record": "calckit.workflow.diff",
 }
 
 

@@ -45,7 +45,7 @@ __all__ = [
     "CheckChange",
     "TextsChange",
     "SheetDiff",
-    "read_record",
+    "load_built_record",
     "diff_records",
     "diff_sheets",
 ]
@@ -374,8 +374,8 @@ def _is_record(path: Path) -> bool:
     return isinstance(data, dict) and "fingerprint" in data
 
 
-def read_record(path: str | os.PathLike) -> dict:
-    """The JSON record of a built sheet given as its .json or .html file or its folder.
+def load_built_record(path: str | os.PathLike) -> dict:
+    """A built sheet's record (its .json or .html file, or its folder), checked by :class:`SheetRecord`.
 
     Raises
     ------
@@ -596,5 +596,5 @@ def diff_sheets(old: str | os.PathLike, new: str | os.PathLike) -> SheetDiff:
     SheetDiff
         What changed: title block, inputs, results moved (in percent), checks flipped or moved.
     """
-    a, b = read_record(old), read_record(new)
+    a, b = load_built_record(old), load_built_record(new)
     return diff_records(a, b, old_name=a.pop("_source"), new_name=b.pop("_source"))

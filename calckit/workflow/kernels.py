@@ -117,7 +117,7 @@ class Kernel:
 
     def __init__(self) -> None:
         self.folder = Path(tempfile.mkdtemp(prefix="calckit-kernel-")).resolve()
-        self.log = open(self.folder / "kernel.log", "wb")  # noqa: SIM115 (the kernel's stdout and stderr)
+        self.log = open(self.folder / "kernel.log", "wb")  # noqa: SIM115 (the kernel's stdout and stderr, a scratch file)
         self.km: Any = None
         self.kc: Any = None
         self.language_info: dict = {}
