@@ -562,7 +562,13 @@ class TestQuantities:
 
         model = MultiMass(Q_(np.eye(2), "kg"), None, Q_(np.array([[2.0, -1.0], [-1.0, 2.0]]), "kN/m"))
         assert model.K == sp.ImmutableMatrix([[2000, -1000], [-1000, 2000]])
-        assert model.natural_frequencies == (sp.sqrt(1000), sp.sqrt(3000))  # sqrt(k/m), sqrt(3k/m)
+        assert model.modes().frequencies == (sp.sqrt(1000), sp.sqrt(3000))  # sqrt(k/m), sqrt(3k/m), exact
+        # given with units, the frequencies come back with units, as Oscillator.natural_frequency does
+        w1, w2 = model.natural_frequencies
+        assert str(w1.units) == str(w2.units) == "radian / second"
+        assert (w1.magnitude, w2.magnitude) == pytest.approx((1000**0.5, 3000**0.5), rel=1e-12)
+        plain = MultiMass(np.eye(2), None, [[2000, -1000], [-1000, 2000]])
+        assert plain.natural_frequencies == (sp.sqrt(1000), sp.sqrt(3000))  # plain numbers: exact, no unit
 
     def test_wrong_dimension_names_the_entry(self):
         """A mass in N/m is refused with a UnitsError naming M[2,2]."""

@@ -66,6 +66,17 @@ def _is_quantity(value) -> bool:
     return hasattr(value, "magnitude") and hasattr(value, "units")
 
 
+def _has_quantity(value) -> bool:
+    """Whether a matrix as given holds pint quantities (a quantity array, or rows of quantities)."""
+    if _is_quantity(value):
+        return True
+    if isinstance(value, list | tuple):
+        return any(_has_quantity(v) for v in value)
+    if isinstance(value, np.ndarray) and value.dtype == object:
+        return any(_is_quantity(v) for v in value.ravel())
+    return False
+
+
 def _entries_of(value):
     """A quantity array as a nested list of quantities (one per entry); anything else as it is."""
     if _is_quantity(value) and np.ndim(value.magnitude) > 0:
@@ -226,6 +237,8 @@ class MultiMass:
     """
 
     def __init__(self, M, C, K, *, name: str = "x"):
+        #: True when the matrices were given as pint quantities: frequencies then come back with units
+        self.units = any(_has_quantity(v) for v in (M, C, K))
         self.M = _matrix(M, "M")
         n = self.M.rows
         self.K = _matrix(K, "K")
@@ -300,8 +313,17 @@ class MultiMass:
         --------
         >>> MultiMass([[1, 0], [0, 1]], None, [[2, -1], [-1, 2]]).natural_frequencies
         (1, sqrt(3))
+
+
+        With matrices given as pint quantities, the frequencies are quantities in rad/s,
+        as :attr:`Oscillator.natural_frequency` gives them.
         """
-        return self.modes().frequencies
+        frequencies = self.modes().frequencies
+        if not self.units:
+            return frequencies
+        from calckit.core.units import Q_
+
+        return tuple(Q_(float(w), "rad/s") if sp.sympify(w).is_number else w for w in frequencies)
 
     @property
     def mode_shapes(self):
