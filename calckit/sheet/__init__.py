@@ -5,20 +5,33 @@ text) and the margin rule; ``values`` how values are read and shown; ``checking`
 acceptance checks; ``record`` the typed, versioned JSON record and its reader;
 ``sheet`` the :class:`Sheet` itself (adding blocks, fingerprint, saving); ``html`` the
 sheet as HTML for the file and the notebook.
+
+The names load on first use (one table, as in :mod:`calckit.workflow`): a build reads
+the record its kernel wrote without loading sympy and pint into the command's process.
 """
 
-from calckit.sheet.blocks import DEFAULT_CAUTION, Check, check_margin
-from calckit.sheet.record import RECORD_VERSION, SheetRecord, existing_fingerprint, read_record
-from calckit.sheet.sheet import Sheet, in_kernel
+import importlib
 
-__all__ = [
-    "DEFAULT_CAUTION",
-    "RECORD_VERSION",
-    "Check",
-    "Sheet",
-    "SheetRecord",
-    "check_margin",
-    "existing_fingerprint",
-    "in_kernel",
-    "read_record",
-]
+# the folder's public names and the module that holds each
+_NAMES = {
+    "DEFAULT_CAUTION": "calckit.sheet.blocks",
+    "Check": "calckit.sheet.blocks",
+    "check_margin": "calckit.sheet.blocks",
+    "RECORD_VERSION": "calckit.sheet.record",
+    "SheetRecord": "calckit.sheet.record",
+    "existing_fingerprint": "calckit.sheet.record",
+    "read_record": "calckit.sheet.record",
+    "Sheet": "calckit.sheet.sheet",
+    "in_kernel": "calckit.sheet.sheet",
+}
+
+
+def __getattr__(name: str):
+    if name not in _NAMES:
+        raise AttributeError(f"module 'calckit.sheet' has no attribute {name!r}")
+    value = getattr(importlib.import_module(_NAMES[name]), name)
+    globals()[name] = value
+    return value
+
+
+__all__ = sorted(_NAMES)

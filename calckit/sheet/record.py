@@ -35,12 +35,9 @@ from dataclasses import MISSING, asdict, dataclass, fields
 from pathlib import Path
 from typing import Any
 
-import sympy as sp
-
 from calckit._version import __version__
 from calckit.errors import SheetError
 from calckit.sheet.blocks import DerivationBlock, TableBlock, TextBlock, TitleBlock
-from calckit.sheet.values import shown_text, si_value
 
 __all__ = [
     "RECORD_VERSION",
@@ -263,6 +260,10 @@ def _result_dict(item: RecordResult) -> dict:
 
 def record_of(sheet: Any) -> SheetRecord:
     """The record of *sheet* as it stands (inputs, results, checks, fingerprint ...)."""
+    import sympy as sp  # here, not at the top: reading a record (a build's last step) stays light
+
+    from calckit.sheet.values import shown_text, si_value
+
     results = []
     for name, value in sheet.results.items():
         si, unit = si_value(value, name)

@@ -70,7 +70,7 @@ def kernel_warm_up() -> None:
     import calckit.physics
     import calckit.render.display
     import calckit.render.numbers
-    import calckit.sheet  # noqa: F401
+    import calckit.sheet.sheet  # noqa: F401
 
     shell = get_ipython()
     rc = dict(matplotlib.rcParams.copy())

@@ -16,13 +16,15 @@ A template is a Jupyter notebook that builds one calculation sheet.
    the template uses these values.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
-   fingerprint covers the template, and with ``sources=input_sources``. A cell
-   *before* the parameters cell sets the defaults ``template_text = ""``,
-   ``inputs_file = "..."`` (used as the inputs' source) and
-   ``input_sources = {}``, so that the template also runs by hand. Inputs go on
-   the sheet under their parameter names (``sheet.input("mass", mass, ...,
-   source=inputs_file)``), so that an error about an input is reported at its
-   line in the inputs file, and so that a source the inputs file gives for an
+   fingerprint covers the template, with ``sources=input_sources`` and
+   ``inputs_file=inputs_file``. A cell *before* the parameters cell sets the
+   defaults ``template_text = ""``, ``inputs_file = "..."`` (used as the inputs'
+   source) and ``input_sources = {}``, so that the template also runs by hand.
+   The template imports only ``calckit`` (``import calckit as ck``) and general
+   libraries. Inputs go on the sheet under their parameter names
+   (``sheet.given("mass", mass, "m", "Moving mass", "mass")``), so that an error
+   about an input is reported at its line in the inputs file, and so that a
+   source the inputs file gives for an
    input (``mass = { value = "1850 kg", source = "Vendor drawing ..." }``, see
    :mod:`calckit.workflow.inputs`) takes the place of ``inputs_file`` in the sheet's
    Source column.
