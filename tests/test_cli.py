@@ -520,3 +520,22 @@ class TestLightStart:
         loaded, doc = done.stdout.split("\n", 1)
         assert loaded == "False"
         assert doc.rstrip("\n") == inspect.getdoc(diffing.diff_sheets)
+
+
+class TestTrust:
+    def test_commands_that_run_templates_say_so(self, capsys):
+        """build, batch, demo and the top-level help say that a template's code runs; diff and new do not."""
+        for command, says in (
+            ("build", True),
+            ("batch", True),
+            ("demo", True),
+            ("diff", False),
+            ("new", False),
+        ):
+            with pytest.raises(SystemExit):
+                cli.main([command, "--help"])
+            out = " ".join(capsys.readouterr().out.split())
+            assert (" ".join(cli.TRUST.split()) in out) is says, command
+        with pytest.raises(SystemExit):
+            cli.main(["--help"])
+        assert "build only templates you trust" in " ".join(capsys.readouterr().out.split())

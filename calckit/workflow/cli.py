@@ -119,6 +119,13 @@ EXIT_CODES = (
     "in a template cell: the message carries a line to report); 130 interrupted."
 )
 
+#: What building a template means for the user's machine: said in the help of every command that runs one.
+TRUST = (
+    "A template is a notebook: building it runs its code with your rights, as running the notebook would, "
+    "so build only templates you trust (the bundled ones, or your own). Inputs files are data: calckit reads "
+    "them and never runs them."
+)
+
 
 def parser() -> argparse.ArgumentParser:
     """The argument parser of the ``calckit`` command."""
@@ -126,18 +133,21 @@ def parser() -> argparse.ArgumentParser:
         prog="calckit",
         description="Build, compare and batch-run forced-vibration calculation sheets from template notebooks.",
         epilog="Run 'calckit COMMAND --help' for a command's options. Start with: calckit demo --out demo\n\n"
+        + textwrap.fill(TRUST, 78)
+        + "\n\n"
         + textwrap.fill(EXIT_CODES, 78),
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     top.add_argument("--version", action="version", version=f"calckit {__version__}")
     commands = top.add_subparsers(dest="command", metavar="COMMAND", required=True)
 
-    def command(name: str, func: Callable) -> argparse.ArgumentParser:
+    def command(name: str, func: Callable, *, runs_templates: bool = True) -> argparse.ArgumentParser:
+        said = [TRUST] if runs_templates else []
         return commands.add_parser(
             name,
             help=_summary(func),
             description=_description(func),
-            epilog=textwrap.fill(EXIT_CODES, 78),
+            epilog="\n\n".join(textwrap.fill(text, 78) for text in [*said, EXIT_CODES]),
             formatter_class=argparse.RawDescriptionHelpFormatter,
         )
 
@@ -156,7 +166,7 @@ def parser() -> argparse.ArgumentParser:
     build_cmd.add_argument("--overwrite", action="store_true", help=_param(build.build_sheet, "overwrite"))
 
     diff_sheets = _documented("calckit.workflow.diff", "diff_sheets")
-    diff = command("diff", diff_sheets)
+    diff = command("diff", diff_sheets, runs_templates=False)
     diff.add_argument("old", metavar="OLD", help=_param(diff_sheets, "old"))
     diff.add_argument("new", metavar="NEW", help=_param(diff_sheets, "new"))
     diff.add_argument(
@@ -181,7 +191,7 @@ def parser() -> argparse.ArgumentParser:
     batch_cmd.add_argument("--pdf", action="store_true", help=_param(batch.run_batch, "pdf"))
     batch_cmd.add_argument("--overwrite", action="store_true", help=_param(batch.run_batch, "overwrite"))
 
-    new = command("new", starter.new_calculation)
+    new = command("new", starter.new_calculation, runs_templates=False)
     new.add_argument("template", metavar="TEMPLATE", help=_param(starter.new_calculation, "template"))
     new.add_argument("dest", metavar="DEST", help=_param(starter.new_calculation, "dest"))
     return top
