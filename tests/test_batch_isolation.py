@@ -99,15 +99,19 @@ def sheets(tmp_path_factory):
 
 
 def _files(folder: Path, label: str) -> dict[str, str]:
-    """The sheet's three files as text; the inputs' label and the fingerprint replaced, the printed process
-    id dropped."""
-    fingerprint = json.loads((folder / "probed.json").read_text(encoding="utf-8"))["fingerprint"]
+    """The sheet's three files as text; the inputs' label, the fingerprint and the record's seal replaced, the
+    printed process id dropped."""
+    record = json.loads((folder / "probed.json").read_text(encoding="utf-8"))
+    fingerprint = record["fingerprint"]
     files = {}
     for suffix in (".json", ".html", ".ipynb"):
         text = (folder / f"probed{suffix}").read_text(encoding="utf-8").replace(label, "INPUTS")
         for shown in (fingerprint, fingerprint[:16], fingerprint[:12]):  # whole, and as a sheet shortens it
             text = text.replace(shown, "FINGERPRINT")
         files[suffix] = text
+    # the seal is a hash of the record's content, which holds the label and fingerprint masked above;
+    # the content itself is compared in full, so the seal is masked with them
+    files[".json"] = files[".json"].replace(record["seal"], "SEAL")
     files[".ipynb"] = re.sub(r"kernel process \d+", "kernel process N", files[".ipynb"])
     return files
 

@@ -33,7 +33,7 @@ class TestRecord:
     def test_typed_attributes(self):
         """The attributes the diff and the batch summary read, typed, with the values the sheet holds."""
         record = ck.read_record(small_sheet(figure=False).to_json())
-        assert record.record_version == ck.RECORD_VERSION == 1
+        assert record.record_version == ck.RECORD_VERSION == 2  # 2: sealed
         assert record.calckit_version == ck.__version__
         assert record.fingerprint == small_sheet(figure=False).fingerprint
         assert record.title_block.subject == "Pump P-101 on spring isolators"
@@ -78,7 +78,11 @@ class TestRecord:
         old = ck.read_record(json.dumps(data), where="old.json")
         assert old.record_version == 0
         assert [i.name for i in old.inputs] == ["m", "k"] and old.checks[1].unit == "percent"
-        assert old.to_dict() == {**json.loads(GOLDEN.read_text()), "record_version": 0}
+        expected = {**json.loads(GOLDEN.read_text()), "record_version": 0}
+        del expected[
+            "seal"
+        ]  # records before the seal had none; a version-0 record is written back without one
+        assert old.to_dict() == expected
         # the parts a record could lack then are read as empty
         for key in ("derivations", "tables", "assumptions", "references", "notes", "caution"):
             del data[key]
@@ -232,3 +236,56 @@ class TestSaving:
         with pytest.raises(ck.SheetError, match="printing to PDF needs Chromium"):
             html_to_pdf("<p>x</p>", target, overwrite=True)
         assert target.read_bytes() == b"kept"
+
+
+class TestSeal:
+    """A record edited after it was built is noticed on every read (the seal: SHA-256 over the whole record)."""
+
+    def test_written_records_are_sealed(self):
+        """Sheet.record() and its JSON carry a seal over everything else the record holds."""
+        data = json.loads(small_sheet().to_json())
+        assert data["record_version"] == 2
+        assert len(data["seal"]) == 64
+        assert ck.read_record(json.dumps(data)).fingerprint == data["fingerprint"]
+
+    @pytest.mark.parametrize(
+        "edit",
+        [
+            lambda d: d["inputs"][0].update(text="9999 kg"),
+            lambda d: d["results"][0].update(value=1.0),
+            lambda d: d["checks"][0].update(verdict="met", met=True),
+            lambda d: d.update(caution=""),
+        ],
+        ids=["input", "result", "verdict", "caution"],
+    )
+    def test_edited_record_refused(self, edit):
+        """An input, a result, a verdict or the caution edited with the fingerprint kept: refused, said why."""
+        data = json.loads(GOLDEN.read_text())
+        edit(data)
+        with pytest.raises(ck.SheetError) as info:
+            ck.read_record(json.dumps(data), where="edited.json")
+        assert str(info.value) == (
+            "edited.json: the record was changed after it was built: its seal does not match its content. "
+            "Rebuild the sheet (calckit build) rather than edit its record; the sheet and its record are only "
+            "evidence as the build wrote them."
+        )
+
+    def test_sealed_version_without_seal_refused(self):
+        """A version-2 record with its seal removed is refused; a version-1 record (before seals) is read."""
+        data = json.loads(GOLDEN.read_text())
+        del data["seal"]
+        with pytest.raises(ck.SheetError, match=r"^x\.json: the record has no seal\. Rebuild the sheet"):
+            ck.read_record(json.dumps(data), where="x.json")
+        assert ck.read_record(json.dumps({**data, "record_version": 1})).record_version == 1
+
+    def test_diff_refuses_an_edited_record(self, tmp_path):
+        """calckit diff's record finder refuses a record edited after the build, also given as a folder."""
+        from calckit.workflow.diff import load_built_record
+
+        data = json.loads(GOLDEN.read_text())
+        data["results"][0]["value"] = 1.0
+        folder = tmp_path / "built"
+        folder.mkdir()
+        (folder / "sheet.json").write_text(json.dumps(data), encoding="utf-8")
+        with pytest.raises(ck.SheetError, match="changed after it was built"):
+            load_built_record(folder)

@@ -11,7 +11,7 @@ field.
 
 Versions
 --------
-``record_version`` is :data:`RECORD_VERSION` (1) for records written by this
+``record_version`` is :data:`RECORD_VERSION` (2, sealed) for records written by this
 calckit. A record without it was written before the field existed: it is read as
 version 0 when it holds what a record needs, and refused (saying what is missing)
 when it does not. A record of a newer version than this calckit knows is refused.
@@ -28,6 +28,7 @@ Examples
 
 from __future__ import annotations
 
+import hashlib
 import json
 import os
 import re
@@ -50,10 +51,17 @@ __all__ = [
     "existing_fingerprint",
     "read_record",
     "record_of",
+    "seal_of",
 ]
 
-RECORD_VERSION = 1
-"""The version of the record this calckit writes, and the newest it reads."""
+RECORD_VERSION = 2
+"""The version of the record this calckit writes, and the newest it reads.
+
+1: the typed record. 2: sealed (``seal``, a SHA-256 over the whole record, results included).
+"""
+
+SEALED_FROM = 2
+"""The first record version that carries a seal; a record of this version or later without one is refused."""
 
 LARGEST_RECORD = 64 * 1024 * 1024
 """A record file larger than this (bytes) is refused rather than read into memory."""
@@ -217,8 +225,8 @@ class SheetRecord:
         return next((item for item in self.results if item.name == name), None)
 
     def to_dict(self) -> dict:
-        """The record as the JSON file holds it (keys in the file's order)."""
-        return {
+        """The record as the JSON file holds it (keys in the file's order), sealed last."""
+        data = {
             "record_version": self.record_version,
             "calckit": self.calckit_version,
             "fingerprint": self.fingerprint,
@@ -237,6 +245,9 @@ class SheetRecord:
             "notes": list(self.notes),
             "caution": self.caution,
         }
+        if self.record_version >= SEALED_FROM:
+            data["seal"] = seal_of(data)
+        return data
 
     def to_json(self) -> str:
         """The record as JSON text, as ``Sheet.save("x.json")`` writes it."""
@@ -246,6 +257,21 @@ class SheetRecord:
     def from_dict(cls, data: Any, *, where: str = "record") -> SheetRecord:
         """Read a record from the dictionary its JSON holds; see :func:`read_record` for the refusals."""
         return _from_dict(data, where)
+
+
+def seal_of(data: dict) -> str:
+    """The seal of a record: SHA-256 over its whole content but the seal itself, in one canonical form.
+
+    Written into every record (version 2 on) and checked on every read, so that a record
+    edited after it was built (an input, a result, a verdict) is noticed. The fingerprint
+    says which inputs made a sheet; the seal says the record is as the build wrote it.
+
+    >>> seal_of({"a": 1}) == seal_of({"a": 1, "seal": "anything"})
+    True
+    """
+    content = {key: value for key, value in data.items() if key != "seal"}
+    canonical = json.dumps(content, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+    return hashlib.sha256(canonical.encode("ascii")).hexdigest()
 
 
 def _result_dict(item: RecordResult) -> dict:
@@ -397,7 +423,7 @@ def _from_dict(data: Any, where: str) -> SheetRecord:
         label = "record" if version else "record without a record_version (written by an older calckit)"
         raise SheetError(f"the {label} has no {', '.join(missing)}", where=where, do=_REBUILD)
     reader = _Reader(where, version)
-    return SheetRecord(
+    record = SheetRecord(
         record_version=version,
         calckit_version=reader.text(data, "calckit"),
         fingerprint=reader.fingerprint(data),
@@ -412,6 +438,19 @@ def _from_dict(data: Any, where: str) -> SheetRecord:
         notes=reader.texts(data, "notes"),
         caution=reader.text(data, "caution") if "caution" in data else "",
     )
+    # the parts are read first (a part of the wrong kind is named); then the whole is checked
+    if version >= SEALED_FROM:
+        seal = data.get("seal")
+        if not isinstance(seal, str) or not _HEX64.match(seal):
+            raise SheetError("the record has no seal", where=where, do=_REBUILD)
+        if seal != seal_of(data):
+            raise SheetError(
+                "the record was changed after it was built: its seal does not match its content",
+                where=where,
+                do="Rebuild the sheet (calckit build) rather than edit its record; the sheet and its record "
+                "are only evidence as the build wrote them",
+            )
+    return record
 
 
 _HEX64 = re.compile(r"^[0-9a-f]{64}$")

@@ -377,10 +377,8 @@ def _is_record(path: Path) -> bool:
 def load_built_record(path: str | os.PathLike) -> dict:
     """A built sheet's record (its .json or .html file, or its folder), checked by :class:`SheetRecord`.
 
-    Raises
-    ------
-    InputsError
-        No such file, no record, several sheets in a folder, not a sheet's record.
+    Raises InputsError (no such file, no record, several sheets in a folder, not a sheet's record,
+    an HTML sheet from another build) or SheetError (a record edited after it was built).
     """
     path = Path(path)
     if not path.exists():
@@ -402,15 +400,16 @@ def load_built_record(path: str | os.PathLike) -> dict:
             where=str(record_path),
             do="Give a record written by calckit build or Sheet.save",
         )
-    if path.suffix.lower() == ".html":
-        shown = existing_fingerprint(path)
+    html = path if path.suffix.lower() == ".html" else record_path.with_suffix(".html")  # a folder's too
+    if html.exists():
+        shown = existing_fingerprint(html)
         if shown and shown != data["fingerprint"]:
             raise InputsError(
                 f"the sheet's fingerprint {shown[:12]} differs from its record's {data['fingerprint'][:12]}",
-                where=str(path),
+                where=str(html),
                 do="Rebuild the sheet: the HTML and its .json record come from different builds",
             )
-    data = SheetRecord.from_dict(data, where=str(record_path)).to_dict()  # the version and fields checked
+    data = SheetRecord.from_dict(data, where=str(record_path)).to_dict()  # version, fields and seal checked
     data.setdefault("_source", str(record_path))
     return data
 
