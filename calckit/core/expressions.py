@@ -308,4 +308,11 @@ def parse_expression(
         ) from exc
     if result.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
         raise InputsError(f'"{text}" is not finite', where=where, do="Check for division by zero")
+    for power in result.atoms(sp.Pow):  # sympy merges (x**a)**b into x**(a*b): bound what it made
+        if power.exp.is_number and not power.base.is_number and abs(power.exp) > _MAX_EXPONENT:
+            raise InputsError(
+                f'"{text}" raises {power.base} to the power {power.exp} once its powers are merged',
+                where=where,
+                do=f"Use powers between -{_MAX_EXPONENT} and {_MAX_EXPONENT}",
+            )
     return result

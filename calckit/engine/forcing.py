@@ -165,6 +165,12 @@ def _sum(parts: list[dict]) -> dict:
 
 
 def _product(p: dict, q: dict) -> dict:
+    if len(p) * len(q) > MAX_PRODUCT_PAIRS:  # bounded before the work is done
+        raise _TooLarge(
+            None,
+            f"multiplying it out pairs {len(p)} terms with {len(q)}, more than {MAX_PRODUCT_PAIRS:,}",
+            _SMALLER,
+        )
     acc: dict = {}
     half = sp.Rational(1, 2)
     for (a1, b1, k1, n1), c1 in p.items():
@@ -206,9 +212,24 @@ def _power(p: dict, n: int) -> dict:
 class _Refusal(Exception):
     """Internal: carries the offending sub-expression and the reason."""
 
-    def __init__(self, piece: sp.Expr, why: str, do: str):
+    def __init__(self, piece: sp.Expr | None, why: str, do: str):
         super().__init__(why)
         self.piece, self.why, self.do = piece, why, do
+
+
+class _TooLarge(_Refusal):
+    """Internal: the forcing is in the class, but expanding it would not finish in reasonable time or memory."""
+
+
+#: Largest whole power of a sum expanded (the degree of the trial form grows with it).
+MAX_POWER = 100
+#: Largest number of term pairs one product may multiply out (each gives one or two terms).
+MAX_PRODUCT_PAIRS = 250_000
+
+_SMALLER = (
+    f"Write the forcing with powers up to {MAX_POWER} and fewer products of long sums; a load that needs "
+    "more is better given as a Fourier series (calckit.physics.fourier) or integrated numerically"
+)
 
 
 _SPLIT_PIECES = (
@@ -277,7 +298,11 @@ def _qp(expr: sp.Expr, t: sp.Symbol) -> dict:
     if expr.is_Mul:
         result = _const(sp.S.One)
         for arg in expr.args:
-            result = _product(result, _qp(arg, t))
+            try:
+                result = _product(result, _qp(arg, t))
+            except _TooLarge as big:
+                big.piece = expr if big.piece is None else big.piece
+                raise
         return result
     if expr.is_Pow:
         base, expo = expr.args
@@ -285,8 +310,14 @@ def _qp(expr: sp.Expr, t: sp.Symbol) -> dict:
             if base.has(t):
                 raise _Refusal(expr, "both its base and its exponent depend on t", _NUMERIC)
             return _qp(sp.exp(expo * sp.log(base)), t)
+        if expo.is_Integer and expo > MAX_POWER and base.has(t):
+            raise _TooLarge(expr, f"it is raised to the power {expo}, more than {MAX_POWER}", _SMALLER)
         if expo.is_Integer and expo >= 0:
-            return _power(_qp(base, t), int(expo))
+            try:
+                return _power(_qp(base, t), int(expo))
+            except _TooLarge as big:
+                big.piece = expr if big.piece is None else big.piece
+                raise
         if base == t or base.is_polynomial(t):
             raise _Refusal(
                 expr,
@@ -354,7 +385,8 @@ def quasi_polynomial(expr: sp.Expr, t: sp.Symbol) -> dict[tuple, sp.Expr]:
     try:
         return _qp(expr, t)
     except _Refusal as refusal:
-        raise ForcingError(refusal.why, where=f"term {refusal.piece}", do=refusal.do) from None
+        piece = expr if refusal.piece is None else refusal.piece
+        raise ForcingError(refusal.why, where=f"term {piece}", do=refusal.do) from None
 
 
 def resolve_time(expr: sp.Expr, t: sp.Symbol | None, where: str = "forcing") -> sp.Symbol:
@@ -441,10 +473,15 @@ def split_forcing(f, t: sp.Symbol | None = None) -> ForcingSplit:
         try:
             parts.append(_qp(term, t))
         except _Refusal as refusal:
-            piece = refusal.piece
+            piece = term if refusal.piece is None else refusal.piece
             where_text = f"forcing term {term}" if piece == term else f"forcing term {term}, in {piece}"
+            what = (
+                f"the forcing is too large to expand: {refusal.why}"
+                if isinstance(refusal, _TooLarge)
+                else f"the method of undetermined coefficients does not apply: {refusal.why}"
+            )
             raise ForcingError(
-                f"the method of undetermined coefficients does not apply: {refusal.why}",
+                what,
                 where=where_text,
                 do=refusal.do,
             ) from None
