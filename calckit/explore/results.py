@@ -91,26 +91,16 @@ def _isolator_results(mv: _Move) -> tuple[dict[str, float], RunUp]:
     significant figures); the run-up takes the unrounded chain.
     """
     v = mv.values
-    m, k, zeta, w = v["mass"], v["stiffness"], v["damping_ratio"], v["forcing_frequency"]
-    got = isolator_results(
-        machine_mass=m,
-        isolator_stiffness=k,
-        damping_ratio=zeta,
+    machine = dict(
+        machine_mass=v["mass"],
+        isolator_stiffness=v["stiffness"],
+        damping_ratio=v["damping_ratio"],
         rotor_mass=v["rotor_mass"],
         balance_grade=_grade_mm_s(v),
-        running_speed=w,
-        carry=mv.plan.carry,
+        running_speed=v["forcing_frequency"],
     )
-    results = got.as_dict()
-    run = isolator_run_up(
-        machine_mass=m,
-        isolator_stiffness=k,
-        damping_ratio=zeta,
-        rotor_mass=v["rotor_mass"],
-        balance_grade=_grade_mm_s(v),
-        running_speed=w,
-        run_up_time=v["run_up_time"],
-    )
+    results = isolator_results(**machine, carry=mv.plan.carry).as_dict()
+    run = isolator_run_up(**machine, run_up_time=v["run_up_time"])
     results.update(
         run_up_steps=float(run.steps),
         peak_run_up=run.peak,

@@ -10,7 +10,7 @@ The names load on first use (one table, as in :mod:`calckit.workflow`): a build 
 the record its kernel wrote without loading sympy and pint into the command's process.
 """
 
-import importlib
+from calckit.core.lazy import lazy_names
 
 # the folder's public names and the module that holds each
 _NAMES = {
@@ -26,12 +26,6 @@ _NAMES = {
 }
 
 
-def __getattr__(name: str):
-    if name not in _NAMES:
-        raise AttributeError(f"module 'calckit.sheet' has no attribute {name!r}")
-    value = getattr(importlib.import_module(_NAMES[name]), name)
-    globals()[name] = value
-    return value
-
+__getattr__, __dir__ = lazy_names(__name__, _NAMES)
 
 __all__ = sorted(_NAMES)

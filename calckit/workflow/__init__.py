@@ -20,7 +20,7 @@ sympy, pint or numpy at import time, so the command line starts quickly and a
 build starts its kernel first.
 """
 
-import importlib
+from calckit.core.lazy import lazy_names
 
 # the folder's public names and the module that holds each (loaded on first use)
 _NAMES = {
@@ -51,16 +51,6 @@ _NAMES = {
 }
 
 
-def __getattr__(name: str):
-    if name not in _NAMES:
-        raise AttributeError(f"module 'calckit.workflow' has no attribute {name!r}")
-    value = getattr(importlib.import_module(_NAMES[name]), name)
-    globals()[name] = value
-    return value
-
-
-def __dir__():
-    return sorted(set(globals()) | set(_NAMES))
-
+__getattr__, __dir__ = lazy_names(__name__, _NAMES)
 
 __all__ = sorted(_NAMES)
