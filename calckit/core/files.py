@@ -18,6 +18,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import re
 import tempfile
 from pathlib import Path
 from typing import Any
@@ -25,6 +26,26 @@ from typing import Any
 from calckit.errors import OverwriteError
 
 __all__ = ["new_file_mode", "refuse_existing", "toml_value", "write_file", "write_text"]
+
+
+def free_name(path: Path, separator: str = "-", *, renumber: bool = False) -> Path:
+    """*path* if no file has that name, else the first free ``<stem><separator>2<suffix>``, ``3`` ... beside it.
+
+    With *renumber*, a number the stem already ends in (``kept_2``) is replaced, not extended.
+
+    >>> import tempfile
+    >>> folder = Path(tempfile.mkdtemp())
+    >>> _ = (folder / "a.toml").write_text("")
+    >>> free_name(folder / "a.toml").name, free_name(folder / "a.toml", "_").name
+    ('a-2.toml', 'a_2.toml')
+    """
+    if not path.exists():
+        return path
+    stem = re.sub(rf"{re.escape(separator)}\d+$", "", path.stem) if renumber else path.stem
+    number = 2
+    while (candidate := path.with_name(f"{stem}{separator}{number}{path.suffix}")).exists():
+        number += 1
+    return candidate
 
 
 def new_file_mode() -> int:

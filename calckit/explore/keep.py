@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from calckit.core.files import toml_value, write_text
+from calckit.core.files import free_name, toml_value, write_text
 from calckit.explore.values import _Input
 from calckit.workflow import TITLE_FIELDS
 
@@ -101,15 +101,7 @@ def _kept_html(kept: Kept) -> str:
 
 def _free_name(path: Path) -> Path:
     """*path* if it does not exist, else ``<stem>_2<suffix>``, ``_3`` ... beside it."""
-    if not path.exists():
-        return path
-    stem = re.sub(r"_\d+$", "", path.stem)
-    number = 2
-    while True:
-        candidate = path.with_name(f"{stem}_{number}{path.suffix}")
-        if not candidate.exists():
-            return candidate
-        number += 1
+    return free_name(path, "_", renumber=True)
 
 
 _VALUE = re.compile(

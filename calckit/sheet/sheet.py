@@ -43,7 +43,7 @@ import sympy as sp
 
 from calckit._version import __version__
 from calckit.core.checks import positive
-from calckit.core.files import write_file
+from calckit.core.files import free_name, write_file
 from calckit.core.rounding import as_shown
 from calckit.core.units import fmt, quantity
 from calckit.errors import OverwriteError, SheetError
@@ -552,12 +552,7 @@ class Sheet:
         if found == self.fingerprint:
             return path
         if keep_both:
-            n = 2
-            while True:
-                candidate = path.with_name(f"{path.stem}-{n}{path.suffix}")
-                if not candidate.exists():
-                    return candidate
-                n += 1
+            return free_name(path)
         held = (
             f"a sheet with fingerprint {found[:12]}" if found else "a file whose fingerprint cannot be read"
         )
