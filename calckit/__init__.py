@@ -17,7 +17,7 @@ from calckit._version import __version__
 _PUBLIC = {
     "calckit.errors": (
         "BuildError", "CalcError", "CellError", "ForcingError", "InputsError", "InternalError", "ModelError",
-        "OverwriteError", "SheetError", "UnitsError",
+        "OverwriteError", "SheetError", "StorageError", "UnitsError",
     ),
     "calckit.core.exact": ("exact",),
     "calckit.core.checks": ("finite", "non_negative", "positive"),

@@ -17,6 +17,7 @@ __all__ = [
     "SheetError",
     "BuildError",
     "OverwriteError",
+    "StorageError",
     "CellError",
     "InternalError",
 ]
@@ -82,6 +83,14 @@ class BuildError(CalcError, RuntimeError):
 
 class OverwriteError(CalcError, FileExistsError):
     """Writing would replace a file built from other inputs."""
+
+
+class StorageError(CalcError, OSError):
+    """A file could not be written: the disk is full, or the folder is read-only or not the user's.
+
+    Not a defect of calckit nor of the input: the message says which, and where;
+    nothing was written and the files there are as they were.
+    """
 
 
 class CellError(BuildError):

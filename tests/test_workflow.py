@@ -140,7 +140,8 @@ class TestBuildSheet:
         """The executed notebook, the sheet and its record are written, and nothing else."""
         root, base, _ = built
         names = sorted(p.name for p in (root / "base").iterdir())
-        assert names == [f"{TEMPLATE}.html", f"{TEMPLATE}.ipynb", f"{TEMPLATE}.json"]
+        # and the build's lock file, kept (see calckit.workflow.outfolder)
+        assert names == [".calckit-lock", f"{TEMPLATE}.html", f"{TEMPLATE}.ipynb", f"{TEMPLATE}.json"]
         assert not list(root.glob(".calckit-build-*"))
 
     def test_fingerprints_agree(self, built):

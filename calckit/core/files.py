@@ -15,6 +15,7 @@ meanwhile, so a file another process wrote is never replaced.
 
 from __future__ import annotations
 
+import errno
 import json
 import math
 import os
@@ -23,9 +24,9 @@ import tempfile
 from pathlib import Path
 from typing import Any
 
-from calckit.errors import OverwriteError
+from calckit.errors import OverwriteError, StorageError
 
-__all__ = ["new_file_mode", "refuse_existing", "toml_value", "write_file", "write_text"]
+__all__ = ["new_file_mode", "refuse_existing", "storage_error", "toml_value", "write_file", "write_text"]
 
 
 def free_name(path: Path, separator: str = "-", *, renumber: bool = False) -> Path:
@@ -46,6 +47,34 @@ def free_name(path: Path, separator: str = "-", *, renumber: bool = False) -> Pa
     while (candidate := path.with_name(f"{stem}{separator}{number}{path.suffix}")).exists():
         number += 1
     return candidate
+
+
+_FULL = "Free some space on that disk (or give a folder on another) and run it again"
+_DENIED = "Give a folder you may write in (or make this one writable) and run it again"
+#: What a full disk or a folder one may not write in is, in the kit's words, and what to do.
+_STORAGE = {
+    errno.ENOSPC: ("the disk is full", _FULL),
+    errno.EDQUOT: ("the disk quota is used up", _FULL),
+    errno.EROFS: ("the folder is on a read-only file system", _DENIED),
+    errno.EACCES: ("the folder is not writable (permission denied)", _DENIED),
+    errno.EPERM: ("the folder is not writable (operation not permitted)", _DENIED),
+}
+
+
+def storage_error(exc: OSError, where: Path | str) -> StorageError | None:
+    """The kit's own error for a full disk or a folder it may not write in (None for another OSError).
+
+    >>> import errno
+    >>> str(storage_error(OSError(errno.ENOSPC, "No space left on device"), "out/a.html"))
+    'out/a.html: the disk is full. Free some space on that disk (or give a folder on another) and run it again; nothing was written there and the files it holds are as they were.'
+    """
+    found = _STORAGE.get(exc.errno or 0)
+    if found is None:
+        return None
+    what, do = found
+    return StorageError(
+        what, where=str(where), do=do + "; nothing was written there and the files it holds are as they were"
+    )
 
 
 def new_file_mode() -> int:
@@ -119,6 +148,9 @@ def write_file(
     ------
     OverwriteError
         The file exists and *overwrite* is false; nothing is written.
+    StorageError
+        The disk is full or the folder cannot be written in; nothing is written
+        (no temporary file is left) and a file of that name is as it was.
 
     Examples
     --------
@@ -134,6 +166,15 @@ def write_file(
     path = Path(path)
     if not overwrite and path.exists():
         raise _refused(path, refuse)
+    try:
+        return _write(path, data, overwrite=overwrite, refuse=refuse)
+    except OSError as exc:
+        if isinstance(exc, OverwriteError):
+            raise
+        raise (storage_error(exc, path) or exc) from None
+
+
+def _write(path: Path, data: bytes, *, overwrite: bool, refuse: str | None) -> Path:
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=".calckit-", suffix=path.suffix, dir=path.parent)
     try:

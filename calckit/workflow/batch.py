@@ -28,6 +28,7 @@ the one before it, is said in :mod:`calckit.workflow.kernels` and
 from __future__ import annotations
 
 import concurrent.futures as cf
+import contextlib
 import csv
 import io
 import multiprocessing
@@ -41,14 +42,17 @@ from typing import Any
 from calckit.core.files import write_text
 from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
 from calckit.workflow.build import (
+    CASE_TIME_LIMIT_S,
     CELL_TIMEOUT_S,
     build_in_kernel,
     check_out_folder,
+    check_time_limit,
     held_fingerprint,
     prepared_values,
 )
 from calckit.workflow.cases import read_cases
-from calckit.workflow.kernels import loop_running, run_in_kept_kernel, run_sync
+from calckit.workflow.kernels import die_with_parent, loop_running, run_in_kept_kernel, run_sync
+from calckit.workflow.outfolder import FolderLock
 from calckit.workflow.templates import Template, load_template
 
 __all__ = ["CaseResult", "BatchResult", "default_workers", "run_batch", "counted"]
@@ -117,6 +121,7 @@ def _run_case(
     pdf: bool,
     overwrite: bool,
     sources: dict[str, str] | None = None,
+    time_limit: float | None = CASE_TIME_LIMIT_S,
 ) -> CaseResult:
     """Build one case; never raises for a case that fails (runs in a worker)."""
     started = time.monotonic()
@@ -124,17 +129,19 @@ def _run_case(
         template = load_template(template_path)
         out = Path(folder)
         check_out_folder(out)
-        held = held_fingerprint(out, template.name)
         options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
         options["sources"] = sources
+        options["time_limit"] = time_limit
         once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
+        with FolderLock(out):  # the case's folder, as a build's: read and checked under the lock
+            held = held_fingerprint(out, template.name)
 
-        async def job(kernel):
-            return await build_in_kernel(
-                kernel, template, assignments, wheres, inputs_label, out, held, **options
-            )
+            async def job(kernel):
+                return await build_in_kernel(
+                    kernel, template, assignments, wheres, inputs_label, out, held, **options
+                )
 
-        result = run_sync(lambda: run_in_kept_kernel(job, once=once))
+            result = run_sync(lambda: run_in_kept_kernel(job, once=once))
     except CalcError as exc:
         return CaseResult(name, False, folder, str(exc), None, time.monotonic() - started)
     except Exception as exc:  # a bug must not stop the other cases
@@ -160,6 +167,7 @@ def run_batch(
     pdf: bool = False,
     overwrite: bool = False,
     progress: Callable[[int, int, CaseResult], None] | None = None,
+    time_limit: float | None = CASE_TIME_LIMIT_S,
 ) -> BatchResult:
     """Build one sheet per case of a table, in parallel, and a summary of them.
 
@@ -193,6 +201,10 @@ def run_batch(
         :func:`build_sheet`).
     progress : callable, optional
         Called as ``progress(done, total, case_result)`` after each case.
+    time_limit : float or None
+        Seconds one case's cells may run in all (see :func:`build_sheet`), 300
+        by default; a case past it fails with a message naming its cell, its
+        kernel is killed and the other cases go on.
 
     Returns
     -------
@@ -214,6 +226,7 @@ def run_batch(
     table = read_cases(cases, tmpl)
     out = Path(out)
     check_out_folder(out)
+    check_time_limit(time_limit)
     if workers is not None and workers < 1:
         raise InputsError(f"{workers} workers cannot run anything", where="workers", do="Give 1 or more")
     _check_summaries(out, overwrite)
@@ -242,13 +255,29 @@ def run_batch(
         # a source of the base file stays with its value: an input the case changes has none
         sources = {n: s for n, s in base_sources.items() if n not in case.values}
         jobs.append(
-            (str(tmpl.path), values, wheres, label, str(out / case.name), case.name, pdf, overwrite, sources)
+            (
+                str(tmpl.path),
+                values,
+                wheres,
+                label,
+                str(out / case.name),
+                case.name,
+                pdf,
+                overwrite,
+                sources,
+                time_limit,
+            )  # fmt: skip
         )
 
     own = executor is None
     if own:
         count = min(workers or default_workers(), len(jobs))
-        executor = cf.ProcessPoolExecutor(max_workers=count, mp_context=multiprocessing.get_context("spawn"))
+        executor = cf.ProcessPoolExecutor(
+            max_workers=count,
+            mp_context=multiprocessing.get_context("spawn"),
+            initializer=die_with_parent,  # a batch killed takes its workers, and their kernels, with it
+            initargs=(os.getpid(),),
+        )
     results: dict[str, CaseResult] = {}
     try:
         futures = {executor.submit(_run_case, *job): job for job in jobs}
@@ -261,12 +290,24 @@ def run_batch(
             results[result.name] = result
             if progress is not None:
                 progress(done, len(jobs), result)
+    except BaseException:  # Ctrl-C, or the batch itself broke: end the workers now, not after their cases
+        if own:
+            _end_workers(executor)
+        raise
     finally:
         if own:
             executor.shutdown(wait=True, cancel_futures=True)
     ordered = tuple(results[case.name] for case in table)
     csv_path, html_path = _write_summary(out, tmpl, ordered, overwrite=overwrite)
     return BatchResult(out, ordered, csv_path, html_path)
+
+
+def _end_workers(executor: cf.ProcessPoolExecutor) -> None:
+    """Kill the pool's worker processes (their kernels die with them, see :func:`die_with_parent`)."""
+    for process in list((getattr(executor, "_processes", None) or {}).values()):
+        with contextlib.suppress(Exception):
+            process.kill()
+    executor.shutdown(wait=False, cancel_futures=True)
 
 
 # ---------------------------------------------------------------------------

@@ -47,16 +47,16 @@ import contextlib
 import os
 import re
 import shutil
-import tempfile
 import time
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from calckit.core.files import write_file, write_text
+from calckit.core.files import write_text
 from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
 from calckit.workflow.kernels import Kernel, run_sync, start_kernel
+from calckit.workflow.outfolder import FolderLock, move_in, stage_folder
 from calckit.workflow.templates import (
     INPUTS_TAG,
     SAVE_TAG,
@@ -72,6 +72,7 @@ if TYPE_CHECKING:  # the real imports are inside the functions: sympy and pint s
 
 __all__ = [
     "CELL_TIMEOUT_S",
+    "CASE_TIME_LIMIT_S",
     "SHEET_SUFFIXES",
     "BuildResult",
     "save_built_sheet",
@@ -81,10 +82,13 @@ __all__ = [
     "prepared_values",
     "build_in_kernel",
     "build_sheet",
+    "check_time_limit",
 ]
 
 #: Seconds one cell may run before the build gives up.
 CELL_TIMEOUT_S = 600
+#: Seconds the template's cells (and the save) may run in all, for one sheet: a build or a batch case.
+CASE_TIME_LIMIT_S = 300
 #: The files of a built sheet, by suffix.
 SHEET_SUFFIXES = (".ipynb", ".html", ".json", ".pdf")
 
@@ -270,8 +274,12 @@ async def build_in_kernel(
     timeout: int,
     started: float,
     sources: Mapping[str, str] | None = None,
+    time_limit: float | None = CASE_TIME_LIMIT_S,
 ) -> BuildResult:
     """Build one sheet in *kernel* (warmed up), which is reset first; the steps of :func:`build_sheet`.
+
+    The caller holds the lock on *out* (:class:`~calckit.workflow.outfolder.FolderLock`),
+    so *out* exists and no other build writes into it; the files are staged in it.
 
     *assignments* are the inputs (see :func:`prepared_values`), *wheres* where
     each is written, *inputs_label* the inputs' name on the sheet, *held* what
@@ -299,8 +307,7 @@ async def build_in_kernel(
         injected.id = INPUTS_TAG  # not a random one: the same inputs give the same notebook
     notebook.cells.insert(template.parameters_cell + 1, injected)
 
-    out.parent.mkdir(parents=True, exist_ok=True)
-    work = Path(tempfile.mkdtemp(prefix=f".calckit-build-{stem}-", dir=out.parent)).resolve()
+    work = stage_folder(out, stem)
     try:
         saver = nbformat.v4.new_code_cell(
             "# calckit build: save the sheet\n"
@@ -311,7 +318,7 @@ async def build_in_kernel(
         notebook.cells.append(saver)
         await kernel.reset(work)
         try:
-            await kernel.run(notebook, timeout)
+            await kernel.run(notebook, timeout, time_limit)
         except CalcError:
             raise
         except Exception as exc:
@@ -321,11 +328,7 @@ async def build_in_kernel(
                 kernel.healthy = True  # a cell that fails leaves a kernel the reset can clean
                 raise cell_error(template, notebook, wheres, exc) from None
             if isinstance(exc, CellTimeoutError):
-                raise BuildError(
-                    f"a cell ran longer than {timeout} s",
-                    where=str(template.path),
-                    do="Check the template for a loop that does not end",
-                ) from None
+                raise _timed_out(kernel, template, notebook, timeout, time_limit) from None
             if isinstance(exc, DeadKernelError):
                 raise _dead_kernel(kernel, template) from None
             raise
@@ -349,15 +352,15 @@ async def build_in_kernel(
             ]
             if changed:
                 raise _refuse_changed(out, changed)
-        out.mkdir(parents=True, exist_ok=True)
-        if overwrite:  # stale files of the replaced sheet (a PDF not asked for now)
-            for suffix in SHEET_SUFFIXES:
-                if suffix not in produced:
-                    (out / f"{stem}{suffix}").unlink(missing_ok=True)
-        for suffix in produced:  # the JSON record last: it marks the sheet complete
-            # a file that was there is replaced (checked above, or overwrite); one that appeared since is refused
-            data = (work / f"{stem}{suffix}").read_bytes()
-            write_file(out / f"{stem}{suffix}", data, overwrite=overwrite or suffix in present)
+        # stale files of the replaced sheet (a PDF not asked for now) go with the move
+        stale = [
+            f"{stem}{s}"
+            for s in SHEET_SUFFIXES
+            if overwrite and s not in produced and (out / f"{stem}{s}").exists()
+        ]
+        # all or nothing, the JSON record last (it marks the sheet complete); a file that was there is
+        # replaced (checked above, or overwrite), one that appeared since is refused
+        move_in(work, out, [f"{stem}{s}" for s in produced], remove=stale)
     finally:
         shutil.rmtree(work, ignore_errors=True)
     return BuildResult(
@@ -370,6 +373,36 @@ async def build_in_kernel(
         record=record,
         seconds=time.monotonic() - started,
     )
+
+
+def _timed_out(
+    kernel: Kernel, template: Template, notebook: Any, timeout: int, time_limit: float | None
+) -> BuildError:
+    """The error of a build stopped by its time limit (or a cell's), naming the cell that ran."""
+    from calckit.workflow.templates import cell_source
+
+    index = kernel.running
+    if index is None or index >= len(notebook.cells):
+        place = "the template"
+    elif SAVE_TAG in notebook.cells[index].metadata.get("tags", []):
+        place = "the save of the sheet (after the template's last cell)"
+    elif INPUTS_TAG in notebook.cells[index].metadata.get("tags", []):
+        place = "the cell of the inputs"
+    else:
+        number = index + 1 - (1 if index > template.parameters_cell else 0)
+        first = next(
+            (line.strip() for line in cell_source(notebook.cells[index]).splitlines() if line.strip()), ""
+        )
+        place = f"cell {number}" + (f" ({first[:60]!r})" if first else "")
+    if kernel.timed_out == "case" and time_limit is not None:
+        what = f"the build ran past its time limit of {time_limit:g} s, in {place}; its kernel was stopped"
+        do = (
+            "Check that cell for a loop that does not end, or give a longer limit (time_limit=, --time-limit)"
+        )
+    else:
+        what = f"{place} ran longer than {timeout} s, the limit of one cell; its kernel was stopped"
+        do = "Check that cell for a loop that does not end"
+    return BuildError(what, where=str(template.path), do=do + "; nothing was written")
 
 
 def _read_record(path: Path) -> dict:
@@ -406,6 +439,7 @@ async def _build_alone(
     overwrite: bool,
     timeout: int,
     started: float,
+    time_limit: float | None,
 ) -> BuildResult:
     """Start a kernel first; read and check the inputs while it starts and imports; then build."""
     kernel = await start_kernel()
@@ -420,6 +454,7 @@ async def _build_alone(
         return await build_in_kernel(
             kernel, template, assignments, wheres, label, out, held,
             pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
+            time_limit=time_limit,
         )  # fmt: skip
     finally:
         if not warm.done():
@@ -452,6 +487,7 @@ def build_sheet(
     pdf: bool = False,
     overwrite: bool = False,
     timeout: int = CELL_TIMEOUT_S,
+    time_limit: float | None = CASE_TIME_LIMIT_S,
 ) -> BuildResult:
     """Build one calculation sheet from a template notebook and an inputs file.
 
@@ -476,6 +512,11 @@ def build_sheet(
         changed since they were built (an annotated notebook).
     timeout : int
         Seconds one cell may run.
+    time_limit : float or None
+        Seconds the template's cells may run in all, the save of the sheet
+        included (not the kernel's start), 300 by default; past it the build
+        stops with an error naming the cell that ran, and its kernel is
+        killed. None: no limit but the cells'.
 
     Returns
     -------
@@ -489,7 +530,11 @@ def build_sheet(
         A cell of the template failed (bad input values among them).
     OverwriteError
         The output folder holds a sheet built from other inputs, or files of
-        this sheet that differ from what the build writes.
+        this sheet that differ from what the build writes, or another build is
+        writing into it now.
+    StorageError
+        The output folder cannot be written in (read-only, not the user's) or
+        the disk is full; the files there are as they were.
     BuildError
         No such template, the output folder is the template's own, or the
         kernel could not run it.
@@ -499,8 +544,31 @@ def build_sheet(
     out = Path(out)
     check_out_folder(out)
     _check_not_template(out, path)
-    return run_sync(
-        lambda: _build_alone(
-            path, inputs, out, pdf=pdf, overwrite=overwrite, timeout=timeout, started=started
+    check_time_limit(time_limit)
+    with FolderLock(out):  # the whole build: what the folder holds is read and checked under it
+        return run_sync(
+            lambda: _build_alone(
+                path,
+                inputs,
+                out,
+                pdf=pdf,
+                overwrite=overwrite,
+                timeout=timeout,
+                started=started,
+                time_limit=time_limit,
+            )  # fmt: skip
         )
-    )
+
+
+def check_time_limit(time_limit: float | None) -> None:
+    """Refuse a time limit that is not a number of seconds above 0 (None: no limit)."""
+    import math
+
+    if time_limit is not None and not (
+        isinstance(time_limit, int | float) and math.isfinite(time_limit) and time_limit > 0
+    ):
+        raise InputsError(
+            f"a time limit of {time_limit!r} s lets nothing run",
+            where="time_limit",
+            do="Give a number of seconds above 0 (or None for no limit)",
+        )

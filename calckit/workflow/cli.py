@@ -43,8 +43,10 @@ import importlib
 import importlib.util
 import inspect
 import re
+import signal
 import sys
 import textwrap
+import threading
 import types
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -164,6 +166,7 @@ def parser() -> argparse.ArgumentParser:
     build_cmd.add_argument("--out", required=True, metavar="DIR", help=_param(build.build_sheet, "out"))
     build_cmd.add_argument("--pdf", action="store_true", help=_param(build.build_sheet, "pdf"))
     build_cmd.add_argument("--overwrite", action="store_true", help=_param(build.build_sheet, "overwrite"))
+    _time_limit_option(build_cmd, build.build_sheet)
 
     diff_sheets = _documented("calckit.workflow.diff", "diff_sheets")
     diff = command("diff", diff_sheets, runs_templates=False)
@@ -190,11 +193,32 @@ def parser() -> argparse.ArgumentParser:
     )
     batch_cmd.add_argument("--pdf", action="store_true", help=_param(batch.run_batch, "pdf"))
     batch_cmd.add_argument("--overwrite", action="store_true", help=_param(batch.run_batch, "overwrite"))
+    _time_limit_option(batch_cmd, batch.run_batch)
 
     new = command("new", starter.new_calculation, runs_templates=False)
     new.add_argument("template", metavar="TEMPLATE", help=_param(starter.new_calculation, "template"))
     new.add_argument("dest", metavar="DEST", help=_param(starter.new_calculation, "dest"))
     return top
+
+
+def _time_limit_option(command: argparse.ArgumentParser, func: Callable) -> None:
+    command.add_argument(
+        "--time-limit",
+        type=_positive_seconds,
+        default=build.CASE_TIME_LIMIT_S,
+        metavar="SECONDS",
+        help=_param(func, "time_limit").replace("None: no limit but the cells'.", "").strip(),
+    )
+
+
+def _positive_seconds(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number of seconds, got {text!r}") from None
+    if not value > 0 or value == float("inf"):
+        raise argparse.ArgumentTypeError(f"expected a number of seconds above 0, got {text}")
+    return value
 
 
 def _positive_int(text: str) -> int:
@@ -229,7 +253,14 @@ def _run_demo(args: argparse.Namespace) -> int:
 
 
 def _run_build(args: argparse.Namespace) -> int:
-    result = build.build_sheet(args.template, args.inputs, args.out, pdf=args.pdf, overwrite=args.overwrite)
+    result = build.build_sheet(
+        args.template,
+        args.inputs,
+        args.out,
+        pdf=args.pdf,
+        overwrite=args.overwrite,
+        time_limit=args.time_limit,
+    )
     _print_build(result, f"Built {Path(args.template).stem} from {Path(args.inputs).name}")
     return 0
 
@@ -297,6 +328,7 @@ def _run_batch(args: argparse.Namespace) -> int:
         pdf=args.pdf,
         overwrite=args.overwrite,
         progress=progress,
+        time_limit=args.time_limit,
     )
     failed = len(result.failed)
     print(f"{batch.counted(len(result.cases), 'case')}: {len(result.cases) - failed} built, {failed} failed")
@@ -315,9 +347,63 @@ def _run_new(args: argparse.Namespace) -> int:
 _COMMANDS = {"demo": _run_demo, "build": _run_build, "diff": _run_diff, "batch": _run_batch, "new": _run_new}
 
 
+class _Interrupts:
+    """Ctrl-C (SIGINT) as the command line takes it: one line and exit code 130, at any moment.
+
+    The first interrupt raises ``KeyboardInterrupt`` where the command is, so that what
+    it started is undone on the way out (staging folders removed, a half-made move put
+    back, kernels killed; a kernel also dies with this process, see
+    :mod:`calckit.workflow.kernels`); a second one, while that runs, ends the process at
+    once. Either way the line is said once.
+    """
+
+    def __init__(self) -> None:
+        self.said = False
+        self.hit = False
+        self.previous = None
+
+    def __enter__(self) -> _Interrupts:
+        if threading.current_thread() is threading.main_thread():
+            self.previous = signal.signal(signal.SIGINT, self._first)
+        return self
+
+    def __exit__(self, *exc) -> None:
+        if self.previous is not None and not self.hit:  # interrupted: stay armed until the process ends
+            signal.signal(signal.SIGINT, self.previous)
+
+    def say(self, command: str | None) -> int:
+        if not self.said:
+            self.said = True
+            print(f"calckit{' ' + command if command else ''}: interrupted", file=sys.stderr, flush=True)
+        return 130
+
+    def _first(self, signum, frame) -> None:
+        self.hit = True
+        signal.signal(signal.SIGINT, self._again)
+        raise KeyboardInterrupt
+
+    def _again(self, signum, frame) -> None:
+        import os
+
+        self.say(self.command)
+        os._exit(130)
+
+    command: str | None = None
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the ``calckit`` command line; return the exit code."""
-    args = parser().parse_args(argv)
+    with _Interrupts() as interrupts:
+        try:
+            args = parser().parse_args(argv)
+            interrupts.command = args.command
+            code = _main(args)
+        except KeyboardInterrupt:
+            code = 130
+        return interrupts.say(interrupts.command) if code == 130 or interrupts.hit else code
+
+
+def _main(args: argparse.Namespace) -> int:
     try:
         return _COMMANDS[args.command](args)
     except CellError as exc:  # a template's cell failed: the input's fault, the template's or calckit's
@@ -329,9 +415,6 @@ def main(argv: Sequence[str] | None = None) -> int:
     except CalcError as exc:
         print(f"calckit {args.command}: error: {exc}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print(f"calckit {args.command}: interrupted", file=sys.stderr)
-        return 130
     except BrokenPipeError:  # the reader went away (calckit ... | head): not an error of ours
         import os
 

@@ -17,6 +17,16 @@ side: the kernel manager (:func:`kernel_manager`), the environment
 (:func:`kernel_env`), :class:`Kernel`, the event loop a kept kernel lives on
 (:func:`run_sync`) and the kept kernels (:func:`run_in_kept_kernel`), killed
 when the process exits.
+
+A kernel dies with the process that started it, whatever ends that process
+(SIGKILL included): on Linux the kernel starts through :data:`KERNEL_LAUNCH`,
+which asks the system for SIGKILL when its parent dies (``PR_SET_PDEATHSIG``).
+The system sends it when the *thread* that started the kernel ends, so a kernel
+is started by the thread that uses it: a build's (the main thread, or the thread
+:func:`run_sync` runs a notebook's build in, which outlives the kernel) or a batch
+worker's (a kept kernel lives on its thread's event loop, and is of no use after
+it). The batch's worker processes die with the batch in the same way
+(:func:`die_with_parent`), and their kernels with them.
 """
 
 from __future__ import annotations
@@ -31,6 +41,7 @@ import site
 import sys
 import tempfile
 import threading
+import time
 import warnings
 from collections.abc import Awaitable, Callable
 from pathlib import Path
@@ -40,6 +51,8 @@ from calckit.errors import BuildError
 
 __all__ = [
     "KERNEL_START_TIMEOUT_S",
+    "KERNEL_LAUNCH",
+    "die_with_parent",
     "IN_KERNEL",
     "ResetError",
     "Kernel",
@@ -53,6 +66,52 @@ __all__ = [
 
 #: Seconds a kernel may take to start and import calckit.
 KERNEL_START_TIMEOUT_S = 180
+
+#: Environment variable that tells a kernel the process it must not outlive.
+PARENT_PID_VAR = "CALCKIT_PARENT_PID"
+
+#: What a kernel runs first, before ipykernel: on Linux it asks to be killed (SIGKILL) when the
+#: thread that started it dies, by any signal, SIGKILL included (``prctl(PR_SET_PDEATHSIG)``,
+#: kept across ``exec``), and ends at once if that process died before the request took hold.
+#: Elsewhere the kernel starts as ``ipykernel_launcher`` does (the kernel then lives on a kill).
+KERNEL_LAUNCH = (
+    "import os, sys\n"
+    "if sys.platform.startswith('linux'):\n"
+    "    import ctypes, signal\n"
+    "    try:\n"
+    "        ctypes.CDLL(None, use_errno=True).prctl(1, int(signal.SIGKILL), 0, 0, 0)  # PR_SET_PDEATHSIG\n"
+    "    except (OSError, AttributeError):\n"
+    "        pass\n"
+    f"    if os.environ.get({PARENT_PID_VAR!r}, str(os.getppid())) != str(os.getppid()):\n"
+    "        os._exit(1)  # the build died while this kernel started\n"
+    "del sys.path[0]  # the working folder, as ipykernel_launcher does\n"
+    "from ipykernel import kernelapp\n"
+    "kernelapp.launch_new_instance()\n"
+)
+
+
+def die_with_parent(parent: int | None = None) -> None:
+    """Ask the system to kill this process (SIGKILL) when the one that started it dies (Linux only).
+
+    The batch's worker processes run this first (the pool's initializer), so that a batch
+    killed by any signal takes its workers with it, and they their kernels. A worker
+    also leaves Ctrl-C to the batch, which ends the workers itself. *parent* is the
+    process id of the batch, checked after the request (it may have died meanwhile).
+    """
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    if not sys.platform.startswith("linux"):
+        return
+    import ctypes
+
+    try:
+        ctypes.CDLL(None, use_errno=True).prctl(1, int(signal.SIGKILL), 0, 0, 0)  # PR_SET_PDEATHSIG
+    except (OSError, AttributeError):  # pragma: no cover - a libc without prctl
+        return
+    if parent is not None and parent != os.getppid():
+        os._exit(1)  # pragma: no cover - the batch died while this worker started
+
 
 #: Code that reaches the kernel's side (:mod:`calckit.workflow.kernel_state`) from inside the kernel;
 #: a function's name and its call follow.
@@ -69,6 +128,7 @@ def kernel_env() -> dict[str, str]:
     if root not in installed:
         env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
     env["PYDEVD_DISABLE_FILE_VALIDATION"] = "1"
+    env[PARENT_PID_VAR] = str(os.getpid())
     env["MPLBACKEND"] = "Agg"
     return env
 
@@ -96,8 +156,8 @@ def kernel_manager() -> Any:
                 argv=[
                     sys.executable,
                     "-Xfrozen_modules=off",
-                    "-m",
-                    "ipykernel_launcher",
+                    "-c",
+                    KERNEL_LAUNCH,
                     "-f",
                     "{connection_file}",
                 ],
@@ -123,6 +183,8 @@ class Kernel:
         self.language_info: dict = {}
         self.cases = 0
         self.healthy = False
+        self.running: int | None = None  # the index of the cell running (see :meth:`run`)
+        self.timed_out = ""
 
     async def start(self) -> None:
         """Launch the kernel process; returns without waiting for it to be ready."""
@@ -179,15 +241,33 @@ class Kernel:
                 do="Check that calckit imports in this environment: python -c 'import calckit'",
             )
 
-    async def run(self, notebook: Any, timeout: int) -> None:
-        """Run every cell of *notebook* as nbclient's ``execute`` does, in this kernel."""
+    async def run(self, notebook: Any, timeout: int, time_limit: float | None = None) -> None:
+        """Run every cell of *notebook* as nbclient's ``execute`` does, in this kernel.
+
+        A cell may run *timeout* seconds, and all the cells together *time_limit*
+        seconds (none: no limit but the cells'); past either, nbclient's
+        ``CellTimeoutError`` is raised, :attr:`running` says which cell ran and
+        :attr:`timed_out` which limit ended it (``"cell"`` or ``"case"``).
+        """
+        import math
+
         from nbclient import NotebookClient
 
         self.cases += 1
         self.healthy = False  # until the notebook has run to its end
+        self.running = None
+        self.timed_out = ""
+        deadline = None if time_limit is None else time.monotonic() + time_limit
+
+        def cell_limit(cell: Any) -> int:  # nbclient counts whole seconds
+            left = math.inf if deadline is None else deadline - time.monotonic()
+            self.timed_out = "case" if left < timeout else "cell"
+            return max(1, math.ceil(min(timeout, left)))
+
         client = NotebookClient(
             notebook,
             timeout=timeout,
+            timeout_func=cell_limit,
             kernel_name="python3",
             km=self.km,
             allow_errors=False,
@@ -197,7 +277,10 @@ class Kernel:
         client.reset_execution_trackers()
         notebook.metadata["language_info"] = self.language_info
         for index, cell in enumerate(notebook.cells):
+            self.running = index
             await client.async_execute_cell(cell, index, execution_count=client.code_cells_executed + 1)
+        self.running = None
+        self.timed_out = ""
         client.set_widgets_metadata()
         self.healthy = True
 
@@ -284,7 +367,17 @@ def run_sync(make: Callable[[], Any]) -> Any:
     """Run the coroutine ``make()`` to its end, also from a thread where an event loop runs (Jupyter)."""
     if not loop_running():
         with _quiet_clients():
-            return _loop().run_until_complete(make())
+            loop = _loop()
+            task = loop.create_task(make())
+            try:
+                return loop.run_until_complete(task)
+            except BaseException:  # Ctrl-C while the loop waited: let the job unwind (kill its kernel)
+                if not task.done():
+                    task.cancel()
+                    with contextlib.suppress(BaseException):
+                        loop.run_until_complete(task)
+                _cancel_left(loop)
+                raise
 
     def run_apart() -> Any:  # a notebook's own loop runs here: run ours in a thread, then close it
         loop = asyncio.new_event_loop()
@@ -296,6 +389,16 @@ def run_sync(make: Callable[[], Any]) -> Any:
 
     with cf.ThreadPoolExecutor(1) as pool:
         return pool.submit(run_apart).result()
+
+
+def _cancel_left(loop: asyncio.AbstractEventLoop) -> None:
+    """Cancel the tasks an interrupted job left on *loop* (nbclient's pollers), and let them end."""
+    left = [task for task in asyncio.all_tasks(loop) if not task.done()]
+    for task in left:
+        task.cancel()
+    if left:
+        with contextlib.suppress(BaseException):
+            loop.run_until_complete(asyncio.gather(*left, return_exceptions=True))
 
 
 async def start_kernel() -> Kernel:
