@@ -360,7 +360,8 @@ async def build_in_kernel(
         ]
         # all or nothing, the JSON record last (it marks the sheet complete); a file that was there is
         # replaced (checked above, or overwrite), one that appeared since is refused
-        move_in(work, out, [f"{stem}{s}" for s in produced], remove=stale)
+        replace = None if overwrite else {f"{stem}{s}" for s in present}
+        move_in(work, out, [f"{stem}{s}" for s in produced], remove=stale, replace=replace)
     finally:
         shutil.rmtree(work, ignore_errors=True)
     return BuildResult(

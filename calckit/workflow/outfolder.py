@@ -30,7 +30,7 @@ import errno
 import os
 import shutil
 import tempfile
-from collections.abc import Sequence
+from collections.abc import Collection, Sequence
 from pathlib import Path
 
 from calckit.core.files import storage_error
@@ -153,16 +153,27 @@ def _roll_back(out: Path, stage: Path, names: Sequence[str]) -> None:
             target.unlink(missing_ok=True)
 
 
-def move_in(stage: Path, out: Path, names: Sequence[str], *, remove: Sequence[str] = ()) -> None:
+def move_in(
+    stage: Path,
+    out: Path,
+    names: Sequence[str],
+    *,
+    remove: Sequence[str] = (),
+    replace: Collection[str] | None = None,
+) -> None:
     """Move the files *names* from *stage* into *out*, in that order, and delete *remove*: all or nothing.
 
-    The caller holds the lock on *out* and has checked what may be replaced. A
-    file that appeared meanwhile (outside calckit, since the lock is held) under
-    a name not checked is refused. On any failure the files already moved are
+    The caller holds the lock on *out* and has checked what may be replaced:
+    the names in *replace* (None: any). A file that appeared meanwhile (outside
+    calckit, since the lock is held) under another name is refused
+    (:class:`~calckit.errors.OverwriteError`) before anything moves. On any failure the files already moved are
     put back as they were and the error is raised (a full disk or a folder
     that cannot be written in as :class:`~calckit.errors.StorageError`).
     """
     kept = stage / _REPLACED
+    for name in names:
+        if replace is not None and name not in replace and (out / name).exists():
+            raise _appeared(out / name)
     try:
         kept.mkdir()
         for name in [*names, *remove]:
@@ -186,11 +197,7 @@ def move_in(stage: Path, out: Path, names: Sequence[str], *, remove: Sequence[st
                 try:
                     os.link(source, target)  # refuses a file that appeared since the check
                 except FileExistsError:
-                    raise OverwriteError(
-                        "the file appeared while the sheet was being built",
-                        where=str(target),
-                        do="Build again, or into another folder; nothing was changed",
-                    ) from None
+                    raise _appeared(target) from None
                 except OSError as exc:
                     if exc.errno not in (errno.EPERM, errno.EMLINK, errno.EOPNOTSUPP):
                         raise
@@ -206,6 +213,14 @@ def move_in(stage: Path, out: Path, names: Sequence[str], *, remove: Sequence[st
         raise
     (stage / _MOVES).unlink()  # every move made: nothing to roll back
     _sync(out)
+
+
+def _appeared(target: Path) -> OverwriteError:
+    return OverwriteError(
+        "the file appeared while the sheet was being built (written by something other than calckit)",
+        where=str(target),
+        do="Move it away and build again, or build into another folder; nothing was changed",
+    )
 
 
 def _keep(target: Path, kept: Path) -> None:
