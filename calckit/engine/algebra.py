@@ -135,7 +135,7 @@ def plain(expr: sp.Expr) -> str:
     text = re.sub(r"(\d)\*I\b", r"\1i", text)  # 155*I -> 155i
     text = re.sub(r"\bI\*", "i ", text)  # I*omega -> i omega
     text = re.sub(r"\bI\b", "i", text)
-    return text.replace("*", " ")
+    return text.replace("**", "^").replace("*", " ")
 
 
 def real_imag(expr: sp.Expr) -> tuple[sp.Expr, sp.Expr]:
