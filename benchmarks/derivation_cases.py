@@ -64,6 +64,18 @@ CASES = (
         (250, 4_000, 16_000),
         300 * sp.exp(-8 * t),
     ),
+    Case(
+        "resonant-irrational",
+        "x'' + 3 x = cos(sqrt(3) t): resonance at an irrational frequency",
+        (1, 0, 3),
+        sp.cos(sp.sqrt(3) * t),
+    ),
+    Case(
+        "resonant-irrational-4th",
+        "(D^2 + 3)^2 x = cos(sqrt(3) t): double resonance at an irrational frequency",
+        (1, 0, 6, 0, 9),
+        sp.cos(sp.sqrt(3) * t),
+    ),
     Case("symbolic-cos", "symbolic m, c, k: A cos(omega t)", (m, c, k), A * sp.cos(w * t)),
     Case(
         "symbolic-product",

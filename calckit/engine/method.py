@@ -32,6 +32,7 @@ from dataclasses import dataclass
 import sympy as sp
 
 from calckit.engine.derivation import Derivation, LinearOperator
+from calckit.engine.roots import normal_conditions
 from calckit.engine.steps import ParticularSolutionStep, Step
 from calckit.engine.verify import verification_step
 from calckit.errors import InternalError
@@ -185,5 +186,5 @@ def derive(strategy: Strategy, forcing, t: sp.Symbol | None = None) -> Derivatio
         solution=solution,
         steps=tuple(steps),
         verified=verified,
-        conditions=tuple(conditions),
+        conditions=normal_conditions(conditions),
     )

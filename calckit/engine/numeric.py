@@ -306,7 +306,8 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     times : array-like or pint Quantity
         Times in s.
         The result has the shape of *times*, or ``(n, len(times))`` for the
-        column solution of an n-coordinate model.
+        column solution of an n-coordinate model (``(n,)`` at one time,
+        ``(n, *times.shape)`` in general).
     part : {"solution", "transient", "steady_state"}
         Which part of a Response to evaluate (a Derivation has only its solution).
     **values
@@ -324,9 +325,10 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     """
     expr, t = _source(response_or_derivation, part)
     parameters = sorted(expr.free_symbols - {t}, key=lambda s: s.name)
-    if isinstance(expr, sp.MatrixBase):  # a multi-mass model: one row per coordinate, shape (n, len(times))
+    if isinstance(expr, sp.MatrixBase):  # a multi-mass model: one row per coordinate, shape (n, *times.shape)
         rows = [compile_expr(row, t, parameters=parameters)(times, **values) for row in expr]
-        return np.vstack([np.broadcast_to(row, np.shape(rows[0])) for row in rows])
+        shape = np.broadcast_shapes(*(np.shape(row) for row in rows))
+        return np.stack([np.broadcast_to(row, shape) for row in rows])
     compiled = compile_expr(expr, t, parameters=parameters)
     return compiled(times, **values)
 

@@ -16,8 +16,15 @@ import sympy as sp
 
 from calckit.core.display import Displayable
 from calckit.core.exact import exact
-from calckit.engine.algebra import is_zero, real_imag, tidy
+from calckit.engine.algebra import is_zero, plain, real_imag, tidy
 from calckit.engine.derivation import Derivation, ScalarOperator
+from calckit.engine.roots import (
+    NROOTS_DIGITS,
+    ROOT_DIGITS,
+    distinct_roots_condition,
+    normal_conditions,
+    roots_for_response,
+)
 from calckit.engine.steps import HomogeneousStep, InitialConditionsStep, Step, TotalResponseStep
 from calckit.errors import InternalError, ModelError
 
@@ -39,6 +46,11 @@ class Response(Displayable):
     steps : tuple of Step
         The particular solution's steps followed by the homogeneous solution, the
         initial-value equations and the total.
+    conditions : tuple
+        Relations the result needs when parameters are symbolic: the particular
+        solution's, and that the characteristic roots stay distinct (e.g.
+        ``Ne(C*R**2 - 4*L, 0)``), in the normal form of
+        :func:`calckit.engine.roots.normal_conditions`.
     """
 
     solution: sp.Expr | sp.ImmutableMatrix
@@ -50,6 +62,7 @@ class Response(Displayable):
     initial_values: tuple[sp.Expr, ...] | tuple[sp.ImmutableMatrix, sp.ImmutableMatrix]
     t: sp.Symbol
     steps: tuple[Step, ...]
+    conditions: tuple[sp.Expr, ...] = ()
 
     def evaluate(self, times, part: str = "solution", **values):
         """The response (or its ``"transient"`` / ``"steady_state"`` part) at numeric *times*."""
@@ -87,12 +100,13 @@ def homogeneous_basis(ode: ScalarOperator, t: sp.Symbol, roots=None) -> tuple[sp
     Raises ModelError when the roots of a symbolic characteristic polynomial are
     not found in closed form.
     """
-    roots = ode.characteristic_roots() if roots is None else roots
+    roots = roots_for_response(ode)[0] if roots is None else roots
     if roots is None:
         raise ModelError(
-            "the roots of the characteristic polynomial were not found in closed form",
+            "the roots of the characteristic polynomial of this symbolic model were not found in closed form",
             where=f"{ode!r}",
-            do="Give numeric coefficients, or a lower-order model",
+            do="Substitute numbers for the parameters (numeric models fall back to numerical roots), "
+            "or use a lower-order model",
         )
     basis = []
     for a, b, mult in _root_groups(roots):
@@ -142,7 +156,13 @@ def total_response(
     values = [exact(v, where=f"initial value {i + 1}") for i, v in enumerate(values)]
     der = ode.particular(f, t=t)
     t = der.t
-    basis = homogeneous_basis(ode, t) if basis is None else basis
+    numerical = False
+    conditions = list(der.conditions)
+    if basis is None:
+        roots, numerical = roots_for_response(ode)
+        basis = homogeneous_basis(ode, t, roots)
+        conditions.extend(distinct_roots_condition(ode))
+    conditions = normal_conditions(conditions)
     n = ode.order
     names = names or tuple(f"C_{i + 1}" for i in range(n))
     taken = {s.name for s in der.solution.free_symbols}
@@ -152,7 +172,21 @@ def total_response(
         "Homogeneous (transient) solution",
         "The roots of the characteristic polynomial give the free motion of the system"
         + (f" ({regime})" if regime else "")
-        + "; its constants are fixed by the initial state.",
+        + "; its constants are fixed by the initial state."
+        + (
+            f" The roots have no closed form: they are computed numerically (mpmath's polynomial root "
+            f"finder, {NROOTS_DIGITS} working digits, on the exact square-free factors, so multiplicities "
+            f"are exact) and kept to {ROOT_DIGITS} significant digits."
+            if numerical
+            else ""
+        )
+        + (
+            " This form holds while "
+            + ", ".join(f"{plain(c.lhs)} != 0" for c in conditions if isinstance(c, sp.Ne))
+            + "."
+            if any(isinstance(c, sp.Ne) for c in conditions)
+            else ""
+        ),
         transient_general,
         constants,
         regime,
@@ -174,7 +208,7 @@ def total_response(
             reproduce=_reproducer(ode, der.forcing, values, t),
         ) from exc
     found = tuple(
-        (c, tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
+        (c, v.evalf(ROOT_DIGITS) if numerical else tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
         for c, v in zip(constants, solved, strict=True)
     )
     mapping = dict(found)
@@ -207,6 +241,7 @@ def total_response(
         initial_values=tuple(values),
         t=t,
         steps=steps,
+        conditions=conditions,
     )
 
 

@@ -169,6 +169,7 @@ def modal_total_response(model, F, x0, v0, t) -> Response:
         initial_values=(x0, v0),
         t=t,
         steps=tuple(steps),
+        conditions=der.conditions,
     )
 
 

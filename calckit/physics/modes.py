@@ -3,7 +3,11 @@
 Exact (sympy) where the frequency equation ``det(K - mu M) = 0`` splits into
 factors of degree at most 2 in ``mu = omega^2``; numpy floats from a Cholesky
 reduction and ``numpy.linalg.eigh`` otherwise. Proportional damping
-(``Phi^T C Phi`` diagonal) gives the modal damping ratios.
+(``Phi^T C Phi`` diagonal) gives the modal damping ratios. Within a repeated
+frequency the basis is the one that diagonalises the block of ``Phi^T C Phi``
+(possible whenever ``C M^-1 K = K M^-1 C``). A negative ``omega^2`` (K indefinite:
+an unstable model) is refused on both paths; a float ``omega^2`` within
+``ZERO_RTOL`` of the largest is a rigid-body mode.
 
 References
 ----------
@@ -34,6 +38,11 @@ __all__ = [
 _MU = sp.Symbol("mu")  # omega**2 in the frequency equation det(K - mu M) = 0
 #: off-diagonal tolerance of Phi^T C Phi when modes are in floats
 FLOAT_RTOL = 1e-9
+#: a float eigenvalue omega^2 within this fraction of the largest |omega^2| is a rigid-body mode (0);
+#: one more negative than that makes K indefinite and the model unstable
+ZERO_RTOL = 1e-10
+#: float eigenvalues omega^2 closer than this fraction of the largest |omega^2| count as one repeated frequency
+REPEAT_RTOL = 1e-8
 
 
 @dataclass(frozen=True)
@@ -107,12 +116,8 @@ def _exact_modes(model) -> Modes | None:
         items.sort(key=lambda item: float(item[0]))
     freqs, shapes = [], []
     for mu, mult in items:
-        if mu.is_number and mu.is_negative:  # pragma: no cover - K indefinite
-            raise ModelError(
-                f"the frequency equation has the negative root omega^2 = {mu}, so K is not positive semidefinite",
-                where="K",
-                do="Check the signs of the stiffness matrix; an unstable model has no natural frequency",
-            )
+        if mu.is_number and mu.is_negative:
+            _unstable(mu)
         basis = (model.K - mu * model.M).nullspace(iszerofunc=is_zero, simplify=simplified)
         if len(basis) != mult:
             return None if not symbolic else _no_modes()
@@ -123,10 +128,54 @@ def _exact_modes(model) -> Modes | None:
             norm = sp.sqrt(simplified((vec.T * model.M * vec)[0, 0]))
             vec = sp.Matrix(first_positive([simplified(e / norm) for e in vec]))
             done.append(vec)
+        if len(done) > 1 and not model.undamped:
+            done = _exact_damping_basis(done, model.C)
         for vec in done:
             freqs.append(simplified(sp.sqrt(mu)))
             shapes.append(vec)
     return Modes(tuple(freqs), sp.ImmutableMatrix.hstack(*shapes), True)
+
+
+def _exact_damping_basis(vectors: list, damping: sp.ImmutableMatrix) -> list:
+    """The exact form of :func:`_damping_basis`: rotate the mass-orthonormal *vectors* of one
+    repeated frequency so that their block of ``Phi^T C Phi`` is diagonal.
+
+    The block is symmetric; its eigenvectors (orthonormalised within a repeated
+    damping value) give the rotation. When they are not found in closed form the
+    vectors are left as they are (the proportionality check then says so).
+    """
+    basis = sp.Matrix.hstack(*vectors)
+    block = (basis.T * damping * basis).applyfunc(simplified)
+    size = block.rows
+    if all(is_zero(block[i, j]) for i in range(size) for j in range(i + 1, size)):
+        return vectors
+    try:
+        found = block.eigenvects(simplify=True)
+    except (NotImplementedError, sp.MatrixError, ValueError):  # pragma: no cover - no closed form
+        return vectors
+    if sum(len(vecs) for _, _, vecs in found) != size:  # pragma: no cover - not diagonalisable
+        return vectors
+    if all(value.is_number for value, _, _ in found):
+        found = sorted(found, key=lambda item: float(item[0]))
+    rotated = []
+    for _, _, vecs in found:
+        done: list[sp.Matrix] = []
+        for vec in vecs:  # orthonormal in the plain inner product: the basis is already M-orthonormal
+            for prev in done:
+                vec = vec - (prev.T * vec)[0, 0] * prev
+            vec = vec / sp.sqrt(simplified((vec.T * vec)[0, 0]))
+            done.append(vec)
+        rotated.extend(done)
+    return [sp.Matrix(first_positive([simplified(e) for e in basis * q])) for q in rotated]
+
+
+def _unstable(mu) -> None:
+    raise ModelError(
+        f"the frequency equation has the negative root omega^2 = {mu}, so K is not positive semidefinite "
+        "and the model is unstable (a negative stiffness, not a rigid-body mode)",
+        where="K",
+        do="Check the signs of the stiffness matrix; an unstable model has no natural frequency",
+    )
 
 
 def _no_modes():
@@ -149,8 +198,49 @@ def _float_modes(model) -> Modes:
         first = np.flatnonzero(np.abs(col) > 1e-12 * np.max(np.abs(col)))[0]
         if col[first] < 0:
             phi[:, j] = -col
-    w = np.sqrt(np.clip(w2, 0.0, None))
+    scale = max(float(np.max(np.abs(w2))), 1e-300)
+    if w2[0] < -ZERO_RTOL * scale:
+        _unstable(f"{w2[0]:.6g}")
+    w2 = np.where(np.abs(w2) <= ZERO_RTOL * scale, 0.0, w2)  # a rigid-body mode: omega = 0 exactly
+    phi = _damping_basis(phi, w2, float_matrix(model.C, "C") if not model.undamped else None, scale)
+    w = np.sqrt(w2)
     return Modes(tuple(np.float64(x) for x in w), phi, False)
+
+
+def _repeated_groups(values, close) -> list[list[int]]:
+    """Indices of *values* (sorted) in runs where neighbours are equal by *close*."""
+    groups: list[list[int]] = []
+    for i, value in enumerate(values):
+        if groups and close(values[groups[-1][-1]], value):
+            groups[-1].append(i)
+        else:
+            groups.append([i])
+    return groups
+
+
+def _damping_basis(phi: np.ndarray, w2: np.ndarray, damping: np.ndarray | None, scale: float) -> np.ndarray:
+    """Within each repeated frequency, the mass-orthonormal basis that diagonalises ``Phi^T C Phi``.
+
+    Any basis of a repeated eigenspace is a set of mode shapes; when C commutes
+    with the model (``C M^-1 K = K M^-1 C``, Caughey and O'Kelly's condition) one
+    of them also uncouples the damping: the eigenvectors of the block of
+    ``Phi^T C Phi`` on that eigenspace (symmetric, so ``numpy.linalg.eigh``).
+    """
+    if damping is None:
+        return phi
+    phi = phi.copy()
+    for group in _repeated_groups(list(w2), lambda a, b: abs(a - b) <= REPEAT_RTOL * scale):
+        if len(group) < 2:
+            continue
+        block = phi[:, group].T @ damping @ phi[:, group]
+        _, rotation = np.linalg.eigh((block + block.T) / 2)
+        phi[:, group] = phi[:, group] @ rotation
+    for j in range(phi.shape[1]):
+        col = phi[:, j]
+        first = np.flatnonzero(np.abs(col) > 1e-12 * np.max(np.abs(col)))[0]
+        if col[first] < 0:
+            phi[:, j] = -col
+    return phi
 
 
 def natural_modes(model) -> Modes:
