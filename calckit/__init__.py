@@ -37,6 +37,8 @@ _PUBLIC = {
         "ISOLATION_RATIO_BASIS", "isolator_refusal", "isolator_results", "isolator_run_up", "LEAST_ISOLATION_RATIO", "require_one_harmonic",
         "residual_unbalance", "run_up_results", "run_up_stage", "SEPARATION_BAND", "SEPARATION_BASIS",
         "speed_separation", "STANDARD_GRAVITY", "static_deflection",
+        "DEFAULT_SEPARATION_REFERENCE", "SEPARATION_REFERENCES", "separation_basis", "separation_formula",
+        "AbsorberResponse", "absorber_response", "AbsorberTuning", "equal_peak_tuning",
         "excitation", "fourier", "harmonic",  # modules exported by name (``ck.harmonic.magnification``)
     ),
     "calckit.render.display": ("show",),

@@ -531,7 +531,9 @@ class TestIsolators:
         def rhs(t, y):
             speed = w * t / t_ru
             theta = w * t * t / (2 * t_ru)
-            return [y[1], (u * speed**2 * math.cos(theta) - c * y[1] - k * y[0]) / m]
+            # U (Omega^2 cos(theta) + Omega' sin(theta)): the tangential term included (issue 15, item 8)
+            force = u * (speed**2 * math.cos(theta) + (w / t_ru) * math.sin(theta))
+            return [y[1], (force - c * y[1] - k * y[0]) / m]
 
         done = solve_ivp(rhs, (0, t_ru), [0.0, 0.0], method="DOP853", rtol=1e-9, atol=1e-14, max_step=1e-3)
         reference = float(np.max(np.abs(done.y[0])))

@@ -1,8 +1,11 @@
 """Tests of calckit.physics.runup: the run-up from rest in steps of constant speed, then the hold.
 
 References, independent of calckit: scipy.integrate.solve_ivp on the same equation,
-m x'' + c x' + k x = U Omega(t)^2 cos(theta(t)) with the speed ramped linearly,
-Omega(t) = Omega t / t_ru and theta = Omega t^2 / (2 t_ru), and on one step of
+m x'' + c x' + k x = U (Omega(t)^2 cos(theta(t)) + Omega'(t) sin(theta(t))) with the speed
+ramped linearly, Omega(t) = Omega t / t_ru and theta = Omega t^2 / (2 t_ru) (run-up), or
+Omega(t) = Omega (1 - t / t_cd), theta = Omega (t - t^2 / (2 t_cd)) (coast-down from the
+steady state at Omega); the force is m_r times the second derivative of e cos(theta) with its
+sign turned (Newton's second law on the unbalance mass, hand-worked); and on one step of
 constant speed from a given state.
 """
 
@@ -25,16 +28,47 @@ T_RU = 2.0
 
 
 def ramp(t, y):
-    """The run-up's equation with the speed ramped linearly (the staircase's limit)."""
+    """The run-up's equation with the speed ramped linearly (the staircase's limit), tangential term included."""
     speed = W * t / T_RU
     theta = W * t * t / (2 * T_RU)
-    return [y[1], (U * speed**2 * math.cos(theta) - C * y[1] - K * y[0]) / M]
+    force = U * (speed**2 * math.cos(theta) + (W / T_RU) * math.sin(theta))
+    return [y[1], (force - C * y[1] - K * y[0]) / M]
+
+
+T_CD = 6.0  # coast-down time, s: slower than the run-up
+
+
+def coast(t, y):
+    """The coast-down's equation: the speed falls linearly from W to 0 over T_CD, Omega' = -W / T_CD."""
+    speed = W * (1 - t / T_CD)
+    theta = W * (t - t * t / (2 * T_CD))
+    force = U * (speed**2 * math.cos(theta) - (W / T_CD) * math.sin(theta))
+    return [y[1], (force - C * y[1] - K * y[0]) / M]
 
 
 @pytest.fixture(scope="module")
 def reference():
-    """solve_ivp (DOP853, tight tolerances) on the linear ramp."""
-    return solve_ivp(ramp, (0, T_RU), [0.0, 0.0], method="DOP853", rtol=1e-10, atol=1e-14, dense_output=True)
+    """solve_ivp (DOP853, tight tolerances, step limited) on the linear ramp."""
+    return solve_ivp(
+        ramp, (0, T_RU), [0.0, 0.0], method="DOP853", rtol=1e-10, atol=1e-14, max_step=1e-3, dense_output=True
+    )
+
+
+@pytest.fixture(scope="module")
+def coast_reference():
+    """solve_ivp on the coast-down from the steady state at W: x = Re(X), v = Re(i W X), X = U W^2 / (k - m W^2
+    + i c W) (Rao 5th ed. sec. 3.7, from memory)."""
+    steady = U * W**2 / complex(K - M * W**2, C * W)
+    return solve_ivp(
+        coast,
+        (0, T_CD),
+        [steady.real, -W * steady.imag],
+        method="DOP853",
+        rtol=1e-10,
+        atol=1e-14,
+        max_step=1e-3,
+        dense_output=True,
+    )
 
 
 class TestRunUpStage:
@@ -110,6 +144,82 @@ class TestRunUp:
         assert float(np.max(np.abs(last))) == pytest.approx(steady, rel=0.01)
 
 
+class TestCoastDown:
+    def test_history_against_solve_ivp(self, coast_reference):
+        """The coast-down's x(t) within 2 % of the largest motion of solve_ivp, at every point; its largest
+        motion and force within 1 %."""
+        got = run_up_results(
+            m=M, c=C, k=K, omega=W, unbalance=U, run_up_time=T_CD, zeta=ZETA, direction="down"
+        )
+        during = got.run.times <= T_CD
+        exact = coast_reference.sol(got.run.times[during])[0]
+        peak = float(np.max(np.abs(exact)))
+        assert float(np.max(np.abs(got.run.x[during] - exact))) < 0.02 * peak
+        times = np.linspace(0.0, T_CD, 300001)
+        x, v = coast_reference.sol(times)
+        assert got.peak == pytest.approx(float(np.max(np.abs(x))), rel=0.01)
+        assert got.peak_force == pytest.approx(float(np.max(np.abs(K * x + C * v))), rel=0.01)
+        assert got.peak_half_step == pytest.approx(got.peak, rel=0.01)
+
+    def test_speed_falls_and_the_hold_is_at_rest(self):
+        """Step j runs at Omega - (j + 1/2) Omega / N; after the coast-down the machine decays freely at rest
+        (six time constants: the motion falls to about e^-6 = 0.25 % of its size)."""
+        run = run_up(
+            m=M,
+            c=C,
+            k=K,
+            omega=W,
+            unbalance=U,
+            run_up_time=T_CD,
+            zeta=ZETA,
+            steps=100,
+            points=4,
+            direction="down",
+        )
+        assert run.speed[0] == pytest.approx(W - 0.5 * W / 100) and run.speed[-1] == 0.0
+        assert float(np.max(np.abs(run.x[-400:]))) < 0.01 * float(np.max(np.abs(run.x)))  # e^-6 of a decay
+
+    def test_unknown_direction(self):
+        """A ramp other than up or down is refused, naming it."""
+        from calckit.errors import InputsError
+
+        with pytest.raises(InputsError) as err:
+            run_up(
+                m=M,
+                c=C,
+                k=K,
+                omega=W,
+                unbalance=U,
+                run_up_time=T_CD,
+                zeta=ZETA,
+                steps=100,
+                direction="sideways",
+            )
+        assert str(err.value) == (
+            "direction: a speed ramp 'sideways' is not one of 'up', 'down'. "
+            'Give "up" for a run-up from rest or "down" for a coast-down from running speed.'
+        )
+
+
+def test_tangential_term_matters():
+    """Without the tangential term U Omega' sin(theta) the solve_ivp reference moves away from the run-up by
+    more than the tolerance the tests above accept at a short run-up (0.5 s), so those tests can fail."""
+    t_ru = 0.5
+
+    def rhs(t, y, tangential):
+        speed, theta = W * t / t_ru, W * t * t / (2 * t_ru)
+        force = U * (speed**2 * math.cos(theta) + tangential * (W / t_ru) * math.sin(theta))
+        return [y[1], (force - C * y[1] - K * y[0]) / M]
+
+    kw = dict(method="DOP853", rtol=1e-10, atol=1e-14, max_step=1e-3)
+    with_term = solve_ivp(rhs, (0, t_ru), [0.0, 0.0], args=(1.0,), **kw)
+    without = solve_ivp(rhs, (0, t_ru), [0.0, 0.0], args=(0.0,), **kw)
+    got = run_up_results(m=M, c=C, k=K, omega=W, unbalance=U, run_up_time=t_ru, zeta=ZETA)
+    exact = float(np.max(np.abs(with_term.y[0])))
+    assert got.peak == pytest.approx(exact, rel=0.01)
+    assert abs(float(np.max(np.abs(without.y[0]))) / exact - 1) > 0.01
+
+
 class TestRunUpResults:
     def test_peaks_against_solve_ivp(self, reference):
         """The largest motion and force during the run-up within 1 % of solve_ivp on the linear ramp;
@@ -131,10 +241,9 @@ class TestRunUpResults:
         got = run_up_results(m=M, c=C, k=K, omega=w, unbalance=u, run_up_time=T_RU, zeta=ZETA)
 
         def rhs(t, y):
-            return [
-                y[1],
-                (u * (w * t / T_RU) ** 2 * math.cos(w * t * t / (2 * T_RU)) - C * y[1] - K * y[0]) / M,
-            ]
+            theta = w * t * t / (2 * T_RU)
+            force = u * ((w * t / T_RU) ** 2 * math.cos(theta) + (w / T_RU) * math.sin(theta))
+            return [y[1], (force - C * y[1] - K * y[0]) / M]
 
         done = solve_ivp(rhs, (0, T_RU), [0.0, 0.0], method="DOP853", rtol=1e-10, atol=1e-14, max_step=1e-3)
         exact = float(np.max(np.abs(done.y[0])))

@@ -44,11 +44,24 @@ __all__ = [
 ]
 
 # Criteria, isolation, run-up: one place for what the templates and the explorer both compute.
+from calckit.physics.absorber import (  # noqa: E402
+    FREQUENCY_FORMULAS,
+    RESPONSE_FORMULAS,
+    TUNING_FORMULAS,
+    AbsorberResponse,
+    AbsorberTuning,
+    absorber_response,
+    equal_peak_tuning,
+)
 from calckit.physics.criteria import (  # noqa: E402
+    DEFAULT_SEPARATION_REFERENCE,
     ISOLATION_RATIO_BASIS,
     LEAST_ISOLATION_RATIO,
     SEPARATION_BAND,
     SEPARATION_BASIS,
+    SEPARATION_REFERENCES,
+    separation_basis,
+    separation_formula,
     speed_separation,
 )
 from calckit.physics.excitation import require_one_harmonic, residual_unbalance, unbalance_force  # noqa: E402
@@ -64,6 +77,17 @@ from calckit.physics.isolation import (  # noqa: E402
 from calckit.physics.runup import RunUp, RunUpResults, run_up, run_up_results, run_up_stage, run_up_steps  # noqa: E402
 
 __all__ += [
+    "FREQUENCY_FORMULAS",
+    "DEFAULT_SEPARATION_REFERENCE",
+    "SEPARATION_REFERENCES",
+    "separation_basis",
+    "separation_formula",
+    "RESPONSE_FORMULAS",
+    "TUNING_FORMULAS",
+    "AbsorberResponse",
+    "AbsorberTuning",
+    "absorber_response",
+    "equal_peak_tuning",
     "ISOLATION_RATIO_BASIS",
     "LEAST_ISOLATION_RATIO",
     "SEPARATION_BAND",

@@ -214,8 +214,10 @@ def isolator_run_up(
     balance_grade: float,
     running_speed: float,
     run_up_time: float,
+    direction: str = "up",
 ) -> RunUpResults:
-    """The run-up from rest of a machine on isolators under its rotor's unbalance (:func:`run_up_results`).
+    """The run-up from rest of a machine on isolators under its rotor's unbalance (:func:`run_up_results`),
+    or with ``direction="down"`` its coast-down over *run_up_time* from the steady state at running speed.
 
     The damping coefficient ``c = 2 zeta sqrt(k m)`` and the unbalance ``U = m_r G / Omega``
     are taken unrounded (the run-up is a simulation, not a step a checker redoes by hand).
@@ -231,4 +233,5 @@ def isolator_run_up(
         unbalance=unbalance,
         run_up_time=run_up_time,
         zeta=zeta,
+        direction=direction,
     )

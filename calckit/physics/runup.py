@@ -1,13 +1,19 @@
-"""A rotor run up from rest: the linear speed ramp in steps of constant speed, then the hold at speed.
+"""A rotor run up from rest, or coasting down to rest: the linear speed ramp in steps of constant speed.
 
-The speed rises linearly from rest, ``Omega(t) = Omega t / t_ru``, so the unbalance force
-is ``U Omega(t)^2 cos(theta(t))`` with ``theta = int_0^t Omega dt``. That chirp is not a
+The speed rises linearly from rest, ``Omega(t) = Omega t / t_ru`` (a run-up), or falls
+linearly from running speed, ``Omega(t) = Omega (1 - t / t_cd)`` (a coast-down, the same
+function with ``direction="down"`` and its own duration). The unbalance ``U`` at the angle
+``theta = int_0^t Omega dt`` pushes on the machine with ``U (Omega^2 cos(theta) +
+Omega' sin(theta))``: the centripetal term and the tangential term of the angular
+acceleration ``Omega' = +/- Omega / t`` (second derivative of ``U cos(theta)``). That chirp is not a
 sum of terms the method of undetermined coefficients takes, so the run-up is cut into
 ``N`` steps of constant speed (the speed at each step's middle). In each step the
 engine's total response from the state at the step's start is exact; the phase is
 carried from step to step (the midpoint rule integrates the linear ramp exactly). The
 approximation is the staircase of speed, which :func:`run_up_results` checks by halving
-the step. A hold at running speed for six time constants (at most 60 s) follows.
+the step. A hold for six time constants (at most 60 s) follows: at running speed after a
+run-up, at rest (free decay) after a coast-down, which starts from the steady state at
+running speed.
 
 The total response over one step, from any state, is derived once with symbols
 (:func:`run_up_stage`) and compiled; every run-up only evaluates arrays, all steps at
@@ -25,10 +31,12 @@ import numpy as np
 import sympy as sp
 
 from calckit.engine.numeric import Compiled, compile_expr
+from calckit.errors import InputsError
 from calckit.physics.harmonic import forced_amplitude
 from calckit.physics.oscillator import Oscillator
 
 __all__ = [
+    "DIRECTIONS",
     "STAGE_NAMES",
     "RunUp",
     "RunUpResults",
@@ -38,6 +46,9 @@ __all__ = [
     "run_up_stage",
     "run_up_steps",
 ]
+
+#: The two speed ramps: a run-up from rest, a coast-down to rest.
+DIRECTIONS = ("up", "down")
 
 #: Names of the compiled step response's parameters, in order.
 STAGE_NAMES = ("m", "c", "k", "Omega", "F_c", "F_s", "x_0", "v_0")
@@ -130,6 +141,7 @@ def run_up(
     steps: int,
     points: int = 12,
     hold_points: int = 4000,
+    direction: str = "up",
 ) -> RunUp:
     """The run-up from rest to *omega* in *steps* steps, then the hold at *omega*, all steps at once.
 
@@ -147,13 +159,26 @@ def run_up(
     zeta : damping ratio (sets the hold: six time constants, at most 60 s).
     steps : steps of constant speed (:func:`run_up_steps`).
     points, hold_points : points per step and in the hold.
+    direction : "up" (from rest, then the hold at *omega*) or "down" (a coast-down over
+        *run_up_time* from the steady state at *omega*, then the free decay at rest).
     """
+    if direction not in DIRECTIONS:
+        raise InputsError(
+            f"a speed ramp {direction!r} is not one of {', '.join(repr(d) for d in DIRECTIONS)}",
+            where="direction",
+            do='Give "up" for a run-up from rest or "down" for a coast-down from running speed',
+        )
+    down = direction == "down"
     stage = run_up_stage()
     h = run_up_time / steps
-    speeds = (np.arange(steps) + 0.5) * omega / steps
+    middles = (np.arange(steps) + 0.5) * omega / steps
+    speeds = omega - middles if down else middles
+    accel = (-1.0 if down else 1.0) * omega / run_up_time  # Omega', constant on the ramp
     phase = np.concatenate(([0.0], np.cumsum(speeds * h)))  # summed in order, step after step
-    force = unbalance * speeds**2
-    fc, fs = force * np.cos(phase[:-1]), -force * np.sin(phase[:-1])
+    # U (s^2 cos(theta + s tau) + Omega' sin(theta + s tau)) = F_c cos(s tau) + F_s sin(s tau)
+    radial, tangential = unbalance * speeds**2, unbalance * accel
+    fc = radial * np.cos(phase[:-1]) + tangential * np.sin(phase[:-1])
+    fs = -radial * np.sin(phase[:-1]) + tangential * np.cos(phase[:-1])
     base = dict(m=m, c=c, k=k, Omega=speeds)
     parts = []
     for on, x0, v0 in ((1.0, 0.0, 0.0), (0.0, 1.0, 0.0), (0.0, 0.0, 1.0)):  # forced, from x_0, from v_0
@@ -162,6 +187,9 @@ def run_up(
     (px, pv), (ax, av), (bx, bv) = parts
     xs, vs = np.empty(steps + 1), np.empty(steps + 1)
     x = v = 0.0
+    if down:  # from the steady state at running speed, theta = 0: x = Re(X), v = Re(i Omega X)
+        steady = unbalance * omega**2 / complex(k - m * omega**2, c * omega)
+        x, v = steady.real, -omega * steady.imag
     for j in range(steps):  # two numbers carried per step
         xs[j], vs[j] = x, v
         x, v = px[j] + ax[j] * x + bx[j] * v, pv[j] + av[j] * x + bv[j] * v
@@ -181,18 +209,19 @@ def run_up(
     wn = math.sqrt(k / m)
     hold = min(6.0 / max(zeta * wn, 1e-9), 60.0)
     held = np.linspace(0.0, hold, hold_points)
-    f_run = unbalance * omega**2
+    end_speed = 0.0 if down else omega
+    f_run = unbalance * end_speed**2
     at_speed = dict(
         m=m,
         c=c,
         k=k,
-        Omega=omega,
+        Omega=end_speed if not down else omega,  # at rest the force is nil; any speed serves the formula
         F_c=f_run * math.cos(phase[-1]),
         F_s=-f_run * math.sin(phase[-1]),
         x_0=x,
         v_0=v,
     )
-    speed = np.concatenate((np.repeat(speeds, points), np.full(hold_points, omega)))
+    speed = np.concatenate((np.repeat(speeds, points), np.full(hold_points, end_speed)))
     return RunUp(
         steps=steps,
         times=np.concatenate(((starts[:-1, None] + tau[None, :]).ravel(), starts[-1] + held)),
@@ -233,16 +262,34 @@ class RunUpResults:
 
 
 def run_up_results(
-    *, m: float, c: float, k: float, omega: float, unbalance: float, run_up_time: float, zeta: float
+    *,
+    m: float,
+    c: float,
+    k: float,
+    omega: float,
+    unbalance: float,
+    run_up_time: float,
+    zeta: float,
+    direction: str = "up",
 ) -> RunUpResults:
-    """The run-up in :func:`run_up_steps` steps (12 points a step) and in twice as many (6 points a step),
-    with the largest motion, the largest force and the resonance amplitude.
+    """The run-up (or, with ``direction="down"``, the coast-down over *run_up_time*) in :func:`run_up_steps`
+    steps (12 points a step) and in twice as many (6 points a step), with the largest motion, the largest
+    force and the resonance amplitude, taken over the ramp.
 
     Parameters as :func:`run_up`; the results in SI units.
     """
     wn = math.sqrt(k / m)
     steps = run_up_steps(omega, wn, zeta)
-    common = dict(m=m, c=c, k=k, omega=omega, unbalance=unbalance, run_up_time=run_up_time, zeta=zeta)
+    common = dict(
+        m=m,
+        c=c,
+        k=k,
+        omega=omega,
+        unbalance=unbalance,
+        run_up_time=run_up_time,
+        zeta=zeta,
+        direction=direction,
+    )
     run = run_up(steps=steps, points=12, **common)
     half = run_up(steps=2 * steps, points=6, **common)
     during = run.times <= run_up_time

@@ -17,7 +17,7 @@ import sympy as sp
 
 from calckit.core.units import Q_, angular_frequency, fmt, quantity
 from calckit.errors import SheetError, UnitsError
-from calckit.physics.criteria import speed_separation
+from calckit.physics.criteria import DEFAULT_SEPARATION_REFERENCE, speed_separation
 from calckit.sheet.blocks import RELATIONS, Check, check_margin
 from calckit.sheet.values import shown_text
 
@@ -76,8 +76,11 @@ def acceptance_check(
     return Check(name, v, lim, relation, unit_text, margin, bool(met), basis, shown_v, shown_l)
 
 
-def separation_percent(name: str, operating: Any, natural: Any) -> float:
-    """``|omega_op / omega_n - 1|`` in percent, for the check *name*; frequencies in any unit or rad/s.
+def separation_percent(
+    name: str, operating: Any, natural: Any, *, relative_to: str = DEFAULT_SEPARATION_REFERENCE
+) -> float:
+    """``|omega_op / omega_n - 1|`` in percent (``|omega_n / omega_op - 1|`` relative to the operating speed,
+    :func:`calckit.physics.criteria.speed_separation`), for the check *name*; frequencies in any unit or rad/s.
 
     Raises
     ------
@@ -99,14 +102,15 @@ def separation_percent(name: str, operating: Any, natural: Any) -> float:
 
     w_op = rad_per_s(operating, "operating frequency")
     w_n = rad_per_s(natural, "natural frequency")
-    if not w_n > 0 or not math.isfinite(w_op) or w_op < 0:
+    least = 0 if relative_to == DEFAULT_SEPARATION_REFERENCE else math.ulp(0)
+    if not w_n > 0 or not math.isfinite(w_op) or w_op < least:
         raise SheetError(
             f"the frequencies must be finite with a natural frequency above zero (got {w_op:g} and "
             f"{w_n:g} rad/s)",
             where=f"check {name}",
             do="Check the natural frequency: a model with no spring has none to separate from",
         )
-    return speed_separation(w_op, w_n) * 100
+    return speed_separation(w_op, w_n, relative_to=relative_to) * 100
 
 
 def require_real(value: Any, where: str, label: str) -> None:

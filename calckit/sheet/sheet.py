@@ -47,7 +47,7 @@ from calckit.core.files import free_name, write_file
 from calckit.core.rounding import as_shown
 from calckit.core.units import fmt, quantity
 from calckit.errors import OverwriteError, SheetError
-from calckit.physics.criteria import SEPARATION_BAND, SEPARATION_BASIS
+from calckit.physics.criteria import DEFAULT_SEPARATION_REFERENCE, SEPARATION_BAND, separation_basis
 from calckit.sheet.blocks import (
     DEFAULT_CAUTION,
     CalcStep,
@@ -391,13 +391,18 @@ class Sheet:
         natural: Any,
         *,
         band: float = SEPARATION_BAND,
-        basis: str = SEPARATION_BASIS,
+        basis: str | None = None,
+        relative_to: str = DEFAULT_SEPARATION_REFERENCE,
     ) -> Check:
         """Check that an operating frequency is at least ``band`` away from a natural frequency.
 
-        The value is ``|f_op / f_n - 1|`` (as a percentage), the limit ``band``.
+        The value is ``|f_op / f_n - 1|`` (as a percentage) relative to the natural frequency (the
+        default), or ``|f_n / f_op - 1|`` with ``relative_to="operating speed"``; the limit ``band``.
+        The basis printed says which (:func:`calckit.physics.criteria.separation_basis`) unless given.
         """
-        separation = separation_percent(name, operating, natural)
+        if basis is None:
+            basis = separation_basis(relative_to, band)
+        separation = separation_percent(name, operating, natural, relative_to=relative_to)
         return self.check(name, separation, band * 100, relation=">=", basis=basis, unit="percent")
 
     def figure(self, fig: Any, caption: str) -> Figure:
