@@ -117,6 +117,7 @@ def _run_case(
     pdf: bool,
     overwrite: bool,
     sources: dict[str, str] | None = None,
+    units: dict | None = None,
 ) -> CaseResult:
     """Build one case; never raises for a case that fails (runs in a worker)."""
     started = time.monotonic()
@@ -127,6 +128,7 @@ def _run_case(
         held = held_fingerprint(out, template.name)
         options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
         options["sources"] = sources
+        options["units"] = units  # the base inputs file's [units] table
         once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
 
         async def job(kernel):
@@ -220,6 +222,7 @@ def run_batch(
     base_values = prepared_values(tmpl, base) if base is not None else dict(tmpl.parameters)
     base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
     base_sources = dict(base.sources) if base is not None else {}
+    units = base.units.payload() if base is not None and base.units.given else None
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
     cases_label = Path(cases).name
@@ -242,7 +245,18 @@ def run_batch(
         # a source of the base file stays with its value: an input the case changes has none
         sources = {n: s for n, s in base_sources.items() if n not in case.values}
         jobs.append(
-            (str(tmpl.path), values, wheres, label, str(out / case.name), case.name, pdf, overwrite, sources)
+            (
+                str(tmpl.path),
+                values,
+                wheres,
+                label,
+                str(out / case.name),
+                case.name,
+                pdf,
+                overwrite,
+                sources,
+                units,
+            )  # fmt: skip
         )
 
     own = executor is None
