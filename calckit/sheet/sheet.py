@@ -483,18 +483,24 @@ class Sheet:
         """SHA-256 over everything the user provided, the kit version and the template.
 
         Covered: the title block except the date, every input (name, text as given,
-        exact value, unit, description, source), every check's name, limit,
+        exact value, unit, description, source; not the name of the inputs file, which a
+        rename changes and the content does not), every check's name, limit,
         relation and basis, the assumptions, references, notes and the caution.
         Results are not covered: they follow from these. Two sheets with the same
         fingerprint came from the same inputs through the same calculation.
         """
         title = {key: value for key, value in asdict(self.title).items() if key != "date"}
+
+        def _own(source: str) -> str:
+            return "(the inputs file)" if self.inputs_file and source == self.inputs_file else source
+
         payload = {
             "calckit": __version__,
             "template": self.template_digest,
             "title": title,
             "inputs": [
-                [rec.name, rec.text, exact_text(rec.value), rec.si_unit, rec.description, rec.source]
+                # the inputs file's name stands for the file: renamed, the inputs are the same
+                [rec.name, rec.text, exact_text(rec.value), rec.si_unit, rec.description, _own(rec.source)]
                 for rec in self.inputs.values()
             ],
             "checks": [[c.name, c.relation, repr(c.limit), c.unit, c.basis] for c in self.checks],
