@@ -326,8 +326,10 @@ class TestDiff:
         assert "Inputs changed (1):\n  forcing_frequency: 1480 rpm -> 600 rpm\n" in run.stdout
         assert "Checks flipped (1):\n  amplitude: met -> NOT MET\n" in run.stdout
         # results as the sheet shows them: the amplitude in mm, the phase in degrees
-        assert "\n  amplitude: 0.02058 mm -> " in run.stdout
-        assert re.search(r"\n  phase_lag: 179\.3 deg -> \d+(\.\d+)? deg \(", run.stdout)
+        # each result under its step's title on the sheet, with its name
+        assert re.search(r"\n  [^\n]*\(amplitude\): 0\.02058 mm -> ", run.stdout)
+        assert re.search(r"\n  [^\n]*\(phase_lag\): 179\.3 deg -> \d+(\.\d+)? deg \(", run.stdout)
+        assert run.stdout.splitlines()[2].startswith("Old: HCW-VIB-001 rev A, fingerprint ")
         assert (root / "diff.html").read_text().startswith("<!DOCTYPE html>")
 
     def test_html_not_over_a_file(self, runs):
