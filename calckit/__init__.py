@@ -43,7 +43,9 @@ _PUBLIC = {
     ),
     "calckit.render.display": ("show",),
     "calckit.render.numbers": ("put_through", "Substitution"),
-    "calckit.sheet": ("Check", "DEFAULT_CAUTION", "read_record", "RECORD_VERSION", "Sheet", "SheetRecord"),
+    "calckit.sheet": (
+        "Check", "DEFAULT_CAUTION", "OutputUnits", "read_record", "RECORD_VERSION", "Sheet", "SheetRecord",
+    ),  # fmt: skip
     "calckit.workflow": ("build_sheet", "diff_sheets", "run_batch"),
     "calckit.explore.explorer": ("Explorer",),
 }  # fmt: skip

@@ -29,6 +29,7 @@ from calckit import harmonic
 from calckit.errors import CalcError, InputsError, OverwriteError, UnitsError
 from calckit.explore import explore
 from calckit.explore.explorer import Explorer
+from calckit.explore.keep import REVISION_CLEARED
 from calckit.physics.criteria import SEPARATION_BASIS
 from calckit.physics.oscillator import Oscillator
 
@@ -192,6 +193,15 @@ class TestKeep:
         assert new[0].startswith("# Kept from the what-if explorer")
         differ = [(a, b) for a, b in zip(old, new[1:], strict=True) if a != b]
         assert differ == [
+            (  # the starting file's build comment would build the starting file: it names the kept one
+                "# Build it with:  calckit build single_mass_harmonic --inputs harrow_creek_p101.toml "
+                "--out built/p101",
+                "# Build it with:  calckit build single_mass_harmonic --inputs kept.toml --out built/kept",
+            ),
+            (  # what-if values are not the issued revision A
+                'revision = "A"',
+                f'revision = ""  {REVISION_CLEARED}',
+            ),
             ('forcing_frequency = "1480 rpm"', 'forcing_frequency = "250 rpm"'),
             (
                 'stiffness = "720 kN/m"        # six spring isolators together, vertical (invented)',
@@ -202,6 +212,32 @@ class TestKeep:
             ("stiffness", "720 kN/m", "900 kN/m"),
             ("forcing_frequency", "1480 rpm", "250 rpm"),
         )
+
+    @pytest.mark.parametrize(
+        "sheet_table",
+        ['[sheet]\nrevision = "C"\nauthor = "A. Engineer"\n', '[sheet]\nauthor = "A. Engineer"\n', ""],
+        ids=["given", "none-in-sheet", "no-sheet-table"],
+    )
+    def test_clears_the_revision(self, tmp_path, sheet_table):
+        """A kept file gives its sheet no revision (what-if values are not an issued revision), whether the
+        starting file gave one, left it to the template's example letter, or had no [sheet] table."""
+        from calckit.workflow import read_inputs
+
+        start = EXAMPLE.read_text(encoding="utf-8").replace('revision = "A"\n', "")
+        start = start.replace("[sheet]\n", "[title]\n").replace("[title]\n", "[sheet]\n", 1)
+        head, _, rest = start.partition("[sheet]\n")
+        _, _, machine = rest.partition("[machine]\n")
+        start = head + sheet_table + "\n[machine]\n" + machine
+        (tmp_path / "start.toml").write_text(start, encoding="utf-8")
+        ex = explore(tmp_path / "start.toml", "single_mass_harmonic")
+        ex.set(mass="2000 kg")
+        kept = ex.keep(tmp_path / "what-if.toml")
+        text = kept.path.read_text(encoding="utf-8")
+        assert read_inputs(kept.path).sheet.revision == ""
+        assert text.count(f'revision = ""  {REVISION_CLEARED}') == 1
+        assert "--inputs harrow_creek_p101.toml" not in text
+        assert "# Build it with:  calckit build single_mass_harmonic --inputs what-if.toml" in text
+        assert 'mass = "2000 kg"' in text
 
     def test_refuses_existing_file(self, p101, tmp_path):
         target = tmp_path / "mine.toml"
@@ -605,6 +641,11 @@ class TestIsolators:
         old = ISOLATORS.read_text(encoding="utf-8").splitlines()
         new = kept.path.read_text(encoding="utf-8").splitlines()
         differ = [(a, b) for a, b in zip(old, new[1:], strict=True) if a != b]
+        assert [b for a, b in differ if a.startswith(("# Build it with:", "revision ="))] == [
+            "# Build it with:  calckit build machine_on_isolators --inputs kept.toml --out built/kept",
+            f'revision = ""  {REVISION_CLEARED}',
+        ]
+        differ = [(a, b) for a, b in differ if not a.startswith(("# Build it with:", "revision ="))]
         assert differ == [
             (
                 'balance_grade = "6.3 mm/s"       # G 6.3, the grade usually asked of pump rotors (invented spec)',
@@ -704,7 +745,11 @@ def test_keep_moves_an_input_written_with_its_source(tmp_path):
         'force_amplitude = { value = "1.5 kN", source = "Pump data sheet P-101-DS-001 rev B (invented); '
         'moved in the what-if explorer from 0.9 kN" }' in text
     )
-    unchanged = [line for line in original.splitlines() if "force_amplitude" not in line]
+    unchanged = [
+        line
+        for line in original.splitlines()
+        if "force_amplitude" not in line and not line.startswith(("revision =", "# Build it with:"))
+    ]  # the revision and the build comment are cleared (TestKeep.test_clears_the_revision)
     assert all(line in text.splitlines() for line in unchanged)
 
 

@@ -436,7 +436,7 @@ class Explorer(_Plots, _Sliders):
             raise OverwriteError(
                 "the path is a folder", where=str(path), do="Give a file name ending in .toml"
             )
-        text = _kept_text(self._inputs.values(), self._file, self._values, self.template)
+        text = _kept_text(self._inputs.values(), self._file, self._values, self.template, path)
         _write_kept(path, text, overwrite=overwrite)
         written = read_inputs(path)  # read back as calckit build will
         check_keys(written, self._template.parameters, path=path)

@@ -6,6 +6,13 @@ written in; without a starting file (or where a line cannot be placed safely) th
 file is written afresh. Every file goes through :func:`calckit.core.files.write_text`
 and every TOML value through :func:`calckit.core.files.toml_value`, except a moved
 number, written as the shortest text the explorer shows (``1923``, not ``1923.0``).
+
+A kept file holds what-if values, not the calculation as issued, so two things of the
+starting file would be untrue in it and are cleared: the revision (written as
+``revision = ""`` with a note, so the sheet built from it carries no revision until the
+engineer gives it one, rather than the issued sheet's letter or the template's example
+letter), and the comment that says how to build the starting file (``# Build it
+with: ... --inputs start.toml``), which now names the kept file instead.
 """
 
 from __future__ import annotations
@@ -24,6 +31,12 @@ from calckit.workflow import TITLE_FIELDS
 
 #: What a refused overwrite tells the user to do instead.
 KEEP_ELSEWHERE = "Keep to another name, or pass overwrite=True to replace it"
+
+#: The note beside the revision a kept file clears.
+REVISION_CLEARED = "# cleared when kept from the explorer: what-if values; give a revision before issuing"
+
+_SHEET_HEADER = re.compile(r"^\s*\[\s*sheet\s*\]\s*(#.*)?$")
+_BUILD_COMMENT = re.compile(r"^(?P<lead>#\s*Build it with:\s*)calckit build .*$", re.MULTILINE)
 
 
 @dataclass(frozen=True)
@@ -46,10 +59,13 @@ class Kept:
         return f"Wrote {self.path}: {moved}."
 
 
-def _kept_text(inputs: Iterable[_Input], file: Any, values: Mapping[str, Any], template: str) -> str:
+def _kept_text(
+    inputs: Iterable[_Input], file: Any, values: Mapping[str, Any], template: str, path: Path | None = None
+) -> str:
     """The kept file's text: a header naming the moved values, then the inputs file with them in place.
 
-    *file* is the starting inputs file (None: the template's own *values* are written afresh).
+    *file* is the starting inputs file (None: the template's own *values* are written afresh);
+    *path* is where the kept file goes (named in its build comment). The revision is cleared.
     """
     inputs = tuple(inputs)
     moved = [i for i in inputs if i.changed]
@@ -60,9 +76,9 @@ def _kept_text(inputs: Iterable[_Input], file: Any, values: Mapping[str, Any], t
         else "; no value moved from the start.\n"
     )
     if file is not None:
-        text = _replace_lines(file, {i.name: i.toml() for i in moved})
+        text = _replace_lines(file, {i.name: i.toml() for i in moved}, revision=True)
         if text is not None:
-            return header + text
+            return header + _build_comment(text, template, path)
         written = dict(file.values)
         groups = dict(file.groups)
         title = file.sheet.present()
@@ -73,7 +89,17 @@ def _kept_text(inputs: Iterable[_Input], file: Any, values: Mapping[str, Any], t
     for item in inputs:
         written[item.name] = item.text() if item.from_text else float(item.value)
     sources = dict(getattr(file, "sources", {}) or {}) if file is not None else {}
+    written.pop("revision", None)  # an older file's top-level revision: cleared in [sheet]
+    title = {**title, "revision": ""}
     return header + _document(written, groups, title, template, sources)
+
+
+def _build_comment(text: str, template: str, path: Path | None) -> str:
+    """*text* with a comment on how to build the starting file made to name the kept one (or dropped)."""
+    if path is None:
+        return _BUILD_COMMENT.sub("", text)
+    command = f"calckit build {template} --inputs {path.name} --out built/{path.stem}"
+    return _BUILD_COMMENT.sub(lambda m: m.group("lead") + command, text)
 
 
 def _write_kept(path: Path, text: str, *, overwrite: bool) -> None:
@@ -115,10 +141,22 @@ _INLINE = re.compile(
 )
 
 
-def _replace_lines(file: Any, new: Mapping[str, str]) -> str | None:
+def _replace_lines(file: Any, new: Mapping[str, str], *, revision: bool = False) -> str | None:
     """The inputs file's text with the values of *new* replaced in place, or None if a line
-    cannot be placed safely (then the caller writes the file afresh)."""
+    cannot be placed safely (then the caller writes the file afresh).
+
+    With *revision*, a revision the file gives is cleared (``revision = ""`` and a note).
+    """
     lines = file.text.splitlines(keepends=True)
+    cleared = revision
+    revision = revision and (file.sheet.revision is not None or "revision" in file.values)
+    if revision:
+        number = file.line_of("revision")
+        found = _VALUE.match(lines[number - 1].rstrip("\r\n")) if number else None
+        if not found or found.group("key").strip("\"'") != "revision":
+            return None
+        ending = lines[number - 1][len(lines[number - 1].rstrip("\r\n")) :]
+        lines[number - 1] = f'{found.group("lead")}""  {REVISION_CLEARED}{ending}'
     for name, toml in new.items():
         number = file.line_of(name)
         if number is None:
@@ -144,11 +182,23 @@ def _replace_lines(file: Any, new: Mapping[str, str]) -> str | None:
             )
         else:
             return None
+    if cleared and not revision:  # none given: the template's example letter would print; give none
+        entry = f'revision = ""  {REVISION_CLEARED}\n'
+        header = next((n for n, line in enumerate(lines) if _SHEET_HEADER.match(line)), None)
+        if header is None:
+            if lines and not lines[-1].endswith("\n"):
+                lines[-1] += "\n"
+            lines += ["\n", "[sheet]\n", entry]
+        else:  # after the values are replaced: their line numbers hold until here
+            lines.insert(header + 1, entry)
+        revision = True
     text = "".join(lines)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError:  # pragma: no cover - a value the pattern misread
         return None
+    if revision and (data.get("sheet", {}).get("revision", data.get("revision"))) != "":
+        return None  # pragma: no cover - a revision the pattern misread
     for name, toml in new.items():
         group = file.groups.get(name, "")
         table = data.get(group, {}) if group else data

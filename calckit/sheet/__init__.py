@@ -1,7 +1,8 @@
 """The calculation sheet as data and its HTML, one module per job.
 
 ``blocks`` the frozen block records (inputs, steps, results, checks, figures, tables,
-text) and the margin rule; ``values`` how values are read and shown; ``checking`` the
+text) and the margin rule; ``values`` how values are read and shown; ``output_units`` the units results are shown in
+(US customary or chosen) and one system a substitution; ``checking`` the
 acceptance checks; ``record`` the typed, versioned JSON record and its reader;
 ``sheet`` the :class:`Sheet` itself (adding blocks, fingerprint, saving); ``html`` the
 sheet as HTML for the file and the notebook.
@@ -20,6 +21,8 @@ _NAMES = {
     "RECORD_VERSION": "calckit.sheet.record",
     "SheetRecord": "calckit.sheet.record",
     "existing_fingerprint": "calckit.sheet.record",
+    "OutputUnits": "calckit.sheet.output_units",
+    "apply_units": "calckit.sheet.output_units",
     "read_record": "calckit.sheet.record",
     "Sheet": "calckit.sheet.sheet",
     "in_kernel": "calckit.sheet.sheet",

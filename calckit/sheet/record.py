@@ -33,6 +33,7 @@ import json
 import os
 import re
 from dataclasses import MISSING, asdict, dataclass, fields
+from dataclasses import field as _field
 from pathlib import Path
 from typing import Any
 
@@ -99,7 +100,8 @@ class RecordInput:
 class RecordResult:
     """One result as recorded: ``value`` in SI with its ``unit``, ``shown`` as the sheet shows it.
 
-    ``text`` is the result's text when it has no number (e.g. a symbolic expression), else ``None``.
+    ``text`` is the result's text when it has no number (e.g. a symbolic expression), else ``None``;
+    ``label`` the title its step has on the sheet (``None``: the step has none).
     """
 
     name: str
@@ -107,6 +109,7 @@ class RecordResult:
     unit: str
     shown: str
     text: str | None = None
+    label: str | None = None
 
 
 @dataclass(frozen=True)
@@ -210,6 +213,8 @@ class SheetRecord:
     references: tuple[str, ...] = ()
     notes: tuple[str, ...] = ()
     caution: str = ""
+    inputs_file: str = ""
+    output_units: dict = _field(default_factory=dict)
 
     @property
     def checks_met(self) -> int:
@@ -245,6 +250,13 @@ class SheetRecord:
             "notes": list(self.notes),
             "caution": self.caution,
         }
+        if self.inputs_file:  # the name the sheet gives its inputs file (the source of inputs without one)
+            data["inputs_file"] = self.inputs_file
+        if self.output_units:  # absent: SI, each result in the unit its step asks for
+            data["output_units"] = {
+                "system": self.output_units.get("system", "SI"),
+                "results": dict(self.output_units.get("results", {})),
+            }
         if self.record_version >= SEALED_FROM:
             data["seal"] = seal_of(data)
         return data
@@ -278,6 +290,8 @@ def _result_dict(item: RecordResult) -> dict:
     out = {"name": item.name, "value": item.value, "unit": item.unit, "shown": item.shown}
     if item.text is not None:
         out["text"] = item.text
+    if item.label:
+        out["label"] = item.label
     return out
 
 
@@ -291,9 +305,13 @@ def record_of(sheet: Any) -> SheetRecord:
     from calckit.sheet.values import shown_text, si_value
 
     results = []
+    units = getattr(sheet, "units", None)
+    labels = {b.name: b.title for b in sheet.blocks if getattr(b, "title", "") and hasattr(b, "name")}
     for name, value in sheet.results.items():
         si, unit = si_value(value, name)
-        results.append(RecordResult(name, si, unit, shown_text(value), str(value) if si is None else None))
+        shown = units.shown_value(name, value) if units is not None else value  # the sheet's units
+        text = str(value) if si is None else None
+        results.append(RecordResult(name, si, unit, shown_text(shown), text, labels.get(name) or None))
     texts = sheet.of_type(TextBlock)
     return SheetRecord(
         record_version=RECORD_VERSION,
@@ -328,6 +346,8 @@ def record_of(sheet: Any) -> SheetRecord:
         references=tuple(b.text for b in texts if b.kind == "reference"),
         notes=tuple(b.text for b in texts if b.kind == "note"),
         caution=sheet.caution or "",
+        inputs_file=str(getattr(sheet, "inputs_file", "") or ""),
+        output_units=units.record() if units is not None and units.asked else {},
     )
 
 
@@ -437,6 +457,8 @@ def _from_dict(data: Any, where: str) -> SheetRecord:
         references=reader.texts(data, "references"),
         notes=reader.texts(data, "notes"),
         caution=reader.text(data, "caution") if "caution" in data else "",
+        inputs_file=reader.text(data, "inputs_file") if "inputs_file" in data else "",
+        output_units=reader.output_units(data),
     )
     # the parts are read first (a part of the wrong kind is named); then the whole is checked
     if version >= SEALED_FROM:
@@ -487,6 +509,20 @@ class _Reader:
         if not _HEX64.match(value):
             raise self.refuse("the fingerprint is not 64 hexadecimal digits", "fingerprint")
         return value
+
+    def output_units(self, data: dict) -> dict:
+        """The units the sheet was asked to show its results in (``{}``: SI, as each step asks)."""
+        value = data.get("output_units", {})
+        results = value.get("results", {}) if isinstance(value, dict) else None
+        if (
+            not isinstance(value, dict)
+            or set(value) - {"system", "results"}
+            or not isinstance(value.get("system", "SI"), str)
+            or not isinstance(results, dict)
+            or not all(isinstance(k, str) and isinstance(v, str) for k, v in results.items())
+        ):
+            raise self.refuse("expected the system and a unit by result", "output_units")
+        return {"system": value.get("system", "SI"), "results": dict(results)} if value else {}
 
     def texts(self, data: dict, key: str) -> tuple[str, ...]:
         value = data.get(key, [])

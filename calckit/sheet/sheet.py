@@ -61,6 +61,7 @@ from calckit.sheet.blocks import (
     TitleBlock,
 )
 from calckit.sheet.checking import acceptance_check, separation_percent
+from calckit.sheet.output_units import OutputUnits, apply_units
 from calckit.sheet.record import SheetRecord, existing_fingerprint, record_of
 from calckit.sheet.values import exact_text, shown_text, si_value
 
@@ -156,6 +157,7 @@ class Sheet:
         self.blocks: list[Any] = []
         self.inputs: dict[str, SheetInput] = {}
         self.results: dict[str, Any] = {}
+        self.units = OutputUnits()  # SI, each result as its step asks; see use_units
         self._show = in_kernel() if show is None else show
 
     # -------------------------------------------------------------- adding
@@ -336,7 +338,7 @@ class Sheet:
                 where=f"step {name}",
                 do="Add the input first, or pass values={...}",
             )
-        record = put_through(symbol or name, expr, needed, unit=unit, sig=sig)
+        record = self.units.restated(name, put_through(symbol or name, expr, needed, unit=unit, sig=sig))
         self._add(CalcStep(name, title, record, reference))
         result = record.quantity if hasattr(record, "quantity") else record.value
         self.results[name] = result
@@ -348,8 +350,25 @@ class Sheet:
         """Record a result computed elsewhere (e.g. an Oscillator property) as a step."""
         _check_name(name, "result name")
         self.results[name] = value
-        self._add(ResultLine(name, title, _symbol_latex(name, symbol), value, reference))
+        shown = self.units.shown_value(name, value)
+        self._add(ResultLine(name, title, _symbol_latex(name, symbol), shown, reference))
         return value
+
+    def use_units(self, system: str | None = None, **results: str) -> OutputUnits:
+        """Show the results in US customary units (``system="US"``) or in a unit chosen for each.
+
+        Steps already on the sheet are shown again in the new units; values keep their
+        SI form in the record. Every value put through one formula is shown in the
+        system of the result's unit (see :mod:`calckit.sheet.output_units`).
+
+        >>> from calckit.core.units import Q_
+        >>> sheet = Sheet("x", show=False)
+        >>> _ = sheet.result("x_max", Q_(0.5, "mm"))
+        >>> _ = sheet.use_units("US")
+        >>> sheet.record()["results"][0]["shown"], sheet.record()["output_units"]
+        ('0.01969 in', {'system': 'US', 'results': {}})
+        """
+        return apply_units(self, OutputUnits.of(system, results))
 
     def derivation(self, derivation: Any, title: str = "Derivation", *, level: str = "full"):
         """Add a derivation (a :class:`~calckit.Derivation` or :class:`~calckit.Response`)."""
@@ -469,18 +488,24 @@ class Sheet:
         """SHA-256 over everything the user provided, the kit version and the template.
 
         Covered: the title block except the date, every input (name, text as given,
-        exact value, unit, description, source), every check's name, limit,
+        exact value, unit, description, source; not the name of the inputs file, which a
+        rename changes and the content does not), every check's name, limit,
         relation and basis, the assumptions, references, notes and the caution.
         Results are not covered: they follow from these. Two sheets with the same
         fingerprint came from the same inputs through the same calculation.
         """
         title = {key: value for key, value in asdict(self.title).items() if key != "date"}
+
+        def _own(source: str) -> str:
+            return "(the inputs file)" if self.inputs_file and source == self.inputs_file else source
+
         payload = {
             "calckit": __version__,
             "template": self.template_digest,
             "title": title,
             "inputs": [
-                [rec.name, rec.text, exact_text(rec.value), rec.si_unit, rec.description, rec.source]
+                # the inputs file's name stands for the file: renamed, the inputs are the same
+                [rec.name, rec.text, exact_text(rec.value), rec.si_unit, rec.description, _own(rec.source)]
                 for rec in self.inputs.values()
             ],
             "checks": [[c.name, c.relation, repr(c.limit), c.unit, c.basis] for c in self.checks],

@@ -122,6 +122,7 @@ def _run_case(
     overwrite: bool,
     sources: dict[str, str] | None = None,
     time_limit: float | None = CASE_TIME_LIMIT_S,
+    units: dict | None = None,
 ) -> CaseResult:
     """Build one case; never raises for a case that fails (runs in a worker)."""
     started = time.monotonic()
@@ -132,6 +133,7 @@ def _run_case(
         options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
         options["sources"] = sources
         options["time_limit"] = time_limit
+        options["units"] = units  # the base inputs file's [units] table
         once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
         with FolderLock(out):  # the case's folder, as a build's: read and checked under the lock
             held = held_fingerprint(out, template.name)
@@ -233,6 +235,7 @@ def run_batch(
     base_values = prepared_values(tmpl, base) if base is not None else dict(tmpl.parameters)
     base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
     base_sources = dict(base.sources) if base is not None else {}
+    units = base.units.payload() if base is not None and base.units.given else None
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
     cases_label = Path(cases).name
@@ -266,6 +269,7 @@ def run_batch(
                 overwrite,
                 sources,
                 time_limit,
+                units,
             )  # fmt: skip
         )
 

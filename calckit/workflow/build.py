@@ -128,11 +128,15 @@ class BuildResult:
         return [p for p in (self.html, self.pdf, self.json, self.notebook) if p is not None]
 
 
-def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -> None:
+def save_built_sheet(
+    sheet: Any, folder: str, stem: str, *, pdf: bool = False, units: Mapping[str, Any] | None = None
+) -> None:
     """Save *sheet* as ``<stem>.json``, ``<stem>.html`` (and ``.pdf``) in *folder*.
 
     The build runs this in the kernel, in the cell tagged ``save-sheet``, after
-    the template's last cell.
+    the template's last cell. *units* is the inputs file's ``[units]`` table
+    (:meth:`calckit.workflow.units_table.UnitsTable.payload`): the sheet shows its
+    results in them (:func:`calckit.sheet.apply_units`).
 
     Raises
     ------
@@ -148,6 +152,10 @@ def save_built_sheet(sheet: Any, folder: str, stem: str, *, pdf: bool = False) -
             where="template",
             do="Build a calckit.Sheet named sheet in the template",
         )
+    if units:
+        from calckit.sheet import OutputUnits, apply_units
+
+        apply_units(sheet, OutputUnits.of(units.get("system"), units.get("results"), units.get("wheres")))
     base = Path(folder) / stem
     sheet.save(base.with_suffix(".json"), overwrite=True)
     sheet.save(base.with_suffix(".html"), overwrite=True)
@@ -275,6 +283,7 @@ async def build_in_kernel(
     started: float,
     sources: Mapping[str, str] | None = None,
     time_limit: float | None = CASE_TIME_LIMIT_S,
+    units: Mapping[str, Any] | None = None,
 ) -> BuildResult:
     """Build one sheet in *kernel* (warmed up), which is reset first; the steps of :func:`build_sheet`.
 
@@ -286,7 +295,8 @@ async def build_in_kernel(
     :func:`held_fingerprint` found in *out* before the kernel ran.
 
     *sources* (input name -> source, from the inputs file) go to the template
-    as ``input_sources``; the built sheet must show each of them.
+    as ``input_sources``; the built sheet must show each of them. *units* (the inputs
+    file's ``[units]`` table, as plain data) go to :func:`save_built_sheet`.
     """
     import copy
 
@@ -312,7 +322,9 @@ async def build_in_kernel(
         saver = nbformat.v4.new_code_cell(
             "# calckit build: save the sheet\n"
             "from calckit.workflow.build import save_built_sheet\n\n"
-            f"save_built_sheet(globals().get('sheet'), {str(work)!r}, {stem!r}, pdf={pdf!r})\n"
+            f"save_built_sheet(globals().get('sheet'), {str(work)!r}, {stem!r}, pdf={pdf!r}"
+            + (f", units={dict(units)!r}" if units else "")
+            + ")\n"
         )
         saver.metadata["tags"] = [SAVE_TAG]
         notebook.cells.append(saver)
@@ -419,7 +431,9 @@ def _read_record(path: Path) -> dict:
 
 def _prepare_build(
     path: Path, inputs: str | os.PathLike, out: Path
-) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str]]:
+) -> tuple[
+    Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str], dict | None
+]:
     """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
     from calckit.workflow.inputs import check_keys, read_inputs
 
@@ -428,7 +442,8 @@ def _prepare_build(
     check_keys(file, tmpl.parameters, path=file.path)
     wheres = {name: file.where(name) for name in tmpl.parameters}
     held = held_fingerprint(out, tmpl.name)
-    return tmpl, prepared_values(tmpl, file), wheres, file.path.name, held, dict(file.sources)
+    units = file.units.payload() if file.units.given else None
+    return tmpl, prepared_values(tmpl, file), wheres, file.path.name, held, dict(file.sources), units
 
 
 async def _build_alone(
@@ -450,12 +465,12 @@ async def _build_alone(
         await asyncio.wait({prepare, warm}, return_when=asyncio.FIRST_EXCEPTION)
         if prepare.done() and prepare.exception() is not None:
             warm.cancel()  # bad inputs: no need to wait for the kernel
-        template, assignments, wheres, label, held, sources = await prepare
+        template, assignments, wheres, label, held, sources, units = await prepare
         await warm
         return await build_in_kernel(
             kernel, template, assignments, wheres, label, out, held,
             pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
-            time_limit=time_limit,
+            time_limit=time_limit, units=units,
         )  # fmt: skip
     finally:
         if not warm.done():

@@ -18,7 +18,12 @@ Help texts are the library's docstrings.
 Exit codes
 ----------
 0
-    Done.
+    Done: every sheet built, and every check on it met.
+3
+    Every sheet built, but a check on one is not met (:data:`CHECKS_NOT_MET`): the sheet
+    is written and says which check and by how much; a review pipeline stops here.
+    ``calckit demo`` exits with it too: the SP-601 demo's separation check is not met
+    on purpose (its inputs file says why), to show what such a sheet looks like.
 2
     Bad input: the message names the file, the key and the line where known; a
     refused overwrite; or a template cell that failed on one of calckit's errors
@@ -56,7 +61,7 @@ from calckit.core.files import write_text
 from calckit.errors import CalcError, CellError, InternalError, OverwriteError
 from calckit.workflow import batch, build, starter
 
-__all__ = ["main", "parser"]
+__all__ = ["CHECKS_NOT_MET", "EXIT_CODES", "main", "parser"]
 
 
 def _summary(func: Callable) -> str:
@@ -113,9 +118,13 @@ def _documented(module: str, name: str) -> Callable | types.SimpleNamespace:
     return getattr(importlib.import_module(module), name)
 
 
+#: The exit code of a command whose sheets were all built but a check on one is not met.
+CHECKS_NOT_MET = 3
+
 #: The exit codes, as the help of every command shows them.
 EXIT_CODES = (
-    "Exit codes: 0 done; 2 bad input, a refused overwrite, or a template cell that failed on one of "
+    "Exit codes: 0 done, every check met; 3 built, but a check is not met (the sheet says which; "
+    "the SP-601 demo has one on purpose); 2 bad input, a refused overwrite, or a template cell that failed on one of "
     "calckit's errors about the input; 1 a template cell that failed on another error, a batch in which "
     "some case failed (the summary is written), or a defect of calckit (an internal error, also one raised "
     "in a template cell: the message carries a line to report); 130 interrupted."
@@ -243,12 +252,22 @@ def _print_build(result: build.BuildResult, heading: str) -> None:
     print(f"  {'fingerprint:':<13}{result.fingerprint[:16]}")
 
 
+def _all_met(record: dict | None) -> bool:
+    """Whether every check of a built sheet's record is met (a sheet without checks: yes)."""
+    summary = (record or {}).get("summary", {})
+    return summary.get("met", 0) == summary.get("checks", 0)
+
+
 def _run_demo(args: argparse.Namespace) -> int:
     built = starter.run_demo(args.out, pdf=args.pdf, overwrite=args.overwrite)
     for demo, result in built:
         _print_build(result, f"Built demo {demo.name} ({demo.template} with {demo.inputs.name})")
     if built:
         print(f"Open {built[0][1].html} in a browser to read the sheet.")
+    short = [demo.name for demo, result in built if not _all_met(result.record)]
+    if short:
+        print(f"Checks not met in {', '.join(short)} (exit code {CHECKS_NOT_MET}); the sheet says which.")
+        return CHECKS_NOT_MET
     return 0
 
 
@@ -262,7 +281,7 @@ def _run_build(args: argparse.Namespace) -> int:
         time_limit=args.time_limit,
     )
     _print_build(result, f"Built {Path(args.template).stem} from {Path(args.inputs).name}")
-    return 0
+    return 0 if _all_met(result.record) else CHECKS_NOT_MET
 
 
 def _run_diff(args: argparse.Namespace) -> int:
@@ -334,7 +353,9 @@ def _run_batch(args: argparse.Namespace) -> int:
     print(f"{batch.counted(len(result.cases), 'case')}: {len(result.cases) - failed} built, {failed} failed")
     print(f"  summary: {result.summary_html}")
     print(f"           {result.summary_csv}")
-    return 1 if failed else 0
+    if failed:
+        return 1
+    return 0 if all(_all_met(case.record) for case in result.cases) else CHECKS_NOT_MET
 
 
 def _run_new(args: argparse.Namespace) -> int:

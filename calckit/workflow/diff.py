@@ -20,6 +20,8 @@ Examples
 >>> new = {"fingerprint": "b", "title_block": {"revision": "B"}, "inputs": [], "results": [
 ...     {"name": "X", "value": 2.5, "unit": "m"}], "checks": []}
 >>> print(diff_records(old, new).text())
+Old: (no calculation number) rev A, fingerprint a
+New: (no calculation number) rev B, fingerprint b
 Title block:
   revision: A -> B
 Results moved (1):
@@ -35,9 +37,16 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from calckit.core.units import Q_, fmt, fmt_number
 from calckit.errors import InputsError
 from calckit.sheet import SheetRecord, existing_fingerprint
+from calckit.workflow.diff_text import (
+    limit_text,
+    number,
+    result_label,
+    sheet_name,
+    shown_pair,
+    text_or_absent,
+)
 
 __all__ = [
     "Change",
@@ -174,6 +183,8 @@ class SheetDiff:
     limits: tuple[Change, ...] = ()
     texts: tuple[TextsChange, ...] = ()
     caution: Change | None = None
+    old_sheet: str = ""
+    new_sheet: str = ""
 
     @property
     def anything(self) -> bool:
@@ -202,7 +213,9 @@ class SheetDiff:
 
     def text(self) -> str:
         """The report as plain text, one item a line."""
-        lines: list[str] = []
+        lines: list[str] = [
+            f"{side}: {name}" for side, name in (("Old", self.old_sheet), ("New", self.new_sheet)) if name
+        ]
         if self.same_fingerprint:
             lines.append("Same inputs, same calculation (the fingerprints are equal).")
         if self.versions:
@@ -242,6 +255,13 @@ class SheetDiff:
             f"<h1>What changed</h1><p>From <code>{escape(self.old)}</code><br>"
             f"to <code>{escape(self.new)}</code></p>"
         ]
+        if self.old_sheet or self.new_sheet:
+            parts.append(
+                table(
+                    ["", "Calculation, revision and fingerprint"],
+                    [["Old", self.old_sheet], ["New", self.new_sheet]],
+                )
+            )
         if self.same_fingerprint:
             parts.append(
                 "<p><strong>Same inputs, same calculation</strong> (the fingerprints are equal).</p>"
@@ -446,11 +466,14 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         if inputs_old.get(name, {}).get("text") != inputs_new.get(name, {}).get("text")
     )
     grouped: dict[tuple[str, str, str], list[str]] = {}  # one line for one change shared by inputs
+    files = (str(old.get("inputs_file") or ""), str(new.get("inputs_file") or ""))
     for key in ("description", "source"):
         for name in inputs_old:
             if name not in inputs_new:
                 continue  # removed: listed with the inputs
             was, now = str(inputs_old[name].get(key) or ""), str(inputs_new[name].get(key) or "")
+            if key == "source" and all(files) and (was, now) == files:
+                continue  # the inputs file renamed: its content is compared input by input, not its name
             if was != now:
                 grouped.setdefault((key, was, now), []).append(name)
     details = [Change(f"{key} of {', '.join(names)}", was, now) for (key, was, now), names in grouped.items()]
@@ -462,14 +485,15 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         if va is None and vb is None:
             ta, tb = (a or {}).get("text"), (b or {}).get("text")
             if ta != tb or (a is None) != (b is None):
-                results.append(ResultMove(name, None, None, "", None, _text_or_absent(a), _text_or_absent(b)))
+                label = result_label(a, b, name)
+                results.append(ResultMove(label, None, None, "", None, text_or_absent(a), text_or_absent(b)))
             continue
         if not _moved(va, vb):
             continue
         percent = (vb - va) / abs(va) * 100 if va not in (None, 0) and vb is not None else None
         unit = (b or {}).get("unit") or (a or {}).get("unit") or ""
-        shown_a, shown_b = _shown_pair(a, b)
-        results.append(ResultMove(name, va, vb, unit, percent, shown_a, shown_b))
+        shown_a, shown_b = shown_pair(a, b)
+        results.append(ResultMove(result_label(a, b, name), va, vb, unit, percent, shown_a, shown_b))
     checks_old, checks_new = _by_name(old.get("checks")), _by_name(new.get("checks"))
     checks = []
     for name in dict.fromkeys([*checks_old, *checks_new]):
@@ -494,9 +518,9 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         if (
             a.get("relation") != b.get("relation")
             or a.get("unit") != b.get("unit")
-            or _moved(_number(a.get("limit")), _number(b.get("limit")))
+            or _moved(number(a.get("limit")), number(b.get("limit")))
         ):
-            limits.append(Change(name, _limit_text(a), _limit_text(b)))
+            limits.append(Change(name, limit_text(a), limit_text(b)))
     texts = []
     for key, heading in (("assumptions", "Assumptions"), ("references", "References"), ("notes", "Notes")):
         was, now = [str(t) for t in old.get(key) or []], [str(t) for t in new.get(key) or []]
@@ -524,59 +548,9 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
         limits=tuple(limits),
         texts=tuple(texts),
         caution=caution,
+        old_sheet=sheet_name(old),
+        new_sheet=sheet_name(new),
     )
-
-
-def _number(value: Any) -> float | None:
-    return float(value) if isinstance(value, int | float) and not isinstance(value, bool) else None
-
-
-def _limit_text(check: dict) -> str:
-    limit = _number(check.get("limit"))
-    unit = str(check.get("unit") or "")
-    unit = {"percent": "%"}.get(unit, unit)
-    number = "?" if limit is None else fmt_number(limit, 4)
-    return f"{check.get('relation', '')} {number}{' ' + unit if unit else ''}".strip()
-
-
-def _text_or_absent(item: dict | None) -> str:
-    if item is None:
-        return "absent"
-    return str(item.get("shown") or item.get("text") or "")
-
-
-#: SI units a sheet shows in another unit: (the unit shown, below what size in SI; None: always).
-_SHOWN_UNITS = {"m": ("mm", 0.1), "rad": ("deg", None), "1/s": ("Hz", None)}
-
-
-def _shown_pair(a: dict | None, b: dict | None) -> tuple[str, str]:
-    """Old and new result as the sheet shows them; both in one unit when the records give no text."""
-    values = [item.get("value") for item in (a, b) if item is not None and item.get("value") is not None]
-    unit = str((b or {}).get("unit") or (a or {}).get("unit") or "")
-    target = None
-    if unit in _SHOWN_UNITS:
-        shown_unit, below = _SHOWN_UNITS[unit]
-        if below is None or all(abs(v) < below for v in values if math.isfinite(v)):
-            target = shown_unit
-    return _shown_one(a, unit, target), _shown_one(b, unit, target)
-
-
-def _shown_one(item: dict | None, unit: str, target: str | None) -> str:
-    if item is None:
-        return "absent"
-    if item.get("shown"):
-        return str(item["shown"])
-    value = item.get("value")
-    if value is None:
-        return str(item.get("text") or "absent")
-    unit = str(item.get("unit") or unit)
-    if not unit:
-        return fmt_number(value, 4)
-    try:
-        quantity = Q_(float(value), unit)
-        return fmt(quantity.to(target) if target else quantity, 4)
-    except Exception:  # a unit text pint does not read: the number and the unit as recorded
-        return f"{fmt_number(value, 4)} {unit}"
 
 
 def diff_sheets(old: str | os.PathLike, new: str | os.PathLike) -> SheetDiff:

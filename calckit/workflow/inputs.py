@@ -21,6 +21,10 @@ are dimensionless::
     checker = "B. Checker"
     date = 2024-05-02            # a TOML date or text
 
+    [units]                      # optional: the units the sheet shows its results in
+    system = "US"                # US customary (lbf, in, s); "SI" is the default
+    x_max = "in"                 # or a unit for one result, by its name on the sheet
+
     [machine]                    # any other table only groups inputs for reading:
     speed = "1480 rpm"           # its keys are inputs like the top-level ones
     unbalance = "120 g*mm"
@@ -68,6 +72,7 @@ from types import MappingProxyType
 from typing import Any
 
 from calckit.errors import InputsError
+from calckit.workflow.units_table import UnitsTable, read_units_table
 
 __all__ = [
     "TITLE_FIELDS",
@@ -126,6 +131,9 @@ class InputsFile:
     sources : Mapping[str, str]
         Where each input written as ``{ value = ..., source = ... }`` comes
         from, by name, in file order; inputs written plainly are not in it.
+    units : UnitsTable
+        The ``[units]`` table: the units the sheet shows its results in
+        (:mod:`calckit.workflow.units_table`).
     """
 
     path: Path
@@ -134,6 +142,7 @@ class InputsFile:
     groups: Mapping[str, str] = field(default_factory=dict)
     text: str = ""
     sources: Mapping[str, str] = field(default_factory=dict)
+    units: UnitsTable = field(default_factory=UnitsTable)
 
     def line_of(self, key: str) -> int | None:
         """Line number (from 1) where *key* is set, best effort; None if not found.
@@ -244,6 +253,7 @@ def read_inputs(path: str | Path) -> InputsFile:
     groups: dict[str, str] = {}
     sources: dict[str, str] = {}
     sheet = TitleBlock()
+    units = UnitsTable()
     text_file = InputsFile(path, {}, text=text)
 
     def add(key: str, value: Any, group: str) -> None:
@@ -269,6 +279,8 @@ def read_inputs(path: str | Path) -> InputsFile:
     for key, value in data.items():
         if key == "sheet" and isinstance(value, dict):
             sheet = _title_block(value, path, text_file)
+        elif key == "units" and isinstance(value, dict) and _find_line(text, "", key) is None:
+            units = read_units_table(value, path, lambda inner: _find_line(text, "units", inner))
         elif isinstance(value, dict) and _find_line(text, "", key) is not None:
             add(key, value, "")  # key = { value = ..., source = ... }: one input, not a group
         elif isinstance(value, dict):
@@ -291,7 +303,13 @@ def read_inputs(path: str | Path) -> InputsFile:
                 do="Give it once, preferably in [sheet]",
             )
     return InputsFile(
-        path, MappingProxyType(values), sheet, MappingProxyType(groups), text, MappingProxyType(sources)
+        path,
+        MappingProxyType(values),
+        sheet,
+        MappingProxyType(groups),
+        text,
+        MappingProxyType(sources),
+        units,
     )
 
 
