@@ -44,7 +44,13 @@ def small_sheet(mass="250 kg", stiffness="180 kN/m", *, date="2026-12-01", figur
         "k", stiffness, description="Four isolators in parallel", source="Isolator data (invented)"
     )
     osc = ck.Oscillator(m, 0, k)
-    sheet.result("omega_n", osc.natural_frequency, title="Natural frequency", symbol=r"\omega_n")
+    sheet.result(
+        "omega_n",
+        osc.natural_frequency,
+        title="Natural frequency",
+        symbol=r"\omega_n",
+        working=("derivation", "omega_n = sqrt(k/m), calckit.Oscillator.natural_frequency"),
+    )
     sheet.derivation(osc.particular(400 * sp.cos(155 * t), t=t), "Steady state under unbalance")
     sheet.check(
         "Static deflection", osc.static_deflection, ck.Q_(25, "mm"), basis="Isolator travel (invented)"
@@ -339,8 +345,8 @@ class TestCarried:
 
     def test_rounded_as_shown(self):
         sheet = Sheet("x", show=False)
-        sheet.result("omega_n", ck.Q_(26.832815729997478, "rad/s"))
-        sheet.result("r", 5.776413)
+        sheet.result("omega_n", ck.Q_(26.832815729997478, "rad/s"), working=("input", "test value"))
+        sheet.result("r", 5.776413, working=("input", "test value"))
         # 26.832815... to 4 significant figures is 26.83; 5.776413 is 5.776 (hand rounding)
         assert sheet.carried("omega_n") == ck.Q_(26.83, "rad/s")
         assert str(sheet.carried("omega_n").units) == "radian / second"
@@ -366,7 +372,7 @@ class TestCarried:
             "carried omega_n: there is no result named 'omega_n' on the sheet (results: none yet). "
             "Carry a result computed earlier with calc() or result(), by its name."
         )
-        sheet.result("r", 1.5)
+        sheet.result("r", 1.5, working=("input", "test value"))
         with pytest.raises(ck.SheetError, match=r"results: r\)"):
             sheet.carried("x")
         for sig in (0, 2.5, True):
