@@ -121,8 +121,9 @@ def test_checks_margin_and_verdict():
     assert deflection.unit == "millimeter"
     assert deflection.margin_percent == pytest.approx((25 - 13.62034722) / 25 * 100, rel=1e-6)
     assert deflection.met
-    # omega_n = sqrt(180000/250) = 26.833 rad/s; 1480 rpm = 154.99 rad/s: 477.6 % apart
-    assert separation.value == pytest.approx((1480 * 2 * 3.141592653589793 / 60 / 26.83281573 - 1) * 100)
+    # omega_n = sqrt(180000/250) = 26.833 rad/s, shown 26.83; 1480 rpm = 154.99 rad/s, shown 155.0: the
+    # separation from the values as shown is 155.0 / 26.83 - 1 = 477.7 % (hand arithmetic)
+    assert separation.value == pytest.approx((155.0 / 26.83 - 1) * 100, rel=1e-12)
     assert sheet.checks_met == 2
 
 
@@ -276,9 +277,10 @@ class TestRefusals:
 
     def test_separation_with_text_and_zero(self):
         sheet = Sheet("x", show=False)
-        # 1480 rpm = 24.667 Hz against 20 Hz: 23.3 % apart (hand arithmetic)
+        # 1480 rpm = 154.99 rad/s, shown 155.0; 20 Hz = 125.66 rad/s, shown 125.7: 23.31 % apart from the
+        # values as shown (hand arithmetic; 23.33 % unrounded)
         assert sheet.separation_check("speed", "1480 rpm", "20 Hz").value == pytest.approx(
-            100 * (1480 / 1200 - 1)
+            100 * (155.0 / 125.7 - 1), rel=1e-12
         )
         with pytest.raises(ck.SheetError) as info:
             sheet.separation_check("speed", "1480 rpm", 0)

@@ -297,7 +297,12 @@ class TestWorking:
     def test_every_result_carries_its_working(self):
         """The written record gives each result a kind of working and its text, and the seal covers them."""
         data = json.loads(small_sheet(figure=False).to_json())
-        assert [r["working"]["kind"] for r in data["results"]] == ["derivation"]
+        kinds = {r["name"]: r["working"]["kind"] for r in data["results"]}
+        assert kinds == {
+            "omega_n": "derivation",
+            "omega_rad_s": "formula",  # 1480 rpm in rad/s, a step of its own
+            "running_speed_vs_natural_frequency": "formula",  # the separation, a step of its own
+        }
         assert all(c["utilisation"] is not None for c in data["checks"])
         data["results"][0]["working"]["text"] = "made up"
         with pytest.raises(ck.SheetError, match="its seal does not match its content"):

@@ -124,7 +124,9 @@ def _functions(exprs: Sequence[sp.Expr], t: sp.Symbol, label: str):
                 where="independent check",
                 do="Substitute numbers for every symbol but t before the check",
             )
-        f = sp.lambdify(t, expr, modules=["numpy"])
+        # exact numbers (rationals, sqrt(39), pi) as floats first: numpy has no sqrt of a Python int
+        numbers = expr.replace(lambda e: e.is_number and e.is_real and not e.is_Float, lambda e: sp.Float(e, 17))
+        f = sp.lambdify(t, numbers, modules=["numpy"])
         out.append(lambda tt, f=f: np.broadcast_to(np.asarray(f(tt), dtype=float), np.shape(tt)))
     return out
 

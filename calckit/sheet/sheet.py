@@ -32,14 +32,18 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import re
 from collections.abc import Callable, Mapping
 from dataclasses import asdict
 from pathlib import Path
 from typing import Any
 
+import sympy as sp
+
 from calckit._version import __version__
 from calckit.core.checks import positive
 from calckit.core.files import free_name, write_file
+from calckit.core.rounding import as_shown
 from calckit.core.units import fmt, quantity
 from calckit.errors import OverwriteError, SheetError
 from calckit.physics.criteria import SEPARATION_BAND, SEPARATION_BASIS
@@ -57,7 +61,7 @@ from calckit.sheet.checking import acceptance_check, separation_percent
 from calckit.sheet.record import SheetRecord, existing_fingerprint, record_of
 from calckit.sheet.steps import Steps
 from calckit.sheet.values import check_name, exact_text, figure_svg, shown_text, si_value, symbol_latex
-from calckit.sheet.working import rounding_policy
+from calckit.sheet.working import conversion_formula, rounding_policy
 
 __all__ = ["Sheet", "in_kernel"]
 
@@ -291,10 +295,35 @@ class Sheet(Steps):
     ) -> Check:
         """Check that an operating frequency is at least ``band`` away from a natural frequency.
 
-        The value is ``|f_op / f_n - 1|`` (as a percentage), the limit ``band``.
+        The value is ``|omega / omega_n - 1|`` (as a percentage), the limit ``band``. The
+        separation is a numbered step of its own, from the two frequencies as shown (a speed
+        in rpm converted to rad/s first), so the percentage in the checks table can be redone
+        by hand.
         """
-        separation = separation_percent(name, operating, natural)
-        return self.check(name, separation, band * 100, relation=">=", basis=basis, unit="percent")
+        separation_percent(
+            name, operating, natural
+        )  # refuses what has no separation (a natural frequency of 0)
+        from calckit.core.units import Q_
+
+        def as_value(given):
+            if isinstance(given, str) or hasattr(given, "units"):
+                q = quantity(given, f"check {name}")
+                return q if conversion_formula(q) is not None else as_shown(q, self.sig)
+            return Q_(as_shown(float(given), self.sig), "rad/s")  # a bare number is in rad/s
+
+        step = re.sub(r"\W+", "_", name.strip()).strip("_").lower() or "separation"
+        step = step if step[0].isalpha() else f"s_{step}"
+        while step in self.results:
+            step += "_"
+        value = self.calc(
+            step,
+            sp.Abs(sp.Symbol("omega") / sp.Symbol("omega_n") - 1),
+            {"omega": as_value(operating), "omega_n": as_value(natural)},
+            symbol="Delta", unit="percent",
+            title=f"Separation of the operating frequency from the natural frequency ({name})",
+        )  # fmt: skip
+        percent = float(value.to("percent").magnitude) if hasattr(value, "units") else float(value) * 100
+        return self.check(name, percent, band * 100, relation=">=", basis=basis, unit="percent")
 
     def figure(self, fig: Any, caption: str) -> Figure:
         """Add a matplotlib figure, embedded as inline SVG (text as paths, no date)."""
