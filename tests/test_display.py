@@ -183,7 +183,7 @@ class TestStepsAlone:
         """A sentence without a final full stop gets one."""
         der = Oscillator(1, 1, 1).particular(sp.cos(T), t=T)
         step = der.steps_of("solved-coefficients")[0]
-        assert display.step_text(step).splitlines()[1].endswith("two unknowns at a time.")
+        assert display.step_text(step).splitlines()[1].endswith("solved for the two unknowns.")
 
 
 class TestJupyter:

@@ -105,7 +105,8 @@ class TestIsolatorResultsCarried:
         """carry=4: each step takes the earlier results at four significant figures in the units a sheet
         shows them (um, g mm, N, rad/s, N s/m), the chain written out here step by step."""
         got = isolator_results(**P101)
-        m, k, w = P101["machine_mass"], P101["isolator_stiffness"], P101["running_speed"]
+        m, k = P101["machine_mass"], P101["isolator_stiffness"]
+        w = sig4(P101["running_speed"])  # the speed converted to rad/s in its own step, carried as shown
         e_um = 6.3 / w * 1000  # mm/s / (rad/s) = mm; in um
         u_gmm = 140.0 * sig4(e_um)
         f0 = sig4(u_gmm) * 1e-6 * w * w

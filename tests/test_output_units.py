@@ -72,7 +72,7 @@ def _pump_sheet(**units) -> ck.Sheet:
     sheet.calc("omega_n", "sqrt(k/W_m)", unit="rad/s", title="Natural frequency")
     sheet.calc("X_st", "F_0/k", unit="mm", title="Static deflection under F0")
     sheet.calc("c", "2*zeta*sqrt(k*W_m)", title="Damping coefficient")
-    sheet.result("delta", Q_(2.5, "mm"), title="Measured settlement")
+    sheet.result("delta", Q_(2.5, "mm"), title="Measured settlement", working=("input", "measured on site"))
     if units:
         sheet.use_units(**units)
     return sheet

@@ -44,7 +44,13 @@ def small_sheet(mass="250 kg", stiffness="180 kN/m", *, date="2026-12-01", figur
         "k", stiffness, description="Four isolators in parallel", source="Isolator data (invented)"
     )
     osc = ck.Oscillator(m, 0, k)
-    sheet.result("omega_n", osc.natural_frequency, title="Natural frequency", symbol=r"\omega_n")
+    sheet.result(
+        "omega_n",
+        osc.natural_frequency,
+        title="Natural frequency",
+        symbol=r"\omega_n",
+        working=("derivation", "omega_n = sqrt(k/m), calckit.Oscillator.natural_frequency"),
+    )
     sheet.derivation(osc.particular(400 * sp.cos(155 * t), t=t), "Steady state under unbalance")
     sheet.check(
         "Static deflection", osc.static_deflection, ck.Q_(25, "mm"), basis="Isolator travel (invented)"
@@ -115,8 +121,9 @@ def test_checks_margin_and_verdict():
     assert deflection.unit == "millimeter"
     assert deflection.margin_percent == pytest.approx((25 - 13.62034722) / 25 * 100, rel=1e-6)
     assert deflection.met
-    # omega_n = sqrt(180000/250) = 26.833 rad/s; 1480 rpm = 154.99 rad/s: 477.6 % apart
-    assert separation.value == pytest.approx((1480 * 2 * 3.141592653589793 / 60 / 26.83281573 - 1) * 100)
+    # omega_n = sqrt(180000/250) = 26.833 rad/s, shown 26.83; 1480 rpm = 154.99 rad/s, shown 155.0: the
+    # separation from the values as shown is 155.0 / 26.83 - 1 = 477.7 % (hand arithmetic)
+    assert separation.value == pytest.approx((155.0 / 26.83 - 1) * 100, rel=1e-12)
     assert sheet.checks_met == 2
 
 
@@ -270,9 +277,10 @@ class TestRefusals:
 
     def test_separation_with_text_and_zero(self):
         sheet = Sheet("x", show=False)
-        # 1480 rpm = 24.667 Hz against 20 Hz: 23.3 % apart (hand arithmetic)
+        # 1480 rpm = 154.99 rad/s, shown 155.0; 20 Hz = 125.66 rad/s, shown 125.7: 23.31 % apart from the
+        # values as shown (hand arithmetic; 23.33 % unrounded)
         assert sheet.separation_check("speed", "1480 rpm", "20 Hz").value == pytest.approx(
-            100 * (1480 / 1200 - 1)
+            100 * (155.0 / 125.7 - 1), rel=1e-12
         )
         with pytest.raises(ck.SheetError) as info:
             sheet.separation_check("speed", "1480 rpm", 0)
@@ -339,8 +347,8 @@ class TestCarried:
 
     def test_rounded_as_shown(self):
         sheet = Sheet("x", show=False)
-        sheet.result("omega_n", ck.Q_(26.832815729997478, "rad/s"))
-        sheet.result("r", 5.776413)
+        sheet.result("omega_n", ck.Q_(26.832815729997478, "rad/s"), working=("input", "test value"))
+        sheet.result("r", 5.776413, working=("input", "test value"))
         # 26.832815... to 4 significant figures is 26.83; 5.776413 is 5.776 (hand rounding)
         assert sheet.carried("omega_n") == ck.Q_(26.83, "rad/s")
         assert str(sheet.carried("omega_n").units) == "radian / second"
@@ -366,7 +374,7 @@ class TestCarried:
             "carried omega_n: there is no result named 'omega_n' on the sheet (results: none yet). "
             "Carry a result computed earlier with calc() or result(), by its name."
         )
-        sheet.result("r", 1.5)
+        sheet.result("r", 1.5, working=("input", "test value"))
         with pytest.raises(ck.SheetError, match=r"results: r\)"):
             sheet.carried("x")
         for sig in (0, 2.5, True):

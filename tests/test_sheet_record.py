@@ -33,7 +33,7 @@ class TestRecord:
     def test_typed_attributes(self):
         """The attributes the diff and the batch summary read, typed, with the values the sheet holds."""
         record = ck.read_record(small_sheet(figure=False).to_json())
-        assert record.record_version == ck.RECORD_VERSION == 2  # 2: sealed
+        assert record.record_version == ck.RECORD_VERSION == 3  # 2: sealed; 3: results with their working
         assert record.calckit_version == ck.__version__
         assert record.fingerprint == small_sheet(figure=False).fingerprint
         assert record.title_block.subject == "Pump P-101 on spring isolators"
@@ -244,7 +244,7 @@ class TestSeal:
     def test_written_records_are_sealed(self):
         """Sheet.record() and its JSON carry a seal over everything else the record holds."""
         data = json.loads(small_sheet().to_json())
-        assert data["record_version"] == 2
+        assert data["record_version"] == 3
         assert len(data["seal"]) == 64
         assert ck.read_record(json.dumps(data)).fingerprint == data["fingerprint"]
 
@@ -289,3 +289,51 @@ class TestSeal:
         (folder / "sheet.json").write_text(json.dumps(data), encoding="utf-8")
         with pytest.raises(ck.SheetError, match="changed after it was built"):
             load_built_record(folder)
+
+
+class TestWorking:
+    """Record version 3: every result carries its working; versions 1 and 2 are still read."""
+
+    def test_every_result_carries_its_working(self):
+        """The written record gives each result a kind of working and its text, and the seal covers them."""
+        data = json.loads(small_sheet(figure=False).to_json())
+        kinds = {r["name"]: r["working"]["kind"] for r in data["results"]}
+        assert kinds == {
+            "omega_n": "derivation",
+            "omega_rad_s": "formula",  # 1480 rpm in rad/s, a step of its own
+            "running_speed_vs_natural_frequency": "formula",  # the separation, a step of its own
+        }
+        assert all(c["utilisation"] is not None for c in data["checks"])
+        data["results"][0]["working"]["text"] = "made up"
+        with pytest.raises(ck.SheetError, match="its seal does not match its content"):
+            ck.read_record(json.dumps(data))
+
+    def test_version_3_result_without_working_refused(self):
+        """A version-3 record whose result lost its working (seal rewritten) is refused, naming the result."""
+        from calckit.sheet.record import seal_of
+
+        data = json.loads(GOLDEN.read_text())
+        del data["results"][0]["working"]
+        data["seal"] = seal_of(data)
+        with pytest.raises(ck.SheetError) as info:
+            ck.read_record(json.dumps(data), where="x.json")
+        assert str(info.value).startswith(
+            "x.json, results[0]: the result 'omega_n' has no working of a known kind "
+            "(formula, derivation, input, table, procedure)."
+        )
+
+    def test_version_2_record_without_working_read(self):
+        """A version-2 record (sealed, results without working, checks without utilisation) still reads."""
+        from calckit.sheet.record import seal_of
+
+        data = json.loads(GOLDEN.read_text())
+        data["record_version"] = 2
+        for item in data["results"]:
+            item.pop("working")
+        for item in data["checks"]:
+            item.pop("utilisation")
+        data["seal"] = seal_of(data)
+        old = ck.read_record(json.dumps(data))
+        assert (
+            old.record_version == 2 and old.results[0].working is None and old.checks[0].utilisation is None
+        )

@@ -10,6 +10,7 @@ equations to this layer.
 """
 
 from calckit.engine.algebra import LAMBDA, is_zero, plain, real_imag, tidy
+from calckit.engine.crosscheck import PeakComparison, compare_peak
 from calckit.engine.derivation import Derivation, LinearOperator, ScalarOperator
 from calckit.engine.forcing import ExponentGroup, ForcingSplit, ForcingTerm, resolve_time, split_forcing
 from calckit.engine.method import GroupSolution, Strategy, derive, particular_step
@@ -38,6 +39,7 @@ __all__ = [
     "FrequencyResponse",
     "GroupSolution",
     "LinearODE",
+    "PeakComparison",
     "LinearOperator",
     "Response",
     "ScalarOperator",
@@ -46,6 +48,7 @@ __all__ = [
     "VectorForcing",
     "VectorGroup",
     "VectorStrategy",
+    "compare_peak",
     "compile_expr",
     "derive",
     "float_matrix",

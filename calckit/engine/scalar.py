@@ -262,9 +262,7 @@ def _solve_group(ode, group: ExponentGroup, gi: int, many: bool, pair: tuple[str
     steps.append(
         SolvedCoefficientsStep(
             prefix + "solved coefficients" if many else "Solved coefficients",
-            "The equations are solved from the highest power of t down, two unknowns at a time."
-            if group.harmonic
-            else "The equations are solved from the highest power of t down, one unknown at a time.",
+            _solved_sentence(group.harmonic, d),
             gi,
             tuple((u, values[u]) for u in unknowns),
             tuple(conds),
@@ -391,3 +389,15 @@ def _make_unknowns(group: ExponentGroup, index: int, many: bool, pair: tuple[str
     cos_unknowns = tuple(sp.Symbol(name(cos_name, i)) for i in range(d + 1))
     sin_unknowns = tuple(sp.Symbol(name(sin_name, i)) for i in range(d + 1)) if group.harmonic else ()
     return cos_unknowns, sin_unknowns
+
+
+def _solved_sentence(harmonic: bool, degree: int) -> str:
+    """How the coefficient equations are solved, in one sentence: by powers of t only when there are some."""
+    if degree == 0:
+        return (
+            "The two equations are solved for the two unknowns."
+            if harmonic
+            else "The equation is solved for the unknown."
+        )
+    per = "two unknowns" if harmonic else "one unknown"
+    return f"The equations are solved from the highest power of t down, {per} at a time."

@@ -124,7 +124,9 @@ def isolator_results(
     >>> round(got.omega_n, 4), round(got.eta, 4)
     (19.7279, 0.9791)
     """
-    m, k, zeta, w = machine_mass, isolator_stiffness, damping_ratio, running_speed
+    m, k, zeta = machine_mass, isolator_stiffness, damping_ratio
+    # the sheet converts the speed to rad/s in a step of its own and carries it as shown
+    w = as_shown(running_speed, carry)
     e_um = float(eccentricity_from_grade(balance_grade, w)) * 1e6  # e_per = G / Omega
     u_gmm = float(residual_unbalance(rotor_mass, as_shown(e_um, carry)))  # kg um = g mm
     f0 = float(unbalance_force(as_shown(u_gmm, carry) * 1e-6, w))  # F_0 = U Omega^2

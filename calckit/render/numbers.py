@@ -42,7 +42,7 @@ from calckit.core.units import KINDS, Q_, angular_frequency, fmt_number, kind_of
 from calckit.errors import InputsError, UnitsError
 from calckit.render.latex import EQ, Row, Tex, expr_latex, expr_text, symbol_latex
 
-__all__ = ["Substitution", "put_through", "round_sig", "number_latex", "unit_latex"]
+__all__ = ["Substitution", "put_through", "round_sig", "number_latex", "shown_magnitude", "unit_latex"]
 
 
 def round_sig(value, sig: int = 4) -> Decimal:
@@ -151,6 +151,15 @@ def _quantity_pieces(q: pint.Quantity, sig: int = 4) -> tuple[str, str]:
     if not unit:
         return number_latex(number), number
     return rf"{number_latex(number)}\;{unit_latex(unit)}", f"{number} {unit}"
+
+
+def shown_magnitude(q: pint.Quantity, sig: int = 4) -> float:
+    """The magnitude of *q* as a substitution shows it (as typed, or at ``sig`` figures), for redoing it by hand.
+
+    >>> shown_magnitude(Q_(40.6490327626598, "um")), shown_magnitude(Q_(1480, "rpm"))
+    (40.65, 1480.0)
+    """
+    return float(_quantity_pieces(q, sig)[1].split(" ")[0])
 
 
 class _Value(sp.Symbol):

@@ -19,6 +19,7 @@ __all__ = [
     "DEFAULT_CAUTION",
     "DerivationBlock",
     "Figure",
+    "IndependentCheck",
     "RELATIONS",
     "ResultLine",
     "SheetInput",
@@ -76,6 +77,13 @@ class CalcStep:
     record: Any  # calckit.render.numbers.Substitution
     reference: str
 
+    @property
+    def working(self):
+        """A formula with the values and units put through it: the step's own line of text."""
+        from calckit.sheet.working import Working
+
+        return Working("formula", str(self.record))
+
 
 @dataclass(frozen=True)
 class ResultLine:
@@ -86,6 +94,7 @@ class ResultLine:
     symbol: str
     value: Any
     reference: str
+    working: Any = None  # calckit.sheet.working.Working: how the value was obtained
 
 
 @dataclass(frozen=True)
@@ -124,8 +133,33 @@ class Check:
 
     @property
     def margin_text(self) -> str:
-        """The margin as shown: ``+58.8 %`` of the limit, or ``+665.6 points`` for a percentage."""
-        return f"{self.margin_percent:+.1f} {'points' if self.unit == 'percent' else '%'}"
+        """The margin as shown: ``+58.8 %`` of the limit, or ``+665.6 points`` for a percentage.
+
+        A margin smaller than 0.05 is shown to two significant figures (``-0.008 %``), so
+        that a check not met never shows a margin of ``-0.0``.
+        """
+        m = self.margin_percent
+        text = f"{m:+.1f}" if m == 0 or abs(m) >= 0.05 else f"{m:+.2g}"
+        return f"{text} {'points' if self.unit == 'percent' else '%'}"
+
+    @property
+    def utilisation(self) -> float:
+        """Demand over capacity, at most 1 when met: ``value / limit`` for ``<=``, ``limit / value`` for ``>=``."""
+        if self.relation in ("<=", "<"):
+            return self.value / self.limit
+        return self.limit / self.value if self.value else float("inf")
+
+    @property
+    def utilisation_text(self) -> str:
+        """The utilisation as shown, to three decimals (``0.812``), enough digits to decide it against 1."""
+        u = self.utilisation
+        if u != u or u in (float("inf"), float("-inf")):
+            return "not defined"
+        for places in range(3, 13):
+            text = f"{u:.{places}f}"
+            if (float(text) <= 1) == (u <= 1) and (float(text) != 1 or u == 1):
+                return text
+        return f"{u:.12f}"
 
 
 def check_margin(value: float, limit: float, relation: str, unit: str) -> float:
@@ -137,6 +171,39 @@ def check_margin(value: float, limit: float, relation: str, unit: str) -> float:
     """
     gap = (limit - value) if relation in ("<=", "<") else (value - limit)
     return gap if unit == "percent" else gap / abs(limit) * 100
+
+
+@dataclass(frozen=True)
+class IndependentCheck:
+    """A derived response's peak beside a numerical integration of the same equation (a numbered step).
+
+    ``comparison`` is a :class:`calckit.engine.crosscheck.PeakComparison`; the two peaks
+    are shown in ``unit``; the verdict is a :class:`Check` on the sheet as well.
+    """
+
+    name: str
+    title: str
+    symbol: str  # LaTeX of the coordinate, e.g. x
+    unit: str
+    derived_shown: str
+    integrated_shown: str
+    comparison: Any
+
+    @property
+    def agrees(self) -> bool:
+        """Whether the peaks agree within the tolerance."""
+        return self.comparison.agrees
+
+    @property
+    def line(self) -> str:
+        """The check in one line of text."""
+        c = self.comparison
+        verdict = "agree" if c.agrees else "DISAGREE"
+        return (
+            f"largest |{self.name}| derived {self.derived_shown}, by numerical integration "
+            f"{self.integrated_shown}: relative difference {c.agreement:.2g}, tolerance {c.tolerance:g}; the two "
+            f"routes {verdict}"
+        )
 
 
 @dataclass(frozen=True)

@@ -15,22 +15,36 @@ from typing import Any
 
 import sympy as sp
 
+from calckit.core.rounding import as_shown
 from calckit.core.units import Q_, angular_frequency, fmt, quantity
 from calckit.errors import SheetError, UnitsError
 from calckit.physics.criteria import DEFAULT_SEPARATION_REFERENCE, speed_separation
 from calckit.sheet.blocks import RELATIONS, Check, check_margin
 from calckit.sheet.values import shown_text
 
-__all__ = ["acceptance_check", "require_real", "same_unit", "separation_percent"]
+__all__ = ["acceptance_check", "deciding_figures", "holds", "require_real", "same_unit", "separation_percent"]
 
 
 def acceptance_check(
-    name: str, value: Any, limit: Any, *, relation: str = "<=", basis: str = "", unit: str | None = None
+    name: str,
+    value: Any,
+    limit: Any,
+    *,
+    relation: str = "<=",
+    basis: str = "",
+    unit: str | None = None,
+    sig: int = 4,
 ) -> Check:
     """The check ``value relation limit`` as a record, with its margin and verdict.
 
     Value and limit may be numbers, quantities or text with a unit ("0.1 mm");
     ``unit`` is the unit they are compared in (by default the limit's).
+
+    The verdict agrees with the figures printed: value and limit equal to within the
+    rounding of floating point (``math.isclose``, relative ``1e-12``) are equal, so
+    ``20 % >= 20 %`` is met; and when value and limit shown to ``sig`` figures would
+    read the other way (``0.05 mm <= 0.05 mm`` for 0.050004 mm, not met), both are
+    shown with the digits that decide (:func:`deciding_figures`).
 
     Raises
     ------
@@ -66,14 +80,44 @@ def acceptance_check(
             where=f"check {name}",
             do="Give a non-zero limit",
         )
-    margin = check_margin(v, lim, relation, unit_text)
-    if relation in ("<=", "<"):
-        met = v <= lim if relation == "<=" else v < lim
-    else:
-        met = v >= lim if relation == ">=" else v > lim
-    shown_v = shown_text(Q_(v, unit_text) if unit_text else v)
-    shown_l = shown_text(Q_(lim, unit_text) if unit_text else lim)
+    met = holds(v, lim, relation)
+    margin = 0.0 if _same(v, lim) else check_margin(v, lim, relation, unit_text)
+    digits = deciding_figures(v, lim, relation, sig)
+    shown_v = shown_text(Q_(v, unit_text) if unit_text else v, digits)
+    shown_l = shown_text(Q_(lim, unit_text) if unit_text else lim, digits)
     return Check(name, v, lim, relation, unit_text, margin, bool(met), basis, shown_v, shown_l)
+
+
+def _same(a: float, b: float) -> bool:
+    return math.isclose(a, b, rel_tol=1e-12, abs_tol=0.0)
+
+
+def holds(value: float, limit: float, relation: str) -> bool:
+    """Whether ``value relation limit`` holds, with values equal to the rounding of floating point taken as equal.
+
+    >>> holds(0.19999999999999996 * 100, 20.0, ">=")    # |120/100 - 1| in percent
+    True
+    >>> holds(0.050004, 0.05, "<=")
+    False
+    """
+    if _same(value, limit):
+        return relation in ("<=", ">=")
+    if relation in ("<=", "<"):
+        return value < limit
+    return value > limit
+
+
+def deciding_figures(value: float, limit: float, relation: str, sig: int = 4) -> int:
+    """The significant figures at which value and limit, as printed, read with the verdict (at least *sig*).
+
+    >>> deciding_figures(0.08, 0.1, "<="), deciding_figures(0.050004, 0.05, "<=")
+    (4, 5)
+    """
+    met = holds(value, limit, relation)
+    for digits in range(sig, 16):
+        if holds(as_shown(value, digits), as_shown(limit, digits), relation) == met:
+            return digits
+    return 15
 
 
 def separation_percent(

@@ -24,6 +24,7 @@ from calckit.sheet.blocks import (
     Check,
     DerivationBlock,
     Figure,
+    IndependentCheck,
     ResultLine,
     SheetInput,
     TableBlock,
@@ -76,6 +77,7 @@ def _check_rows(checks: list[Check]) -> list[list[Any]]:
                 check.shown_value,
                 check.shown_limit,
                 check.margin_text,
+                check.utilisation_text,
                 verdict,
                 check.basis or "not given",
             ]
@@ -83,8 +85,12 @@ def _check_rows(checks: list[Check]) -> list[list[Any]]:
     return rows
 
 
-def _step_html(number: str, title: str, latex: str, reference: str) -> Html:
-    ref = f'<p class="step-ref">Reference: {escape(reference)}</p>' if reference else ""
+def _step_html(
+    number: str, title: str, latex: str, reference: str, working: Any = None, extra: str = ""
+) -> Html:
+    ref = extra + (f'<p class="step-ref">Reference: {escape(reference)}</p>' if reference else "")
+    if working is not None:
+        ref = f'<p class="step-working"><em>{escape(working.label)}:</em> {escape(working.text)}</p>' + ref
     heading = (
         f'<h3><span class="number">{escape(number)}</span> {escape(title)}</h3>'
         if title
@@ -106,7 +112,21 @@ def block_html(block: Any, number: str = "") -> Html:
     if isinstance(block, ResultLine):
         value = block.value
         latex = f"{block.symbol} = {_value_latex(value)}"
-        return _step_html(number, block.title or block.name, latex, block.reference)
+        return _step_html(number, block.title or block.name, latex, block.reference, block.working)
+    if isinstance(block, IndependentCheck):
+        c = block.comparison
+        latex = (
+            rf"\max_t |{block.symbol}(t)| = {_shown_latex(block.derived_shown)}\ \text{{(derived)}},\quad "
+            rf"{_shown_latex(block.integrated_shown)}\ \text{{(integrated)}}"
+        )
+        verdict = "agree" if c.agrees else "DISAGREE"
+        text = (
+            f'<p class="step-working"><em>Procedure:</em> {escape(c.procedure)}. Relative difference '
+            f"{c.agreement:.2g}, tolerance {c.tolerance:g}: the two routes "
+            f'<span class="verdict {"verdict-met" if c.agrees else "verdict-not-met"}">{verdict}</span>.</p>'
+        )
+        title = f"Independent check: {block.title or block.name}"
+        return _step_html(number, title, latex, "", extra=text)
     if isinstance(block, DerivationBlock):
         from calckit.render.display import derivation_html
 
@@ -131,7 +151,7 @@ def block_html(block: Any, number: str = "") -> Html:
         return Html(f'<div class="table-block">{caption}{table(block.headers, block.rows)}</div>')
     if isinstance(block, Check):
         return table(
-            ["Check", "Criterion", "Value", "Limit", "Margin", "Verdict", "Basis"],
+            ["Check", "Criterion", "Value", "Limit", "Margin", "Utilisation", "Verdict", "Basis"],
             _check_rows([block]),
             cls="checks",
         )
@@ -150,6 +170,14 @@ def _value_latex(value: Any) -> str:
         number, _, unit = shown_text(value).partition(" ")
         return number_latex(number) + (r"\;" + unit_latex(unit) if unit else "")
     return sp.latex(value)
+
+
+def _shown_latex(text: str) -> str:
+    """LaTeX of a value as shown (``"1.234 mm"``): the number, and the unit upright."""
+    from calckit.render.numbers import number_latex, unit_latex
+
+    number, _, unit = text.partition(" ")
+    return number_latex(number) + (r"\;" + unit_latex(unit) if unit else "")
 
 
 def _input_rows_single(rec: SheetInput) -> list[Any]:
@@ -179,7 +207,11 @@ def _summary(sheet: Any) -> Html:
     if not n:
         text = "No acceptance checks on this sheet."
     elif met == n:
-        text = f"Acceptance checks: all {n} met."
+        text = (
+            "Acceptance check: met."
+            if n == 1
+            else f"Acceptance checks: {'both' if n == 2 else f'all {n}'} met."
+        )
     else:
         text = f"Acceptance checks: {met} of {n} met; {n - met} NOT MET (see section on checks)."
     return Html(f'<p class="summary">{escape(text)}</p>')
@@ -225,7 +257,9 @@ def _body(sheet: Any) -> Html:
             "Assumptions", "<ol>" + "".join(f"<li>{escape(b.text)}</li>" for b in assumptions) + "</ol>"
         )
     calc_blocks = [
-        b for b in sheet.blocks if isinstance(b, (CalcStep, ResultLine, DerivationBlock, Figure, TableBlock))
+        b
+        for b in sheet.blocks
+        if isinstance(b, (CalcStep, ResultLine, DerivationBlock, IndependentCheck, Figure, TableBlock))
     ]
     if calc_blocks:
         section_number = n + 1
@@ -245,14 +279,15 @@ def _body(sheet: Any) -> Html:
         next_section(
             "Acceptance checks",
             table(
-                ["Check", "Criterion", "Value", "Limit", "Margin", "Verdict", "Basis"],
+                ["Check", "Criterion", "Value", "Limit", "Margin", "Utilisation", "Verdict", "Basis"],
                 _check_rows(sheet.checks),
                 cls="checks",
             )
             + Html(
                 '<p class="note">Margin: the distance from the value to the limit, in percent of the '
                 "limit (in percentage points where the value is itself a percentage); positive when "
-                "the criterion is met.</p>"
+                "the criterion is met. Utilisation: demand over capacity, the value over the limit for "
+                "an upper limit and the limit over the value for a least value; at most 1 when met.</p>"
             ),
         )
     references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
@@ -309,8 +344,9 @@ def show_block(sheet: Any, block: Any) -> None:
     from IPython.display import HTML, display
 
     number = ""
-    if isinstance(block, (CalcStep, ResultLine, DerivationBlock)):
-        number = str(sum(isinstance(b, (CalcStep, ResultLine, DerivationBlock)) for b in sheet.blocks))
+    numbered = (CalcStep, ResultLine, DerivationBlock, IndependentCheck)
+    if isinstance(block, numbered):
+        number = str(sum(isinstance(b, numbered) for b in sheet.blocks))
     elif isinstance(block, Figure):
         number = str(len(sheet.of_type(Figure)))
     elif isinstance(block, TableBlock):

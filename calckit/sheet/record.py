@@ -11,8 +11,8 @@ field.
 
 Versions
 --------
-``record_version`` is :data:`RECORD_VERSION` (2, sealed) for records written by this
-calckit. A record without it was written before the field existed: it is read as
+``record_version`` is :data:`RECORD_VERSION` (3: sealed, every result with its
+working) for records written by this calckit; versions 1 and 2 are still read. A record without it was written before the field existed: it is read as
 version 0 when it holds what a record needs, and refused (saying what is missing)
 when it does not. A record of a newer version than this calckit knows is refused.
 
@@ -23,7 +23,7 @@ Examples
 >>> _ = sheet.input("m", "250 kg", description="Pump and base mass", source="Vendor drawing")
 >>> record = read_record(sheet.to_json())
 >>> record.record_version, record.inputs[0].name, record.inputs[0].value, record.inputs[0].unit
-(1, 'm', 250.0, 'kg')
+(3, 'm', 250.0, 'kg')
 """
 
 from __future__ import annotations
@@ -55,11 +55,19 @@ __all__ = [
     "seal_of",
 ]
 
-RECORD_VERSION = 2
+RECORD_VERSION = 3
 """The version of the record this calckit writes, and the newest it reads.
 
 1: the typed record. 2: sealed (``seal``, a SHA-256 over the whole record, results included).
+3: every result carries its ``working`` (``{"kind": ..., "text": ...}``, the kinds of
+:data:`calckit.sheet.working.WORKING_KINDS`), and every check its ``utilisation``.
 """
+
+WORKING_FROM = 3
+"""The first record version in which every result carries its working."""
+
+WORKING_KINDS = ("formula", "derivation", "input", "table", "procedure")
+"""The kinds of working a record holds (the sheet's :data:`calckit.sheet.working.WORKING_KINDS`)."""
 
 SEALED_FROM = 2
 """The first record version that carries a seal; a record of this version or later without one is refused."""
@@ -102,6 +110,8 @@ class RecordResult:
 
     ``text`` is the result's text when it has no number (e.g. a symbolic expression), else ``None``;
     ``label`` the title its step has on the sheet (``None``: the step has none).
+    ``working`` is how it was obtained, ``{"kind": ..., "text": ...}`` (``None`` in records
+    older than version 3).
     """
 
     name: str
@@ -110,6 +120,7 @@ class RecordResult:
     shown: str
     text: str | None = None
     label: str | None = None
+    working: dict | None = None
 
 
 @dataclass(frozen=True)
@@ -135,6 +146,9 @@ class RecordCheck:
         ``"met"`` or ``"not met"``.
     basis : str
         Where the criterion comes from.
+    utilisation : float or None
+        Demand over capacity (``value / limit`` for ``<=``, ``limit / value`` for ``>=``),
+        at most 1 when met; ``None`` in records older than version 3.
     """
 
     name: str
@@ -146,6 +160,7 @@ class RecordCheck:
     margin_unit: str
     verdict: str
     basis: str
+    utilisation: float | None = None
 
     @property
     def met(self) -> bool:
@@ -238,7 +253,7 @@ class SheetRecord:
             "title_block": asdict(self.title_block),
             "inputs": [asdict(item) for item in self.inputs],
             "results": [_result_dict(item) for item in self.results],
-            "checks": [asdict(item) for item in self.checks],
+            "checks": [_check_dict(item) for item in self.checks],
             "summary": {"checks": len(self.checks), "met": self.checks_met},
             "derivations": [asdict(item) for item in self.derivations],
             "tables": [
@@ -292,6 +307,15 @@ def _result_dict(item: RecordResult) -> dict:
         out["text"] = item.text
     if item.label:
         out["label"] = item.label
+    if item.working is not None:
+        out["working"] = dict(item.working)
+    return out
+
+
+def _check_dict(item: RecordCheck) -> dict:
+    out = asdict(item)
+    if item.utilisation is None:
+        del out["utilisation"]
     return out
 
 
@@ -303,15 +327,22 @@ def record_of(sheet: Any) -> SheetRecord:
     import sympy as sp  # here, not at the top: reading a record (a build's last step) stays light
 
     from calckit.sheet.values import shown_text, si_value
+    from calckit.sheet.working import require_working
 
     results = []
     units = getattr(sheet, "units", None)
     labels = {b.name: b.title for b in sheet.blocks if getattr(b, "title", "") and hasattr(b, "name")}
+    workings = getattr(sheet, "working", {})
     for name, value in sheet.results.items():
+        working = require_working(name, workings.get(name)).as_dict()
         si, unit = si_value(value, name)
         shown = units.shown_value(name, value) if units is not None else value  # the sheet's units
         text = str(value) if si is None else None
-        results.append(RecordResult(name, si, unit, shown_text(shown), text, labels.get(name) or None))
+        results.append(
+            RecordResult(
+                name, si, unit, shown_text(shown, getattr(sheet, "sig", 4)), text, labels.get(name) or None, working
+            )
+        )
     texts = sheet.of_type(TextBlock)
     return SheetRecord(
         record_version=RECORD_VERSION,
@@ -334,6 +365,7 @@ def record_of(sheet: Any) -> SheetRecord:
                 c.margin_unit,
                 c.verdict,
                 c.basis,
+                _finite(c.utilisation),
             )
             for c in sheet.checks
         ),  # fmt: skip
@@ -349,6 +381,12 @@ def record_of(sheet: Any) -> SheetRecord:
         inputs_file=str(getattr(sheet, "inputs_file", "") or ""),
         output_units=units.record() if units is not None and units.asked else {},
     )
+
+
+def _finite(value: float) -> float | None:
+    import math
+
+    return round(float(value), 9) if math.isfinite(value) else None
 
 
 # ------------------------------------------------------------------ reading
@@ -382,7 +420,7 @@ def read_record(path_or_text: str | os.PathLike, *, where: str | None = None) ->
     >>> read_record('{"record_version": 9}')
     Traceback (most recent call last):
     ...
-    calckit.errors.SheetError: record: the record is of version 9, newer than this calckit reads (1)...
+    calckit.errors.SheetError: record: the record is of version 9, newer than this calckit reads (3)...
     """
     if isinstance(path_or_text, str) and path_or_text.lstrip().startswith("{"):
         text, where = path_or_text, where or "record"
@@ -460,6 +498,19 @@ def _from_dict(data: Any, where: str) -> SheetRecord:
         inputs_file=reader.text(data, "inputs_file") if "inputs_file" in data else "",
         output_units=reader.output_units(data),
     )
+    if version >= WORKING_FROM:
+        for index, item in enumerate(record.results):
+            working = item.working
+            if (
+                not isinstance(working, dict)
+                or set(working) != {"kind", "text"}
+                or working["kind"] not in WORKING_KINDS
+                or not isinstance(working["text"], str)
+            ):
+                raise reader.refuse(
+                    f"the result {item.name!r} has no working of a known kind ({', '.join(WORKING_KINDS)})",
+                    f"results[{index}]",
+                )
     # the parts are read first (a part of the wrong kind is named); then the whole is checked
     if version >= SEALED_FROM:
         seal = data.get("seal")
@@ -483,6 +534,7 @@ _KINDS = {
     "str | None": (str, type(None)),
     "float": (int, float),
     "float | None": (int, float, type(None)),
+    "dict | None": (dict, type(None)),
     "bool": (bool,),
     "tuple[str, ...]": (list,),
     "tuple[tuple[str, ...], ...]": (list,),

@@ -30,7 +30,6 @@ file, sign checked) and carries a result into the next step as shown with
 from __future__ import annotations
 
 import hashlib
-import io
 import json
 import os
 import re
@@ -50,11 +49,9 @@ from calckit.errors import OverwriteError, SheetError
 from calckit.physics.criteria import DEFAULT_SEPARATION_REFERENCE, SEPARATION_BAND, separation_basis
 from calckit.sheet.blocks import (
     DEFAULT_CAUTION,
-    CalcStep,
     Check,
     DerivationBlock,
     Figure,
-    ResultLine,
     SheetInput,
     TableBlock,
     TextBlock,
@@ -63,30 +60,13 @@ from calckit.sheet.blocks import (
 from calckit.sheet.checking import acceptance_check, separation_percent
 from calckit.sheet.output_units import OutputUnits, apply_units
 from calckit.sheet.record import SheetRecord, existing_fingerprint, record_of
-from calckit.sheet.values import exact_text, shown_text, si_value
+from calckit.sheet.steps import Steps
+from calckit.sheet.values import check_name, exact_text, figure_svg, shown_text, si_value, symbol_latex
+from calckit.sheet.working import conversion_formula, rounding_policy
 
 __all__ = ["Sheet", "in_kernel"]
 
 # ------------------------------------------------------------------ helpers
-
-_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
-
-
-def _check_name(name: str, where: str) -> str:
-    if not isinstance(name, str) or not _NAME.match(name):
-        raise SheetError(
-            f"the name {name!r} is not usable",
-            where=where,
-            do="Use letters, digits and underscores, starting with a letter, e.g. k_iso",
-        )
-    return name
-
-
-def _symbol_latex(name: str, symbol: str | None) -> str:
-    if symbol:
-        return symbol
-    return sp.latex(sp.Symbol(name))
-
 
 _REFUSE = "Pass overwrite=True to replace it, keep_both=True to write alongside it, or choose another name"
 
@@ -98,7 +78,7 @@ def _canonical(obj: Any) -> str:
 # ------------------------------------------------------------------ the sheet
 
 
-class Sheet:
+class Sheet(Steps):
     """A calculation sheet built block by block.
 
     Parameters
@@ -124,6 +104,10 @@ class Sheet:
         Where the template's inputs come from (the inputs file's name, or e.g.
         "the template's own values"): the source :meth:`given` records for an
         input that names none.
+    sig : int
+        The sheet's one rounding policy: results shown to *sig* significant figures
+        and carried as shown (stated as the first assumption; see
+        :func:`calckit.sheet.working.rounding_policy`).
     """
 
     def __init__(
@@ -142,6 +126,7 @@ class Sheet:
         show: bool | None = None,
         sources: Mapping[str, str] | None = None,
         inputs_file: str = "",
+        sig: int = 4,
     ):
         self.sources = dict(sources or {})
         self.inputs_file = str(inputs_file)
@@ -159,6 +144,16 @@ class Sheet:
         self.results: dict[str, Any] = {}
         self.units = OutputUnits()  # SI, each result as its step asks; see use_units
         self._show = in_kernel() if show is None else show
+        if isinstance(sig, bool) or not isinstance(sig, int) or not 2 <= sig <= 8:
+            raise SheetError(
+                f"sig={sig!r} is not a rounding policy", where="Sheet(sig=...)", do="Give 2 to 8"
+            )
+        self.sig = sig
+        self._converted: dict[str, str] = {}  # a speed or frequency as given -> its step in rad/s
+        self.working: dict[
+            str, Any
+        ] = {}  # result name -> how it was obtained (calckit.sheet.working.Working)
+        self.assume(rounding_policy(sig))
 
     # -------------------------------------------------------------- adding
     def _add(self, block):
@@ -187,7 +182,7 @@ class Sheet:
         A source given for *name* in the sheet's ``sources`` wins over ``source``.
         """
         source = self.sources.get(name, source)
-        _check_name(name, "input name")
+        check_name(name, "input name")
         if name in self.inputs:
             raise SheetError(
                 f"the input {name!r} is already on the sheet",
@@ -199,7 +194,7 @@ class Sheet:
             value = quantity(value, name, expect=expect)
             text = text if isinstance(text, str) else fmt(value)
         si, si_unit = si_value(value, name)
-        record = SheetInput(name, _symbol_latex(name, symbol), text, value, si, si_unit, description, source)
+        record = SheetInput(name, symbol_latex(name, symbol), text, value, si, si_unit, description, source)
         self.inputs[name] = record
         self._add(record)
         return value
@@ -256,104 +251,6 @@ class Sheet:
         )
         return sign(q, name)
 
-    def carried(self, name: str, sig: int = 4):
-        """An earlier result as shown on the sheet, rounded to *sig* significant figures, for the next step.
-
-        A checker redoes each step from the numbers printed on the sheet, so the
-        next step takes the result as shown, not its unrounded value (the one
-        rounding rule is :func:`calckit.core.rounding.as_shown`). A quantity keeps
-        its unit; a plain number comes back as a float.
-
-        Examples
-        --------
-        >>> from calckit.core.units import Q_
-        >>> sheet = Sheet("x", show=False)
-        >>> _ = sheet.result("omega_n", Q_(26.832815, "rad/s"))
-        >>> sheet.carried("omega_n")
-        <Quantity(26.83, 'radian / second')>
-        >>> sheet.carried("omega_n", sig=2)
-        <Quantity(27.0, 'radian / second')>
-        """
-        if name not in self.results:
-            known = ", ".join(self.results) or "none yet"
-            raise SheetError(
-                f"there is no result named {name!r} on the sheet (results: {known})",
-                where=f"carried {name}",
-                do="Carry a result computed earlier with calc() or result(), by its name",
-            )
-        if isinstance(sig, bool) or not isinstance(sig, int) or not 1 <= sig <= 17:
-            raise SheetError(
-                f"sig={sig!r} is not a number of significant figures",
-                where=f"carried {name}",
-                do="Give a whole number from 1 to 17, e.g. sig=4",
-            )
-        value = self.results[name]
-        return as_shown(value if hasattr(value, "units") else float(value), sig)
-
-    def calc(
-        self,
-        name: str,
-        formula: Any,
-        values: dict[str, Any] | None = None,
-        *,
-        title: str = "",
-        symbol: str | None = None,
-        unit: str | None = None,
-        reference: str = "",
-        sig: int = 4,
-    ):
-        """Put numbers through a formula as a numbered step and return the result.
-
-        ``formula`` is a sympy expression in symbols named after inputs or earlier
-        results (or given in ``values``). The step shows the formula, the values
-        with units substituted, and the result in ``unit``.
-        """
-        from calckit.render.numbers import put_through
-
-        _check_name(name, "result name")
-        known = {key: rec.value for key, rec in self.inputs.items()}
-        known.update(self.results)
-        if values:
-            known.update(values)
-        if isinstance(formula, str):  # read by the whitelist parser: text is never run
-            from calckit.core.expressions import parse_expression
-
-            expr = parse_expression(formula, {key: sp.Symbol(key) for key in known}, where=f"step {name}")
-        elif isinstance(formula, sp.Expr):
-            expr = formula
-        elif isinstance(formula, (int, float)) and not isinstance(formula, bool):
-            expr = sp.Float(formula) if isinstance(formula, float) else sp.Integer(formula)
-        else:
-            raise SheetError(
-                f"expected a formula (sympy expression or text), got {type(formula).__name__}",
-                where=f"step {name}",
-                do='Give the formula in symbols, e.g. sympy.sqrt(k / m) or "sqrt(k/m)"',
-            )
-        needed = {s.name: known[s.name] for s in expr.free_symbols if s.name in known}
-        missing = sorted(s.name for s in expr.free_symbols if s.name not in known)
-        if missing:
-            raise SheetError(
-                f"the formula needs {', '.join(missing)}, which {'is' if len(missing) == 1 else 'are'} "
-                "neither an input nor an earlier result",
-                where=f"step {name}",
-                do="Add the input first, or pass values={...}",
-            )
-        record = self.units.restated(name, put_through(symbol or name, expr, needed, unit=unit, sig=sig))
-        self._add(CalcStep(name, title, record, reference))
-        result = record.quantity if hasattr(record, "quantity") else record.value
-        self.results[name] = result
-        return result
-
-    def result(
-        self, name: str, value: Any, *, title: str = "", symbol: str | None = None, reference: str = ""
-    ):
-        """Record a result computed elsewhere (e.g. an Oscillator property) as a step."""
-        _check_name(name, "result name")
-        self.results[name] = value
-        shown = self.units.shown_value(name, value)
-        self._add(ResultLine(name, title, _symbol_latex(name, symbol), shown, reference))
-        return value
-
     def use_units(self, system: str | None = None, **results: str) -> OutputUnits:
         """Show the results in US customary units (``system="US"``) or in a unit chosen for each.
 
@@ -401,7 +298,9 @@ class Sheet:
         comes from (a specification, a standard clause, or "common practice,
         no source").
         """
-        return self._add(acceptance_check(name, value, limit, relation=relation, basis=basis, unit=unit))
+        return self._add(
+            acceptance_check(name, value, limit, relation=relation, basis=basis, unit=unit, sig=self.sig)
+        )
 
     def separation_check(
         self,
@@ -415,40 +314,53 @@ class Sheet:
     ) -> Check:
         """Check that an operating frequency is at least ``band`` away from a natural frequency.
 
-        The value is ``|f_op / f_n - 1|`` (as a percentage) relative to the natural frequency (the
-        default), or ``|f_n / f_op - 1|`` with ``relative_to="operating speed"``; the limit ``band``.
-        The basis printed says which (:func:`calckit.physics.criteria.separation_basis`) unless given.
+        The value is ``|omega / omega_n - 1|`` (as a percentage) relative to the natural frequency
+        (the default), or ``|omega_n / omega - 1|`` with ``relative_to="operating speed"``; the
+        limit ``band``; the basis printed says which (:func:`calckit.physics.criteria.separation_basis`)
+        unless given. The
+        separation is a numbered step of its own, from the two frequencies as shown (a speed
+        in rpm converted to rad/s first), so the percentage in the checks table can be redone
+        by hand.
         """
         if basis is None:
             basis = separation_basis(relative_to, band)
-        separation = separation_percent(name, operating, natural, relative_to=relative_to)
-        return self.check(name, separation, band * 100, relation=">=", basis=basis, unit="percent")
+        separation_percent(
+            name, operating, natural, relative_to=relative_to
+        )  # refuses what has no separation (a natural frequency of 0)
+        from calckit.core.units import Q_
+
+        def as_value(given):
+            if isinstance(given, str) or hasattr(given, "units"):
+                q = quantity(given, f"check {name}")
+                return q if conversion_formula(q) is not None else as_shown(q, self.sig)
+            return Q_(as_shown(float(given), self.sig), "rad/s")  # a bare number is in rad/s
+
+        step = re.sub(r"\W+", "_", name.strip()).strip("_").lower() or "separation"
+        step = step if step[0].isalpha() else f"s_{step}"
+        while step in self.results:
+            step += "_"
+        omega, omega_n = sp.Symbol("omega"), sp.Symbol("omega_n")
+        ratio = omega / omega_n if relative_to == DEFAULT_SEPARATION_REFERENCE else omega_n / omega
+        value = self.calc(
+            step,
+            sp.Abs(ratio - 1),
+            {"omega": as_value(operating), "omega_n": as_value(natural)},
+            symbol="Delta", unit="percent",
+            title=f"Separation of the operating frequency from the natural frequency ({name})",
+        )  # fmt: skip
+        percent = float(value.to("percent").magnitude) if hasattr(value, "units") else float(value) * 100
+        return self.check(name, percent, band * 100, relation=">=", basis=basis, unit="percent")
 
     def figure(self, fig: Any, caption: str) -> Figure:
         """Add a matplotlib figure, embedded as inline SVG (text as paths, no date)."""
-        import matplotlib
-
-        if not hasattr(fig, "savefig"):
-            raise SheetError(
-                f"expected a matplotlib figure, got {type(fig).__name__}",
-                where=f"figure {caption!r}",
-                do="Pass the figure object, e.g. fig from fig, ax = plt.subplots()",
-            )
-        buffer = io.StringIO()
-        with matplotlib.rc_context({"svg.hashsalt": "calckit", "svg.fonttype": "path"}):
-            fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None}, bbox_inches="tight")
-        svg = buffer.getvalue()
-        svg = svg[svg.index("<svg") :]
-        # the RDF metadata block names remote vocabularies; the sheet needs none of it
-        svg = re.sub(r"\s*<metadata>.*?</metadata>", "", svg, flags=re.DOTALL)
-        return self._add(Figure(caption, svg))
+        return self._add(Figure(caption, figure_svg(fig, caption)))
 
     def table(self, headers, rows, caption: str = "") -> TableBlock:
         """Add a table; cells are shown as text (quantities and numbers rounded to 4 figures)."""
         headers = tuple(str(h) for h in headers)
         shown_rows = []
         for index, row in enumerate(rows, start=1):
-            cells = tuple(shown_text(cell) for cell in row)
+            cells = tuple(shown_text(cell, self.sig) for cell in row)
             if len(cells) != len(headers):
                 raise SheetError(
                     f"row {index} has {len(cells)} cells but there are {len(headers)} headings",

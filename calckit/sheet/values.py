@@ -7,13 +7,54 @@ fingerprint covers (:func:`exact_text`).
 
 from __future__ import annotations
 
+import io
+import re
 from typing import Any
 
 import sympy as sp
 
 from calckit.core.units import fmt, fmt_number, to_si
+from calckit.errors import SheetError
 
-__all__ = ["exact_text", "shown_text", "si_value"]
+__all__ = ["check_name", "exact_text", "figure_svg", "shown_text", "si_value", "symbol_latex"]
+
+_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
+
+
+def check_name(name: str, where: str) -> str:
+    """*name* when it can name an input or result (letters, digits, underscores), else a :class:`SheetError`."""
+    if not isinstance(name, str) or not _NAME.match(name):
+        raise SheetError(
+            f"the name {name!r} is not usable",
+            where=where,
+            do="Use letters, digits and underscores, starting with a letter, e.g. k_iso",
+        )
+    return name
+
+
+def symbol_latex(name: str, symbol: str | None) -> str:
+    """The LaTeX symbol given, or the one sympy prints for *name* (``omega_n`` -> ``\\omega_{n}``)."""
+    if symbol:
+        return symbol
+    return sp.latex(sp.Symbol(name))
+
+
+def figure_svg(fig: Any, caption: str) -> str:
+    """A matplotlib figure as inline SVG: text as paths, no date, no metadata naming remote vocabularies."""
+    import matplotlib
+
+    if not hasattr(fig, "savefig"):
+        raise SheetError(
+            f"expected a matplotlib figure, got {type(fig).__name__}",
+            where=f"figure {caption!r}",
+            do="Pass the figure object, e.g. fig from fig, ax = plt.subplots()",
+        )
+    buffer = io.StringIO()
+    with matplotlib.rc_context({"svg.hashsalt": "calckit", "svg.fonttype": "path"}):
+        fig.savefig(buffer, format="svg", metadata={"Date": None, "Creator": None}, bbox_inches="tight")
+    svg = buffer.getvalue()
+    svg = svg[svg.index("<svg") :]
+    return re.sub(r"\s*<metadata>.*?</metadata>", "", svg, flags=re.DOTALL)
 
 
 def si_value(value: Any, where: str) -> tuple[float | None, str]:
