@@ -16,7 +16,13 @@ from calckit.engine.algebra import FIELD_ERRORS, LAMBDA, FreeField, complex_tayl
 from calckit.engine.derivation import Derivation
 from calckit.engine.forcing import resolve_time
 from calckit.engine.method import derive
-from calckit.engine.piecewise import IntervalSolver, is_switching, piecewise_particular, piecewise_response, scalar_solver
+from calckit.engine.piecewise import (
+    IntervalSolver,
+    is_switching,
+    piecewise_particular,
+    piecewise_response,
+    scalar_solver,
+)
 from calckit.engine.response import Response, total_response
 from calckit.engine.scalar import ScalarStrategy
 from calckit.errors import ModelError
