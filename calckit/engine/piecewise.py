@@ -248,6 +248,7 @@ def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
         )
     pieces = []
     used: set = set()
+    reachable: set = set()  # pieces whose condition holds on some interval after t = 0
     for index in range(len(times) + 1):
         mapping = {}
         for rel, (rate, time, where) in switches.items():
@@ -258,10 +259,13 @@ def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
         row = []
         for entry in entries:
             for pw in entry.atoms(sp.Piecewise):
+                first = True
                 for k, (_piece, cond) in enumerate(pw.args):
                     if cond.xreplace(mapping) == sp.true:
-                        used.add((pw, k))
-                        break
+                        reachable.add((pw, k))
+                        if first:
+                            used.add((pw, k))
+                            first = False
             piece = entry.xreplace(mapping)
             if piece.has(sp.nan) or any(p.has(t) for p in piece.atoms(sp.Piecewise)):
                 span = f"{sp.S.Zero if index == 0 else times[index - 1]} <= t" + (
@@ -283,7 +287,7 @@ def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
     for entry in entries:
         for pw in entry.atoms(sp.Piecewise):
             for k, (piece, cond) in enumerate(pw.args):
-                if cond != sp.false and cond.has(t) and (pw, k) not in used:
+                if (pw, k) in reachable and (pw, k) not in used:
                     raise ForcingError(
                         f"the piece ({piece}, {cond}) is never used: the pieces before it already cover every "
                         "time it would apply",
