@@ -3,8 +3,13 @@
 :func:`parse_expression` reads a forcing expression such as ``"F0*cos(w*t)"``
 without running it: Python's parser builds a syntax tree, and only numbers, the
 declared names, ``t``, ``pi``, ``+ - * / **``, parentheses and the functions
-``sin cos exp sinh cosh sqrt`` are turned into sympy objects. Numbers are taken
-as the exact decimal written. Nothing is ever passed to ``eval``.
+``sin cos exp sinh cosh sqrt`` are turned into sympy objects, with the loads that
+switch: ``Heaviside(t - a)``, ``Min(...)``, ``Max(...)`` and
+``Piecewise((value, condition), ..., (value, True))`` whose conditions compare
+expressions (``t < a``, ``a <= t``, ``a <= t < b``). A caller may allow more functions
+by name (``functions=``, e.g. the pulses of ``calckit.physics.pulses``); they are
+called with the sympy values of their arguments and ``t=`` the time symbol. Numbers
+are taken as the exact decimal written. Nothing is ever passed to ``eval``.
 
 Examples
 --------
@@ -21,7 +26,7 @@ import difflib
 import math
 import re
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from fractions import Fraction
 from types import MappingProxyType
 from typing import Any
@@ -29,14 +34,20 @@ from typing import Any
 import sympy as sp
 
 from calckit.core.exact import exact
-from calckit.errors import InputsError
+from calckit.errors import CalcError, InputsError
 
-__all__ = ["FUNCTIONS", "parse_expression"]
+__all__ = ["FUNCTIONS", "SWITCHES", "parse_expression", "parse_parameters"]
 
 #: Functions an expression may call.
 FUNCTIONS: Mapping[str, Any] = MappingProxyType(
     {"sin": sp.sin, "cos": sp.cos, "exp": sp.exp, "sinh": sp.sinh, "cosh": sp.cosh, "sqrt": sp.sqrt}
 )
+
+#: Functions of a load that switches: name -> (function, least and most arguments).
+SWITCHES: Mapping[str, tuple[Any, int, int]] = MappingProxyType(
+    {"Heaviside": (sp.Heaviside, 1, 1), "Min": (sp.Min, 2, 20), "Max": (sp.Max, 2, 20)}
+)
+_COMPARISONS = {ast.Lt: sp.Lt, ast.LtE: sp.Le, ast.Gt: sp.Gt, ast.GtE: sp.Ge}
 
 _MAX_LENGTH = 2000
 _MAX_EXPONENT = 100  # largest power of a number in an expression
@@ -85,13 +96,15 @@ class _Reader:
     text: str
     names: Mapping[str, sp.Basic]
     where: str
+    extra: Mapping[str, Any] = field(default_factory=dict)
 
     def allowed(self) -> str:
         inputs = ", ".join(n for n in self.names if n not in ("t", "pi"))
         inputs = f"the inputs {inputs}, " if inputs else ""
+        names = [*FUNCTIONS, *SWITCHES, "Piecewise", *self.extra]
         return (
             f"Allowed: numbers, {inputs}the time t, pi, + - * / ** and parentheses, "
-            f"and the functions {', '.join(FUNCTIONS)}"
+            f"and the functions {', '.join(names)}"
         )
 
     def segment(self, node: ast.AST) -> str:
@@ -141,7 +154,7 @@ class _Reader:
     def name(self, node: ast.Name) -> sp.Expr:
         if node.id in self.names:
             return self.names[node.id]
-        if node.id in FUNCTIONS:
+        if node.id in FUNCTIONS or node.id in SWITCHES or node.id in self.extra or node.id == "Piecewise":
             raise self.refuse(
                 f'the function "{node.id}" is used without an argument',
                 do=f"Call it with its argument in parentheses, for example {node.id}(w*t)",
@@ -195,16 +208,74 @@ class _Reader:
             if type(func) in _NODE_NAMES:  # obj.attr(...), obj[0](...), (lambda: 1)()
                 return self.read(func)
             raise self.refuse(f'calling "{self.segment(func)}" is not allowed')
-        if func.id not in FUNCTIONS:
+        if func.id not in FUNCTIONS and func.id not in SWITCHES and func.id not in self.extra and func.id != "Piecewise":
             raise self.refuse(f'the function "{func.id}" is not allowed')
         if node.keywords:
             raise self.refuse(f'the keyword argument "{self.segment(node.keywords[0])}" is not allowed')
+        if func.id == "Piecewise":
+            return self.piecewise(node)
+        if func.id in SWITCHES:
+            function, least, most = SWITCHES[func.id]
+            if not least <= len(node.args) <= most:
+                count = f"{least}" if least == most else f"{least} to {most}"
+                raise self.refuse(
+                    f'"{self.segment(node)}" gives {func.id} {len(node.args)} arguments',
+                    do=f"Give {func.id} {count} argument(s), for example {func.id}(t - a)"
+                    if least == 1
+                    else f"Give {func.id} {count} arguments, for example {func.id}(t, a)",
+                )
+            return function(*(self.read(arg) for arg in node.args))
+        if func.id in self.extra:
+            args = [self.read(arg) for arg in node.args]
+            try:
+                return self.extra[func.id](*args, t=self.names["t"])
+            except TypeError as exc:
+                raise self.refuse(
+                    f'"{self.segment(node)}" does not fit {func.id}: {exc}',
+                    do=f"See help(calckit.pulses.{func.id}) for its arguments",
+                ) from None
+            except CalcError as exc:
+                raise self.refuse(f'"{self.segment(node)}": {exc.what}', do=exc.do) from None
         if len(node.args) != 1:
             raise self.refuse(
                 f'"{self.segment(node)}" gives {func.id} {len(node.args)} arguments',
                 do=f"Give {func.id} one argument, for example {func.id}(w*t)",
             )
         return FUNCTIONS[func.id](self.read(node.args[0]))
+
+
+    def piecewise(self, node: ast.Call) -> sp.Expr:
+        pieces = []
+        for arg in node.args:
+            if not (isinstance(arg, ast.Tuple) and len(arg.elts) == 2):
+                raise self.refuse(
+                    f'"{self.segment(arg)}" is not a (value, condition) pair',
+                    do="Write Piecewise((value, condition), ..., (value, True)), e.g. Piecewise((F0, t < td), (0, True))",
+                )
+            value, cond = arg.elts
+            pieces.append((self.read(value), self.condition(cond)))
+        if not pieces:
+            raise self.refuse("Piecewise has no pieces", do="Give at least one (value, True) pair")
+        return sp.Piecewise(*pieces)
+
+    def condition(self, node: ast.AST):
+        if isinstance(node, ast.Constant) and node.value is True:
+            return sp.true
+        if isinstance(node, ast.Compare):
+            terms = [self.read(node.left), *(self.read(c) for c in node.comparators)]
+            relations = []
+            for op, left, right in zip(node.ops, terms, terms[1:], strict=False):
+                if type(op) not in _COMPARISONS:
+                    raise self.refuse(
+                        f'the comparison "{self.segment(node)}" is not allowed',
+                        do="Compare with <, <=, > or >=, e.g. t < td",
+                    )
+                relations.append(_COMPARISONS[type(op)](left, right))
+            return sp.And(*relations)
+        raise self.refuse(
+            f'"{self.segment(node)}" is not a condition',
+            do="Write a comparison such as t < td, a <= t < b, or True for the last piece",
+        )
 
 
 def _digits(r: sp.Rational) -> int:
@@ -214,7 +285,7 @@ def _digits(r: sp.Rational) -> int:
 def _declared(names: Mapping[str, Any], t: sp.Symbol, where: str) -> dict[str, sp.Basic]:
     declared: dict[str, sp.Basic] = {}
     for name, value in names.items():
-        if name in ("t", "pi") or name in FUNCTIONS:
+        if name in ("t", "pi", "Piecewise") or name in FUNCTIONS or name in SWITCHES:
             raise InputsError(
                 f'the name "{name}" is reserved',
                 where=where,
@@ -233,7 +304,12 @@ def _declared(names: Mapping[str, Any], t: sp.Symbol, where: str) -> dict[str, s
 
 
 def parse_expression(
-    text: str, names: Mapping[str, Any], *, where: str, t: sp.Symbol | None = None
+    text: str,
+    names: Mapping[str, Any],
+    *,
+    where: str,
+    t: sp.Symbol | None = None,
+    functions: Mapping[str, Any] | None = None,
 ) -> sp.Expr:
     """Read *text* as a sympy expression without running any of it.
 
@@ -248,6 +324,9 @@ def parse_expression(
         The input's name, used in error messages.
     t : sympy.Symbol, optional
         The time symbol; ``Symbol("t", real=True)`` unless given.
+    functions : mapping, optional
+        More functions allowed by name, called with the arguments' sympy values and
+        ``t=`` the time symbol (``calckit.pulses.FUNCTIONS``: ``half_sine(P, td)``...).
 
     Returns
     -------
@@ -284,7 +363,13 @@ def parse_expression(
             where=where,
             do=f"Keep expressions under {_MAX_LENGTH} characters",
         )
-    reader = _Reader(text, _declared(names, t if t is not None else sp.Symbol("t", real=True), where), where)
+    extra = MappingProxyType(dict(functions or {}))
+    for name in extra:
+        if name in names:
+            raise InputsError(
+                f'the name "{name}" is both an input and a function', where=where, do="Rename the input"
+            )
+    reader = _Reader(text, _declared(names, t if t is not None else sp.Symbol("t", real=True), where), where, extra)
     try:
         tree = ast.parse(text, mode="eval")
     except SyntaxError as exc:
@@ -316,3 +401,38 @@ def parse_expression(
                 do=f"Use powers between -{_MAX_EXPONENT} and {_MAX_EXPONENT}",
             )
     return result
+
+
+def parse_parameters(entries, *, where: str) -> dict[str, Any]:
+    """Named parameters of an expression, as the inputs file gives them: ``["P = 12 kN", "td = 8 ms"]``.
+
+    Any Python name the user chooses (not ``t``, ``pi`` or a function's name); each value
+    is read as a quantity (:func:`calckit.core.units.quantity`). Returns name -> quantity,
+    in the order given.
+
+    >>> sorted(parse_parameters(["P = 12 kN", "td = 8 ms"], where="load_parameters"))
+    ['P', 'td']
+    """
+    from calckit.core.units import quantity
+
+    if isinstance(entries, str) or not isinstance(entries, (list, tuple)):
+        raise InputsError(
+            f"expected a list of \"name = value\" texts, got {type(entries).__name__} {entries!r}",
+            where=where,
+            do='Write e.g. ["P = 12 kN", "td = 8 ms"]',
+        )
+    out: dict[str, Any] = {}
+    for i, entry in enumerate(entries, start=1):
+        name, sep, value = entry.partition("=") if isinstance(entry, str) else ("", "", "")
+        name = name.strip()
+        spot = f"{where}, entry {i}"
+        if not sep or not name.isidentifier() or not value.strip():
+            raise InputsError(
+                f"{entry!r} is not of the form \"name = value\"", where=spot, do='Write e.g. "td = 8 ms"'
+            )
+        if name in ("t", "pi", "Piecewise") or name in FUNCTIONS or name in SWITCHES:
+            raise InputsError(f'the name "{name}" is reserved', where=spot, do="Choose another name")
+        if name in out:
+            raise InputsError(f'the name "{name}" is given twice', where=spot, do="Give each name once")
+        out[name] = quantity(value.strip(), f"{where}: {name}")
+    return out

@@ -23,6 +23,16 @@ from calckit.engine.numeric import (
     time_history,
 )
 from calckit.engine.operator import LinearODE
+from calckit.engine.piecewise import (
+    IntervalSolver,
+    PiecewiseDerivation,
+    SwitchedForcing,
+    is_switching,
+    piecewise_particular,
+    piecewise_response,
+    scalar_solver,
+    split_switching,
+)
 from calckit.engine.response import Response, homogeneous_basis, total_response
 from calckit.engine.scalar import ScalarStrategy
 from calckit.engine.vector import VectorStrategy
@@ -38,13 +48,16 @@ __all__ = [
     "ForcingTerm",
     "FrequencyResponse",
     "GroupSolution",
+    "IntervalSolver",
     "LinearODE",
     "PeakComparison",
     "LinearOperator",
+    "PiecewiseDerivation",
     "Response",
     "ScalarOperator",
     "ScalarStrategy",
     "Strategy",
+    "SwitchedForcing",
     "VectorForcing",
     "VectorGroup",
     "VectorStrategy",
@@ -55,13 +68,18 @@ __all__ = [
     "forcing_entries",
     "frequency_response",
     "homogeneous_basis",
+    "is_switching",
     "is_zero",
     "particular_step",
+    "piecewise_particular",
+    "piecewise_response",
     "plain",
     "real_imag",
     "resolve_time",
+    "scalar_solver",
     "split_forcing",
     "split_forcing_vector",
+    "split_switching",
     "tidy",
     "time_history",
     "total_response",

@@ -14,7 +14,15 @@ import sympy as sp
 from calckit.core.exact import exact
 from calckit.engine.algebra import FIELD_ERRORS, LAMBDA, FreeField, complex_taylor, is_zero
 from calckit.engine.derivation import Derivation
+from calckit.engine.forcing import resolve_time
 from calckit.engine.method import derive
+from calckit.engine.piecewise import (
+    IntervalSolver,
+    is_switching,
+    piecewise_particular,
+    piecewise_response,
+    scalar_solver,
+)
 from calckit.engine.response import Response, total_response
 from calckit.engine.scalar import ScalarStrategy
 from calckit.errors import ModelError
@@ -165,7 +173,21 @@ class LinearODE:
         >>> LinearODE([1, 0, 0]).response(sp.Integer(2), [1, 0], t=t).solution
         t**2 + 1
         """
+        if is_switching(f, t):
+            t = resolve_time(f, t)
+            values = [exact(v, where=f"initial value {i + 1}") for i, v in enumerate(initial_values)]
+            if len(values) != self.order:
+                return total_response(self, 0, values, t=t)  # its refusal names the count
+            return piecewise_response(self, f, tuple(values), self.interval_solver(), t=t)
         return total_response(self, f, initial_values, t=t)
+
+    def interval_solver(self, regime: str = "") -> IntervalSolver:
+        """How one interval of a switching forcing is solved (:mod:`calckit.engine.piecewise`)."""
+
+        def respond(piece, state, tau):
+            return total_response(self, piece, list(state), t=tau, regime=regime)
+
+        return scalar_solver(respond, self.order)
 
     def particular(self, f, *, t: sp.Symbol | None = None) -> Derivation:
         """Particular solution of ``L[x] = f(t)`` by undetermined coefficients.
@@ -182,4 +204,6 @@ class LinearODE:
         -------
         Derivation
         """
+        if is_switching(f, t):
+            return piecewise_particular(self, f, self.interval_solver(), t=resolve_time(f, t))
         return derive(ScalarStrategy(self), f, t)

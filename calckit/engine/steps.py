@@ -41,6 +41,10 @@ __all__ = [
     "VectorCoefficientEquationsStep",
     "ModeExcitationStep",
     "ModesStep",
+    "SwitchingTimesStep",
+    "IntervalStep",
+    "ContinuityStep",
+    "PiecewiseSolutionStep",
     "STEP_KINDS",
 ]
 
@@ -293,6 +297,51 @@ class ModesStep(Step):
     damping_ratios: tuple
 
 
+# ---------------------------------------------------------------------------
+# records of a forcing that switches, solved interval by interval (engine/piecewise.py)
+
+
+@dataclass(frozen=True)
+class SwitchingTimesStep(Step):
+    """The switching times of the forcing, in order, and the quasi-polynomial piece on each interval."""
+
+    forcing: sp.Expr | sp.ImmutableMatrix
+    t: sp.Symbol
+    times: tuple[sp.Expr, ...]  # t_1 < t_2 < ... (t_0 = 0 is the start)
+    pieces: tuple[sp.Expr | sp.ImmutableMatrix, ...]  # f on [t_0, t_1), [t_1, t_2), ..., [t_k, oo)
+    conditions: tuple[sp.Expr, ...]  # relations the order needs, e.g. a > 0
+
+
+@dataclass(frozen=True)
+class IntervalStep(Step):
+    """One interval: its piece of the forcing in the local time, and the state it starts from."""
+
+    index: int  # 1-based
+    start: sp.Expr
+    end: sp.Expr | None  # None for the last interval (no end)
+    t: sp.Symbol
+    local_time: sp.Symbol  # tau = t - start
+    forcing: sp.Expr | sp.ImmutableMatrix  # the piece written in tau
+    state: tuple[sp.Expr | sp.ImmutableMatrix, ...]  # x, x', ... at tau = 0
+
+
+@dataclass(frozen=True)
+class ContinuityStep(Step):
+    """The state at each switching time from the interval before and the interval after: their differences."""
+
+    times: tuple[sp.Expr, ...]
+    residuals: tuple[tuple[sp.Expr | sp.ImmutableMatrix, ...], ...]  # per switching time, x, x', ...
+    verified: bool
+
+
+@dataclass(frozen=True)
+class PiecewiseSolutionStep(Step):
+    """The solution assembled from the intervals: a Piecewise in t."""
+
+    solution: sp.Expr | sp.ImmutableMatrix
+    t: sp.Symbol
+
+
 #: the one table of kinds: each record type and its stable name
 STEP_KINDS = {
     Step: "step",
@@ -316,4 +365,8 @@ STEP_KINDS = {
     VectorCoefficientEquationsStep: "coefficient-equations",
     ModeExcitationStep: "mode-excitation",
     ModesStep: "modes",
+    SwitchingTimesStep: "switching-times",
+    IntervalStep: "interval",
+    ContinuityStep: "continuity",
+    PiecewiseSolutionStep: "piecewise-solution",
 }

@@ -38,15 +38,20 @@ from calckit.engine import (
     LAMBDA,
     Derivation,
     FrequencyResponse,
+    IntervalSolver,
     Response,
     VectorGroup,
     VectorStrategy,
     derive,
     frequency_response,
+    is_switching,
     is_zero,
+    piecewise_particular,
+    piecewise_response,
+    resolve_time,
 )
 from calckit.errors import ModelError
-from calckit.physics.modal_response import modal_total_response
+from calckit.physics.modal_response import modal_total_response, state_vector
 from calckit.physics.modes import (
     Modes,
     first_positive,
@@ -458,7 +463,29 @@ class MultiMass:
         >>> der.solution.T
         Matrix([[t*sin(t)/2, t*sin(t)/2]])
         """
+        if is_switching(F, t):
+            column = self._switching_column(F)
+            return piecewise_particular(self, column, self.interval_solver(), t=resolve_time(column, t))
         return derive(VectorStrategy(self), F, t)
+
+    def _switching_column(self, F) -> sp.ImmutableMatrix:
+        rows = list(F) if isinstance(F, sp.MatrixBase) else [r[0] if isinstance(r, (list, tuple)) else r for r in F]
+        if len(rows) != self.size:
+            raise ModelError(
+                f"the forcing has {len(rows)} entries for a model of {self.size} coordinates",
+                where="forcing",
+                do=f"Give one forcing entry per coordinate, {self.size} in all (0 where no force acts)",
+            )
+        return sp.ImmutableMatrix(self.size, 1, [exact(r, where=f"forcing row {i + 1}") for i, r in enumerate(rows)])
+
+    def interval_solver(self) -> IntervalSolver:
+        """One interval of a switching forcing: the modal total response from the state (x, x')."""
+
+        def respond(piece, state, tau):
+            return modal_total_response(self, piece, state[0], state[1], tau)
+
+        zero = sp.ImmutableMatrix.zeros(self.size, 1)
+        return IntervalSolver(respond, lambda x, tau: (x, x.diff(tau)), (zero, zero))
 
     # ------------------------------------------------------------------ total response
     def response(self, F, x0=None, v0=None, *, t: sp.Symbol | None = None) -> Response:
@@ -498,4 +525,8 @@ class MultiMass:
         >>> model.response([0, 0], [1, 1], [0, 0], t=t).solution.T
         Matrix([[cos(t), cos(t)]])
         """
+        if is_switching(F, t):
+            column = self._switching_column(F)
+            state = (state_vector(x0, self.size, "x0"), state_vector(v0, self.size, "v0"))
+            return piecewise_response(self, column, state, self.interval_solver(), t=resolve_time(column, t))
         return modal_total_response(self, F, x0, v0, t)

@@ -25,9 +25,14 @@ from calckit.core.exact import exact
 from calckit.engine import (
     Derivation,
     FrequencyResponse,
+    IntervalSolver,
     LinearODE,
     Response,
     frequency_response,
+    is_switching,
+    piecewise_response,
+    resolve_time,
+    scalar_solver,
     split_forcing,
     total_response,
 )
@@ -305,9 +310,19 @@ class Oscillator(LinearODE):
             values = [x0]
         else:
             values = [x0, self._initial(0 if v0 is None else v0, "v0", "velocity")]
-        t = split_forcing(f, t).t
         regime = self.regime if (self.m != 0 and self.k != 0) else ""
+        if is_switching(f, t):
+            return piecewise_response(self, f, tuple(values), self.interval_solver(regime), t=resolve_time(f, t))
+        t = split_forcing(f, t).t
         return total_response(self, f, values, t=t, basis=self.transient_basis(t), regime=regime)
+
+    def interval_solver(self, regime: str = "") -> IntervalSolver:
+        """One interval of a switching forcing, with the textbook basis of the free motion."""
+
+        def respond(piece, state, tau):
+            return total_response(self, piece, list(state), t=tau, basis=self.transient_basis(tau), regime=regime)
+
+        return scalar_solver(respond, len(self.coefficients) - 1)
 
     def _unpack(self, initial_values, x0, v0):
         values = list(initial_values)

@@ -15,20 +15,24 @@ import sympy as sp
 from calckit.engine.steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
+    ContinuityStep,
     DerivativesStep,
     EquationStep,
     ForcingSplitStep,
     HomogeneousStep,
     InitialConditionsStep,
+    IntervalStep,
     MatrixEquationStep,
     ModeExcitationStep,
     ModeResonanceStep,
     ModesStep,
     ParticularSolutionStep,
+    PiecewiseSolutionStep,
     ResonanceStep,
     SolvedCoefficientsStep,
     Step,
     SubstitutionStep,
+    SwitchingTimesStep,
     TotalResponseStep,
     TrialFormStep,
     VectorCoefficientEquationsStep,
@@ -307,3 +311,51 @@ step_rows.register(ModeResonanceStep, step_rows.registry[ResonanceStep])
 @step_rows.register
 def _(step: ModeExcitationStep, nt: Notation) -> tuple[Row, ...]:
     return ()  # the finding is the step's sentence, it has no formula of its own
+
+
+# ---------------------------------------------------------------------------
+# a forcing that switches, solved interval by interval
+
+
+def _t_name(i: int) -> Tex:
+    return _name(f"t_{{{i}}}", f"t_{i}")
+
+
+@step_rows.register
+def _(step: SwitchingTimesStep, nt: Notation) -> tuple[Row, ...]:
+    rows = [Row((_t_name(i),), (EQ, _e(time, nt))) for i, time in enumerate(step.times, start=1)]
+    ends = (sp.S.Zero, *step.times)
+    for i, piece in enumerate(step.pieces):
+        span = (
+            Tex(rf"{_e(ends[i], nt).latex} \le t < {_e(step.times[i], nt).latex}",
+                f"{_e(ends[i], nt).text} <= t < {_e(step.times[i], nt).text}")
+            if i < len(step.times)
+            else Tex(rf"t \ge {_e(ends[i], nt).latex}", f"t >= {_e(ends[i], nt).text}")
+        )
+        rows.append(Row((_name("f(t)"),), (EQ, _e(piece, nt)), (span,)))
+    rows.extend(Row((), (), (_words("provided "), _e(cond, nt))) for cond in step.conditions)
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: IntervalStep, nt: Notation) -> tuple[Row, ...]:
+    tau = _e(step.local_time, nt)
+    rows = [Row((tau,), (EQ, _e(step.t - step.start, nt)))]
+    rows.append(Row((Tex(f"f({tau.latex})", f"f({tau.text})"),), (EQ, _e(step.forcing, nt))))
+    rows.extend(
+        Row((_derivative(nt, j, None, "0"),), (EQ, _e(value, nt))) for j, value in enumerate(step.state)
+    )
+    return tuple(rows)
+
+
+@step_rows.register
+def _(step: ContinuityStep, nt: Notation) -> tuple[Row, ...]:
+    word = _words("continuous" if step.verified else "not continuous")
+    return tuple(
+        Row((_t_name(i),), (EQ, _e(time, nt)), (word,)) for i, time in enumerate(step.times, start=1)
+    )
+
+
+@step_rows.register
+def _(step: PiecewiseSolutionStep, nt: Notation) -> tuple[Row, ...]:
+    return _long_rows((_derivative(nt, 0, None, "t"),), step.solution, nt)
