@@ -97,21 +97,21 @@ BAD_INPUTS = {
         'forcing = "F0*tan(w*t)"',
         'tangent_forcing.toml, line 19, forcing: the function "tan" is not allowed in "F0*tan(w*t)". '
         "Allowed: numbers, the inputs F0, w, the time t, pi, + - * / ** and parentheses, and the functions "
-        "sin, cos, exp, sinh, cosh, sqrt.",
+        "sin, cos, exp, sinh, cosh, sqrt, Heaviside, Min, Max, Piecewise.",
     ),
     "attribute_trick": (
         'forcing = "F0*cos(w*t)"',
         'forcing = "().__class__"',
         'attribute_trick.toml, line 19, forcing: attribute access "().__class__" is not allowed. Allowed: '
         "numbers, the inputs F0, w, the time t, pi, + - * / ** and parentheses, and the functions sin, cos, "
-        "exp, sinh, cosh, sqrt.",
+        "exp, sinh, cosh, sqrt, Heaviside, Min, Max, Piecewise.",
     ),
     "import_trick": (
         'forcing = "F0*cos(w*t)"',
         "forcing = \"__import__('os').system('touch created-by-forcing')\"",
         "import_trick.toml, line 19, forcing: attribute access \"__import__('os').system\" is not allowed in "
         "\"__import__('os').system('touch created-by-forcing')\". Allowed: numbers, the inputs F0, w, the time "
-        "t, pi, + - * / ** and parentheses, and the functions sin, cos, exp, sinh, cosh, sqrt.",
+        "t, pi, + - * / ** and parentheses, and the functions sin, cos, exp, sinh, cosh, sqrt, Heaviside, Min, Max, Piecewise.",
     ),
 }
 

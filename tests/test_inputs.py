@@ -33,7 +33,7 @@ F0, W = sp.symbols("F0 w", positive=True)
 NAMES = {"F0": F0, "w": W}
 ALLOWED = (
     "Allowed: numbers, the inputs F0, w, the time t, pi, + - * / ** and parentheses, "
-    "and the functions sin, cos, exp, sinh, cosh, sqrt."
+    "and the functions sin, cos, exp, sinh, cosh, sqrt, Heaviside, Min, Max, Piecewise."
 )
 
 
