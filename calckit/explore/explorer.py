@@ -439,7 +439,7 @@ class Explorer(_Plots, _Sliders):
         text = _kept_text(self._inputs.values(), self._file, self._values, self.template, path)
         _write_kept(path, text, overwrite=overwrite)
         written = read_inputs(path)  # read back as calckit build will
-        check_keys(written, self._template.parameters, path=path)
+        check_keys(written, self._template.parameters, path=path, optional=self._template.optional_inputs)
         for item in self._inputs.values():
             got = written.values.get(item.name)
             if _as_display(item, got) != item.value:  # pragma: no cover - guards the writer itself

@@ -46,7 +46,7 @@ def open_explorer(
     roles = _roles_of(plan, tmpl.parameters, names, where=str(tmpl.path))
     if inputs is not None:
         file = read_inputs(inputs)
-        check_keys(file, tmpl.parameters, path=file.path)
+        check_keys(file, tmpl.parameters, path=file.path, optional=tmpl.optional_inputs)
         start.update(file.assignments(tmpl.parameters))
         wheres.update({name: file.where(name) for name in file.values})
     given = {

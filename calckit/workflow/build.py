@@ -439,7 +439,7 @@ def _prepare_build(
 
     tmpl = load_template(path)
     file = read_inputs(inputs)
-    check_keys(file, tmpl.parameters, path=file.path)
+    check_keys(file, tmpl.parameters, path=file.path, optional=tmpl.optional_inputs)
     wheres = {name: file.where(name) for name in tmpl.parameters}
     held = held_fingerprint(out, tmpl.name)
     units = file.units.payload() if file.units.given else None

@@ -88,6 +88,7 @@ class ResultMove:
     percent: float | None
     old_shown: str = ""
     new_shown: str = ""
+    label: str = ""  # the result under the sheet's own label, "Natural frequency (omega_n)"; name if none
 
     @property
     def change(self) -> str:
@@ -96,7 +97,7 @@ class ResultMove:
 
     def shown(self) -> str:
         change = f" ({self.change})" if self.change else ""
-        return f"{self.name}: {self.old_shown} -> {self.new_shown}{change}"
+        return f"{self.label or self.name}: {self.old_shown} -> {self.new_shown}{change}"
 
 
 @dataclass(frozen=True)
@@ -286,7 +287,7 @@ class SheetDiff:
             parts.append(table(["Input", "Old", "New"], [[c.name, c.old, c.new] for c in self.details]))
         if self.results:
             parts.append("<h2>Results moved</h2>")
-            rows = [[m.name, m.old_shown, m.new_shown, m.change] for m in self.results]
+            rows = [[m.label or m.name, m.old_shown, m.new_shown, m.change] for m in self.results]
             parts.append(table(["Result", "Old", "New", "Change"], rows))
         if self.checks:
             parts.append("<h2>Checks</h2>")
@@ -486,14 +487,14 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
             ta, tb = (a or {}).get("text"), (b or {}).get("text")
             if ta != tb or (a is None) != (b is None):
                 label = result_label(a, b, name)
-                results.append(ResultMove(label, None, None, "", None, text_or_absent(a), text_or_absent(b)))
+                results.append(ResultMove(name, None, None, "", None, text_or_absent(a), text_or_absent(b), label))
             continue
         if not _moved(va, vb):
             continue
         percent = (vb - va) / abs(va) * 100 if va not in (None, 0) and vb is not None else None
         unit = (b or {}).get("unit") or (a or {}).get("unit") or ""
         shown_a, shown_b = shown_pair(a, b)
-        results.append(ResultMove(result_label(a, b, name), va, vb, unit, percent, shown_a, shown_b))
+        results.append(ResultMove(name, va, vb, unit, percent, shown_a, shown_b, result_label(a, b, name)))
     checks_old, checks_new = _by_name(old.get("checks")), _by_name(new.get("checks"))
     checks = []
     for name in dict.fromkeys([*checks_old, *checks_new]):

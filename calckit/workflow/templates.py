@@ -136,13 +136,22 @@ class Template:
     parameters: Mapping[str, Any]
     parameters_cell: int
     digest: str
+    optional: frozenset[str] = frozenset()
 
     @property
     def inputs(self) -> list[str]:
-        """Parameter names an inputs file must give (all but the optional title-block fields)."""
+        """Parameter names an inputs file must give (all but the optional ones)."""
+        return [name for name in self.parameters if name not in self.optional_inputs]
+
+    @property
+    def optional_inputs(self) -> frozenset[str]:
+        """Names an inputs file may leave out: the optional title-block fields, and the
+        parameters whose line in the parameters cell ends in a comment starting
+        ``# optional`` (they keep the template's value; e.g. a forcing parameter that
+        the forcing of a given inputs file does not use)."""
         from calckit.workflow.inputs import OPTIONAL_TITLE_FIELDS
 
-        return [name for name in self.parameters if name not in OPTIONAL_TITLE_FIELDS]
+        return frozenset(OPTIONAL_TITLE_FIELDS) | self.optional
 
 
 def resource_folder(package: str, fallback: str) -> Path:
@@ -261,7 +270,16 @@ def load_template(template: str | os.PathLike) -> Template:
         parameters = parameters_from_source(cell_source(cell))
     except InputsError as exc:
         raise InputsError(exc.what, where=f"{path}, cell {tagged[0] + 1}, {exc.where}", do=exc.do) from None
-    return Template(path, path.stem, notebook, parameters, tagged[0], _digest(notebook))
+    optional = frozenset(
+        match.group(1)
+        for match in _OPTIONAL_LINE.finditer(cell_source(cell))
+        if match.group(1) in parameters
+    )
+    return Template(path, path.stem, notebook, parameters, tagged[0], _digest(notebook), optional)
+
+
+#: A parameter line marked optional: ``name = value  # optional: why``
+_OPTIONAL_LINE = re.compile(r"^([A-Za-z_]\w*)\s*=[^#\n]*#\s*optional\b", re.M)
 
 
 def inputs_cell_source(
