@@ -285,7 +285,7 @@ class TestDemo:
         assert run.returncode == cli.CHECKS_NOT_MET == 3, run.stderr
         lines = run.stdout.splitlines()
         assert lines[0].startswith(f"Built demo p101 ({TEMPLATE} with harrow_creek_p101.toml) in ")
-        assert lines[0].endswith(": 2 of 2 checks met")
+        assert lines[0].endswith(": 3 of 3 checks met")
         for label, suffix in (("sheet:", ".html"), ("record:", ".json"), ("notebook:", ".ipynb")):
             path = f"demo/p101/{TEMPLATE}{suffix}"
             assert f"  {label:<13}{path}" in lines
@@ -313,7 +313,7 @@ class TestDiff:
         root, done, _ = runs
         # built, with the amplitude check not met at 600 rpm: the exit code of its own
         assert done["slow"].returncode == cli.CHECKS_NOT_MET, done["slow"].stderr
-        assert done["slow"].stdout.splitlines()[0].endswith(": 1 of 2 checks met")
+        assert done["slow"].stdout.splitlines()[0].endswith(": 2 of 3 checks met")
         run = calckit("diff", "demo/p101", f"slow/{TEMPLATE}.html", "--html", "diff.html", cwd=root)
         _no_traceback(run)
         assert run.returncode == 0

@@ -57,6 +57,7 @@ def kernel_warm_up() -> None:
     matplotlib.use("Agg")
     import matplotlib.pyplot  # noqa: F401
     import numpy as np
+    import scipy.integrate  # noqa: F401  (the independent check's solve_ivp; it adds warning filters)
     import sympy  # noqa: F401
     from IPython import get_ipython
     from sympy.core.parameters import global_parameters
@@ -67,6 +68,7 @@ def kernel_warm_up() -> None:
     import calckit.core.expressions
     import calckit.core.units
     import calckit.engine
+    import calckit.engine.crosscheck  # the independent check every derived response gets
     import calckit.physics
     import calckit.render.display
     import calckit.render.numbers
