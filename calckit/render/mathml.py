@@ -54,7 +54,9 @@ systems, ``\operatorname{atan2}``, ``\cdot``, units after ``\;\mathrm{N/m}``,
       ``text-align`` and padding in ``style`` so relation signs line up;
     * ``/`` in units and ``-`` after ``=`` or ``(`` were spaced as binary
       operators: they are set tight;
-    * operator names become ``<mi>`` like ``\cos``, with no gap before "(".
+    * operator names become ``<mi>`` like ``\cos``, with no gap before "(";
+    * matrix entries are centred 1.8 em apart and an entry's own sign is set
+      tight (``11984`` beside ``-4522`` must not read as a subtraction).
 
 Decision: latex2mathml for everything, with the repairs above.
 """
@@ -335,8 +337,13 @@ def _mark_unary_signs(parent: ET.Element) -> None:
     as "= − A"; the sign is made to hug what it negates.
     """
     previous = None
-    for child in parent:
-        if (
+    for index, child in enumerate(parent):
+        if child.tag == "mo" and (child.text or "") in _SIGNS and index == 0 and parent.tag == "mtd":
+            # a matrix entry's own sign: -4522 beside 11984 must not read as a subtraction
+            child.set("form", "prefix")
+            child.set("lspace", "0")
+            child.set("rspace", "0")
+        elif (
             child.tag == "mo"
             and (child.text or "") in _SIGNS
             and previous is not None
@@ -373,6 +380,11 @@ def _align_cells(table: ET.Element) -> None:
                     rules.append(f"padding-left: {'0' if index == 0 else '1em'}")
                 else:
                     rules.append("padding-left: 0")
+            elif not table.get("columnspacing"):
+                # a matrix: entries centred with a clear gap, so that neighbours never run together
+                rules.append("text-align: center" if not align else "")
+                rules.append("padding: 0.15em 0.9em")
+            rules = [r for r in rules if r]
             if rules:
                 cell.set("style", "; ".join(rules))
 
