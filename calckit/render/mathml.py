@@ -337,13 +337,8 @@ def _mark_unary_signs(parent: ET.Element) -> None:
     as "= − A"; the sign is made to hug what it negates.
     """
     previous = None
-    for index, child in enumerate(parent):
-        if child.tag == "mo" and (child.text or "") in _SIGNS and index == 0 and parent.tag == "mtd":
-            # a matrix entry's own sign: -4522 beside 11984 must not read as a subtraction
-            child.set("form", "prefix")
-            child.set("lspace", "0")
-            child.set("rspace", "0")
-        elif (
+    for child in parent:
+        if (
             child.tag == "mo"
             and (child.text or "") in _SIGNS
             and previous is not None
@@ -384,6 +379,12 @@ def _align_cells(table: ET.Element) -> None:
                 # a matrix: entries centred with a clear gap, so that neighbours never run together
                 rules.append("text-align: center" if not align else "")
                 rules.append("padding: 0.15em 0.9em")
+                first = cell[0] if len(cell) else None
+                if first is not None and first.tag == "mo" and (first.text or "") in _SIGNS:
+                    # the entry's own sign: -4522 beside 11984 must not read as a subtraction
+                    first.set("form", "prefix")
+                    first.set("lspace", "0")
+                    first.set("rspace", "0")
             rules = [r for r in rules if r]
             if rules:
                 cell.set("style", "; ".join(rules))
