@@ -20,6 +20,7 @@ True
 
 from __future__ import annotations
 
+import base64
 import json
 import os
 import re
@@ -41,7 +42,10 @@ __all__ = [
     "needs_chromium",
     "pdf_page_count",
     "pdf_text",
+    "print_layout",
     "print_pdf",
+    "PrintLayout",
+    "PAPERS",
     "screenshot",
 ]
 
@@ -382,3 +386,158 @@ def _content_text(content: str, cmaps: dict[str, dict[int, str]]) -> str:
     if current:
         lines.append("".join(current))
     return "\n".join(lines)
+
+
+# ---------------------------------------------------------------------------
+# print layout, measured through the DevTools protocol on a pipe (stdlib only)
+
+#: paper sizes in millimetres (ISO 216 A4; ANSI Letter, 8.5 in x 11 in)
+PAPERS = {"A4": (210.0, 297.0), "Letter": (215.9, 279.4)}
+_CSS_PX_PER_MM = 96 / 25.4
+
+
+@dataclass(frozen=True)
+class PrintLayout:
+    """A page laid out for print on one paper size, and the PDF Chromium printed from it.
+
+    Attributes
+    ----------
+    printable_px : float
+        Width between the page's left and right ``@page`` margins, in CSS pixels.
+    maths : tuple of dict
+        Per ``<math>`` element: ``left`` and ``right`` of the box its content covers
+        (the union of its tokens' boxes: mi, mn, mo, mtext, ms), and the first characters of its text.
+    text : str
+        ``document.body.innerText`` in print media.
+    pdf : bytes
+        The page printed to PDF on that paper.
+    """
+
+    printable_px: float
+    maths: tuple[dict, ...]
+    text: str
+    pdf: bytes
+
+
+_LAYOUT_SCRIPT = """(() => { const out = [];
+  for (const m of document.getElementsByTagName("math")) {
+    let left = Infinity, right = -Infinity;
+    for (const e of m.querySelectorAll("mi, mn, mo, mtext, ms")) {
+      const r = e.getBoundingClientRect();
+      if (r.width > 0) { left = Math.min(left, r.left); right = Math.max(right, r.right); }
+    }
+    if (right > left) out.push({left: left, right: right, text: m.textContent.slice(0, 120)});
+  }
+  return {maths: out, text: document.body.innerText}; })()"""
+
+
+class _DevTools:
+    """Chromium driven over ``--remote-debugging-pipe`` (fd 3 in, fd 4 out, NUL-separated JSON)."""
+
+    def __init__(self, binary: str, profile: Path):
+        into_child, self._send = os.pipe()
+        self._receive, from_child = os.pipe()
+
+        def wire() -> None:  # in the child: the pipe ends become fds 3 and 4
+            a, b = os.dup(into_child), os.dup(from_child)
+            os.dup2(a, 3)
+            os.dup2(b, 4)
+
+        self.process = subprocess.Popen(
+            [binary, *_flags(profile), "--remote-debugging-pipe", "about:blank"],
+            preexec_fn=wire,
+            close_fds=False,
+            stdout=subprocess.DEVNULL,
+            stderr=subprocess.DEVNULL,
+        )
+        os.close(into_child)
+        os.close(from_child)
+        self._id = 0
+        self._buffer = b""
+        self._events: list[dict] = []
+        target = self.call("Target.createTarget", url="about:blank")["targetId"]
+        self.session = self.call("Target.attachToTarget", targetId=target, flatten=True)["sessionId"]
+        self.call("Page.enable", on_page=True)
+
+    def _message(self) -> dict:
+        while b"\0" not in self._buffer:
+            chunk = os.read(self._receive, 1 << 20)
+            if not chunk:
+                raise RuntimeError("chromium closed the DevTools pipe")
+            self._buffer += chunk
+        raw, self._buffer = self._buffer.split(b"\0", 1)
+        return json.loads(raw)
+
+    def call(self, method: str, on_page: bool = False, **params) -> dict:
+        self._id += 1
+        message: dict = {"id": self._id, "method": method, "params": params}
+        if on_page:
+            message["sessionId"] = self.session
+        os.write(self._send, json.dumps(message).encode() + b"\0")
+        while True:
+            reply = self._message()
+            if reply.get("id") == self._id:
+                if "error" in reply:
+                    raise RuntimeError(f"{method}: {reply['error']}")
+                return reply["result"]
+            self._events.append(reply)
+
+    def wait_for(self, event: str) -> None:
+        while not any(e.get("method") == event for e in self._events):
+            self._events.append(self._message())
+        self._events.clear()
+
+    def close(self) -> None:
+        try:
+            self.call("Browser.close")
+        except (RuntimeError, OSError):
+            pass
+        try:
+            self.process.wait(TIMEOUT_S)
+        finally:
+            os.close(self._send)
+            os.close(self._receive)
+
+
+def print_layout(
+    html_path: str | os.PathLike[str], paper: str, margins_mm: tuple[float, float] = (18.0, 16.0)
+) -> PrintLayout:
+    """Lay the page out in print media at the printable width of *paper*, measure every
+    ``<math>`` box, and print it to PDF on that paper.
+
+    *margins_mm* are the page's left and right ``@page`` margins (the sheet's stylesheet,
+    :data:`calckit.render.page.SHEET_CSS`, uses 18 mm and 16 mm).
+    """
+    binary = chromium_path()
+    if binary is None:
+        pytest.skip(_SKIP_REASON)
+    width_mm, height_mm = PAPERS[paper]
+    printable = (width_mm - sum(margins_mm)) * _CSS_PX_PER_MM
+    with tempfile.TemporaryDirectory(prefix="calckit-devtools-") as profile:
+        tools = _DevTools(binary, Path(profile))
+        try:
+            tools.call(
+                "Emulation.setDeviceMetricsOverride",
+                on_page=True,
+                width=int(printable),
+                height=1200,
+                deviceScaleFactor=1,
+                mobile=False,
+            )
+            tools.call("Emulation.setEmulatedMedia", on_page=True, media="print")
+            tools.call("Page.navigate", on_page=True, url=Path(html_path).resolve().as_uri())
+            tools.wait_for("Page.loadEventFired")
+            found = tools.call(
+                "Runtime.evaluate", on_page=True, expression=_LAYOUT_SCRIPT, returnByValue=True
+            )
+            value = found["result"]["value"]
+            printed = tools.call(
+                "Page.printToPDF",
+                on_page=True,
+                paperWidth=width_mm / 25.4,
+                paperHeight=height_mm / 25.4,
+                displayHeaderFooter=False,
+            )
+        finally:
+            tools.close()
+    return PrintLayout(printable, tuple(value["maths"]), value["text"], base64.b64decode(printed["data"]))

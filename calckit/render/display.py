@@ -143,7 +143,12 @@ def _conditions_block(obj: Any, nt: Notation) -> Block | None:
 
 
 def blocks(
-    obj: Any, level: str = "full", *, names: Mapping | None = None, derivatives: str = "auto"
+    obj: Any,
+    level: str = "full",
+    *,
+    names: Mapping | None = None,
+    derivatives: str = "auto",
+    sig: int | None = None,
 ) -> tuple[Block, ...]:
     """What every output shows for *obj*, in order.
 
@@ -156,6 +161,9 @@ def blocks(
         Extra display names, symbol name -> LaTeX.
     derivatives : str
         ``"auto"``, ``"dots"`` or ``"primes"``.
+    sig : int, optional
+        Significant figures for the numbers of a derivation with numeric
+        coefficients (a sheet passes its own, 4 by default); None shows them exact.
 
     Examples
     --------
@@ -170,7 +178,7 @@ def blocks(
         nt = notation(names=names, derivatives=derivatives)
         return (Block(None, "", "", tuple(obj.display_rows(nt.name_map)), role="formula"),)
     if isinstance(obj, Step):
-        nt = notation((obj,), names=names, derivatives=derivatives)
+        nt = notation((obj,), names=names, derivatives=derivatives, sig=sig)
         return (Block(None, obj.title, _sentence(obj.explanation), step_rows(obj, nt), _braced(obj)),)
     steps = getattr(obj, "steps", None)
     if steps is None:
@@ -180,7 +188,7 @@ def blocks(
             do="Pass a Derivation, a Response, a Step or a Substitution",
         )
     steps = tuple(steps)
-    nt = notation(steps, names=names, derivatives=derivatives)
+    nt = notation(steps, names=names, derivatives=derivatives, sig=sig)
     out = []
     previous = 0
     for n, step in steps_at(steps, level):

@@ -54,7 +54,9 @@ systems, ``\operatorname{atan2}``, ``\cdot``, units after ``\;\mathrm{N/m}``,
       ``text-align`` and padding in ``style`` so relation signs line up;
     * ``/`` in units and ``-`` after ``=`` or ``(`` were spaced as binary
       operators: they are set tight;
-    * operator names become ``<mi>`` like ``\cos``, with no gap before "(".
+    * operator names become ``<mi>`` like ``\cos``, with no gap before "(";
+    * matrix entries are centred 1.8 em apart and an entry's own sign is set
+      tight (``11984`` beside ``-4522`` must not read as a subtraction).
 
 Decision: latex2mathml for everything, with the repairs above.
 """
@@ -373,6 +375,17 @@ def _align_cells(table: ET.Element) -> None:
                     rules.append(f"padding-left: {'0' if index == 0 else '1em'}")
                 else:
                     rules.append("padding-left: 0")
+            elif not table.get("columnspacing"):
+                # a matrix: entries centred with a clear gap, so that neighbours never run together
+                rules.append("text-align: center" if not align else "")
+                rules.append("padding: 0.15em 0.9em")
+                first = cell[0] if len(cell) else None
+                if first is not None and first.tag == "mo" and (first.text or "") in _SIGNS:
+                    # the entry's own sign: -4522 beside 11984 must not read as a subtraction
+                    first.set("form", "prefix")
+                    first.set("lspace", "0")
+                    first.set("rspace", "0")
+            rules = [r for r in rules if r]
             if rules:
                 cell.set("style", "; ".join(rules))
 

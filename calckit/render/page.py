@@ -94,7 +94,8 @@ h1, h2, h3 { break-after: avoid; page-break-after: avoid; }
 .title-block td { font-weight: bold; }
 
 /* Equations. */
-.math { margin: 0.5em 0 0.5em 1.5em; padding: 0.15em 0; overflow-x: auto; overflow-y: hidden; }
+/* No scroll bar, no clipping: formulas are broken into rows that fit (calckit.render.layout). */
+.math { margin: 0.5em 0 0.5em 1.5em; padding: 0.15em 0; overflow: visible; }
 .math math { display: block; text-align: left; math-style: normal; }
 .math-inline { white-space: nowrap; }
 

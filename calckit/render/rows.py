@@ -39,6 +39,7 @@ from calckit.engine.steps import (
     VectorForcingStep,
     VerificationStep,
 )
+from calckit.render.layout import LINE_TEXT, chunk_signed, equation_rows, long_rows, tex_width
 from calckit.render.tex import (
     EQ,
     NE,
@@ -51,8 +52,8 @@ from calckit.render.tex import (
     _e,
     _exponent,
     _group_sub,
-    _long_rows,
     _operator,
+    _term,
     _words,
 )
 
@@ -87,7 +88,7 @@ def _(step: EquationStep, nt: Notation) -> tuple[Row, ...]:
     n = len(step.coefficients) - 1
     lhs = _combination(((c, _derivative(nt, n - i)) for i, c in enumerate(step.coefficients)), nt)
     f = Tex("f(t)", "f(t)")
-    return (Row((lhs,), (EQ, f)), Row((f,), (EQ, _e(step.forcing, nt))))
+    return (Row((lhs,), (EQ, f)), *long_rows((f,), step.forcing, nt))
 
 
 @step_rows.register
@@ -98,7 +99,7 @@ def _(step: ForcingSplitStep, nt: Notation) -> tuple[Row, ...]:
         f = Tex(f"f_{{{g}}}(t)", f"f_{g}(t)") if many else Tex("f(t)", "f(t)")
         lam = Tex(rf"\lambda_{{{g}}}", f"lambda_{g}") if many else Tex(r"\lambda", "lambda")
         exponent = _exponent(group, nt)
-        rows.append(Row((f,), (EQ, _e(group.expr(step.t), nt)), (lam, EQ, exponent)))
+        rows.extend(long_rows((f,), group.expr(step.t), nt, note=(lam, EQ, exponent)))
     if not rows:
         rows.append(Row((Tex("f(t)", "f(t)"),), (EQ, Tex("0", "0")), (_words("no forcing terms"),)))
     return tuple(rows)
@@ -114,8 +115,14 @@ def _(step: CharacteristicStep, nt: Notation) -> tuple[Row, ...]:
         j: None if j == 0 else (lam if j == 1 else Tex(f"{lam.latex}^{{{j}}}", f"{lam.text}**{j}"))
         for j in range(n + 1)
     }
-    body = _combination(((c, power[n - i]) for i, c in enumerate(poly.all_coeffs())), nt)
-    rows = [Row((p,), (EQ, body, EQ, Tex("0", "0")))]
+    terms = [
+        x for x in (_term(c, power[n - i], nt) for i, c in enumerate(poly.all_coeffs())) if x is not None
+    ]
+    lines = chunk_signed(terms, LINE_TEXT - tex_width(p) - 6)
+    rows = [Row((p,), (EQ, lines[0]) + ((EQ, Tex("0", "0")) if len(lines) == 1 else ()))]
+    rows.extend(Row((), (line,)) for line in lines[1:-1])
+    if len(lines) > 1:
+        rows.append(Row((), (lines[-1], EQ, Tex("0", "0"))))
     if step.roots is None or len(step.roots) == 0:  # a Deferred search may find none
         rows.append(Row((), (), (_words("roots not found in closed form"),)))
         return tuple(rows)
@@ -137,6 +144,10 @@ def _(step: ResonanceStep, nt: Notation) -> tuple[Row, ...]:
     else:
         lhs = (p_of,)
         s = Tex("s", "s")
+    if step.multiplicity == 0 and tex_width(lhs) + tex_width(_e(step.value, nt)) > LINE_TEXT - 12:
+        rows = long_rows(lhs[-1:] if not many else lhs, step.value, nt)
+        note = (_words("not a root, multiplicity "), s, EQ, Tex("0", "0"))
+        return (*rows, Row((), (NE, Tex("0", "0")), note))
     if step.multiplicity == 0:
         rhs = (EQ, _e(step.value, nt), NE, Tex("0", "0"))
         note = (_words("not a root, multiplicity "), s, EQ, Tex("0", "0"))
@@ -164,10 +175,7 @@ def _(step: DerivativesStep, nt: Notation) -> tuple[Row, ...]:
 def _(step: SubstitutionStep, nt: Notation) -> tuple[Row, ...]:
     sub = _group_sub(nt, step.group)
     f = Tex(f"f_{{{step.group}}}(t)", f"f_{step.group}(t)") if nt.groups > 1 else Tex("f(t)", "f(t)")
-    return (
-        Row((_operator(nt, sub),), (EQ, f)),
-        Row((_e(step.lhs, nt),), (EQ, _e(step.rhs, nt))),
-    )
+    return (Row((_operator(nt, sub),), (EQ, f)), *equation_rows(step.lhs, step.rhs, nt))
 
 
 def _linear(expr: sp.Expr, unknowns: tuple[sp.Symbol, ...], nt: Notation) -> Tex:
@@ -187,19 +195,20 @@ def _linear(expr: sp.Expr, unknowns: tuple[sp.Symbol, ...], nt: Notation) -> Tex
 @step_rows.register
 def _(step: CoefficientEquationsStep, nt: Notation) -> tuple[Row, ...]:
     unknowns = nt.unknowns_of(step.group)
-    return tuple(
-        Row(
-            (_linear(eq.lhs, unknowns, nt),),
-            (EQ, _e(eq.rhs, nt)),
-            (_words("coefficients of "), _e(basis, nt)),
-        )
-        for basis, eq in zip(step.basis, step.equations, strict=True)
-    )
+    rows: list[Row] = []
+    for basis, eq in zip(step.basis, step.equations, strict=True):
+        note = (_words("coefficients of "), _e(basis, nt))
+        lhs = _linear(eq.lhs, unknowns, nt)
+        if tex_width(lhs) + tex_width(_e(eq.rhs, nt)) + tex_width(note) + 6 <= LINE_TEXT:
+            rows.append(Row((lhs,), (EQ, _e(eq.rhs, nt)), note))
+        else:
+            rows.extend(equation_rows(sp.sympify(eq.lhs), eq.rhs, nt, note))
+    return tuple(rows)
 
 
 @step_rows.register
 def _(step: SolvedCoefficientsStep, nt: Notation) -> tuple[Row, ...]:
-    rows = [Row((_e(u, nt),), (EQ, _e(v, nt))) for u, v in step.values]
+    rows = [row for u, v in step.values for row in long_rows((_e(u, nt),), v, nt)]
     for cond in step.conditions:
         rows.append(Row((), (), (_words("provided "), _e(cond, nt))))
     return tuple(rows)
@@ -207,7 +216,7 @@ def _(step: SolvedCoefficientsStep, nt: Notation) -> tuple[Row, ...]:
 
 @step_rows.register
 def _(step: ParticularSolutionStep, nt: Notation) -> tuple[Row, ...]:
-    return _long_rows((_derivative(nt, 0, "p", "t"),), step.solution, nt)
+    return long_rows((_derivative(nt, 0, "p", "t"),), step.solution, nt)
 
 
 @step_rows.register
@@ -221,7 +230,7 @@ def _(step: VerificationStep, nt: Notation) -> tuple[Row, ...]:
 
 @step_rows.register
 def _(step: HomogeneousStep, nt: Notation) -> tuple[Row, ...]:
-    return _long_rows((_derivative(nt, 0, "h", "t"),), step.solution, nt)
+    return long_rows((_derivative(nt, 0, "h", "t"),), step.solution, nt)
 
 
 @step_rows.register
@@ -230,7 +239,7 @@ def _(step: InitialConditionsStep, nt: Notation) -> tuple[Row, ...]:
         Row((_derivative(nt, j, None, "0"),), (EQ, _e(eq.lhs, nt), EQ, _e(eq.rhs, nt)))
         for j, eq in enumerate(step.equations)
     ]
-    rows.extend(Row((_e(c, nt),), (EQ, _e(v, nt))) for c, v in step.values)
+    rows.extend(row for c, v in step.values for row in long_rows((_e(c, nt),), v, nt))
     return tuple(rows)
 
 
@@ -238,9 +247,9 @@ def _(step: InitialConditionsStep, nt: Notation) -> tuple[Row, ...]:
 def _(step: TotalResponseStep, nt: Notation) -> tuple[Row, ...]:
     x = _derivative(nt, 0, None, "t")
     xh, xp = _derivative(nt, 0, "h", "t"), _derivative(nt, 0, "p", "t")
-    total = _long_rows((), step.solution, nt)
+    total = long_rows((), step.solution, nt)
     return (
-        *_long_rows((xh,), step.transient, nt),
+        *long_rows((xh,), step.transient, nt),
         Row((x,), (EQ, Tex(f"{xh.latex} + {xp.latex}", f"{xh.text} + {xp.text}"))),
         *total,
     )
@@ -263,8 +272,8 @@ def _(step: MatrixEquationStep, nt: Notation) -> tuple[Row, ...]:
     lhs = Tex(r"M \ddot{x} + C \dot{x} + K x", "M x'' + C x' + K x")
     rows = [Row((lhs,), (EQ, _name("F(t)")))]
     for label, matrix in (("M", step.mass), ("C", step.damping), ("K", step.stiffness)):
-        rows.append(Row((_name(label),), (EQ, _e(matrix, nt))))
-    rows.append(Row((_name("F(t)"),), (EQ, _e(step.forcing, nt))))
+        rows.extend(long_rows((_name(label),), matrix, nt))
+    rows.extend(long_rows((_name("F(t)"),), step.forcing, nt))
     return tuple(rows)
 
 
@@ -276,7 +285,7 @@ def _(step: VectorForcingStep, nt: Notation) -> tuple[Row, ...]:
         f = _name(f"F_{{{g}}}(t)", f"F_{g}(t)") if many else _name("F(t)")
         lam = _name(rf"\lambda_{{{g}}}", f"lambda_{g}") if many else _name(r"\lambda", "lambda")
         exponent = _e(group.exponent, nt)
-        rows.append(Row((f,), (EQ, _e(group.expr(step.t), nt)), (lam, EQ, exponent)))
+        rows.extend(long_rows((f,), group.expr(step.t), nt, note=(lam, EQ, exponent)))
     return tuple(rows)
 
 
@@ -284,8 +293,9 @@ def _(step: VectorForcingStep, nt: Notation) -> tuple[Row, ...]:
 def _(step: VectorCoefficientEquationsStep, nt: Notation) -> tuple[Row, ...]:
     words = Tex(r"\text{coefficients of }", "coefficients of ")
     return tuple(
-        Row((_e(lhs, nt),), (EQ, _e(rhs, nt)), (words, _e(basis, nt)))
+        row
         for basis, (lhs, rhs) in zip(step.basis, step.equations, strict=True)
+        for row in equation_rows(lhs, rhs, nt, (words, _e(basis, nt)))
     )
 
 
@@ -295,7 +305,7 @@ def _(step: ModesStep, nt: Notation) -> tuple[Row, ...]:
         Row((_name(rf"\omega_{{{i}}}", f"omega_{i}"),), (EQ, _e(sp.sympify(w), nt)))
         for i, w in enumerate(step.frequencies, start=1)
     ]
-    rows.append(Row((_name(r"\Phi", "Phi"),), (EQ, _e(step.shapes, nt))))
+    rows.extend(long_rows((_name(r"\Phi", "Phi"),), step.shapes, nt))
     rows.extend(
         Row((_name(rf"\zeta_{{{i}}}", f"zeta_{i}"),), (EQ, _e(sp.sympify(z), nt)))
         for i, z in enumerate(step.damping_ratios, start=1)

@@ -17,14 +17,20 @@ import sympy as sp
 from sympy.printing.conventions import split_super_sub
 from sympy.printing.latex import translate
 
-from calckit.engine.steps import DerivativesStep, EquationStep, ForcingSplitStep, Step, TrialFormStep
+from calckit.engine.steps import (
+    DerivativesStep,
+    EquationStep,
+    ForcingSplitStep,
+    MatrixEquationStep,
+    Step,
+    TrialFormStep,
+)
 from calckit.errors import SheetError
 
 __all__ = [
     "DERIVATIVE_STYLES",
     "EQ",
     "LEVELS",
-    "LINE_TEXT",
     "NE",
     "SUMMARY_KINDS",
     "Notation",
@@ -97,6 +103,9 @@ class Notation:
         The unknown coefficients of each group's trial form.
     t : sympy.Symbol
         The time variable.
+    sig : int, optional
+        Significant figures for the numbers of a derivation with numeric coefficients
+        (None: exact). Set by :func:`notation` only when the coefficients are numbers.
     """
 
     names: tuple[tuple[str, str], ...] = ()
@@ -107,6 +116,7 @@ class Notation:
     groups: int = 1
     unknowns: tuple[tuple[int, tuple[sp.Symbol, ...]], ...] = ()
     t: sp.Symbol = field(default_factory=lambda: sp.Symbol("t", real=True))
+    sig: int | None = None
 
     @property
     def name_map(self) -> dict[str, str]:
@@ -146,7 +156,11 @@ def _check_names(names) -> tuple[tuple[str, str], ...]:
 
 
 def notation(
-    steps: Iterable[Step] = (), *, names: Mapping | None = None, derivatives: str = "auto"
+    steps: Iterable[Step] = (),
+    *,
+    names: Mapping | None = None,
+    derivatives: str = "auto",
+    sig: int | None = None,
 ) -> Notation:
     """Read what the formulas need from the steps of a derivation.
 
@@ -158,6 +172,10 @@ def notation(
         Extra display names: symbol name (or Symbol) -> LaTeX.
     derivatives : str
         ``"auto"`` (dots up to order 2, primes above), ``"dots"`` or ``"primes"``.
+    sig : int, optional
+        Show the numbers of a derivation whose coefficients are all numbers in
+        decimals to this many significant figures; a symbolic derivation (or
+        None) stays exact. Only what is shown changes: the engine's values are exact.
 
     Examples
     --------
@@ -170,9 +188,15 @@ def notation(
             where="derivatives",
             do='Use "auto", "dots" or "primes"',
         )
+    if sig is not None and (isinstance(sig, bool) or not isinstance(sig, int) or not 1 <= sig <= 15):
+        raise SheetError(
+            f"cannot show {sig!r} significant figures", where="sig", do="Give a whole number from 1 to 15"
+        )
     fields: dict = {"names": _check_names(names), "derivatives": derivatives}
     unknowns = []
+    numeric = sig is not None
     for step in steps:
+        numeric = numeric and _numeric_coefficients(step)
         if isinstance(step, EquationStep):
             fields.update(
                 unknown=step.unknown.name,
@@ -186,7 +210,18 @@ def notation(
             unknowns.append((step.group, tuple(step.unknowns)))
         elif isinstance(step, DerivativesStep) and "order" not in fields:
             fields["order"] = len(step.derivatives)
-    return Notation(unknowns=tuple(unknowns), **fields)
+    return Notation(unknowns=tuple(unknowns), sig=sig if numeric else None, **fields)
+
+
+def _numeric_coefficients(step: Step) -> bool:
+    """False when the step states an equation whose coefficients hold a symbol."""
+    if isinstance(step, EquationStep):
+        return all(sp.sympify(c).is_number for c in step.coefficients)
+    if isinstance(step, MatrixEquationStep):
+        return all(
+            sp.sympify(e).is_number for m in (step.mass, step.damping, step.stiffness) for e in sp.Matrix(m)
+        )
+    return True
 
 
 # ------------------------------------------------------------------ symbols
@@ -274,11 +309,50 @@ NE = Tex(r"\neq", "!=")
 
 
 def _e(expr, nt: Notation) -> Tex:
+    if nt.sig is not None:
+        expr = shown_decimals(expr, nt.sig)
     return Tex(expr_latex(expr, nt.name_map), expr_text(expr))
 
 
-#: typeset characters that fit one printed line of a formula (A4, 10-11 pt)
-LINE_TEXT = 80
+#: integers with more digits than this are shown in decimals with a power of ten
+_LONG_INTEGER = 7
+
+
+def shown_decimals(expr, sig: int = 4):
+    """*expr* as shown on a sheet: every number in decimals to *sig* significant figures.
+
+    Whole numbers up to seven digits and integer powers stay as they are; other
+    numbers, and constant parts such as ``16 sqrt(39) / 5`` or ``148 pi / 3``, become
+    decimals. Only the display changes; use the exact expression for arithmetic.
+
+    Examples
+    --------
+    >>> import sympy as sp
+    >>> t = sp.Symbol("t")
+    >>> shown_decimals(16 * sp.sqrt(39) / 5 * t + sp.cos(3 * t) / 7, 4)
+    19.98*t + 0.1429*cos(3*t)
+    """
+    if isinstance(expr, sp.MatrixBase):
+        return expr.applyfunc(lambda e: shown_decimals(e, sig))
+    if isinstance(expr, (sp.Eq, sp.Ne)):
+        return type(expr)(shown_decimals(expr.lhs, sig), shown_decimals(expr.rhs, sig), evaluate=False)
+    expr = sp.sympify(expr)
+    if not isinstance(expr, sp.Expr):
+        return expr
+    return _decimals(expr, sig)
+
+
+def _decimals(expr: sp.Expr, sig: int) -> sp.Expr:
+    if expr.is_number:
+        if expr.is_Integer and len(str(abs(int(expr)))) <= _LONG_INTEGER:
+            return expr
+        value = sp.N(expr, sig + 3)
+        return value.xreplace({f: sp.Float(f, sig) for f in value.atoms(sp.Float)})
+    if expr.is_Atom:
+        return expr
+    if isinstance(expr, sp.Pow) and expr.exp.is_Integer:
+        return sp.Pow(_decimals(expr.base, sig), expr.exp)
+    return expr.func(*(_decimals(a, sig) for a in expr.args))
 
 
 def _width(expr) -> int:
@@ -295,40 +369,13 @@ def _width(expr) -> int:
         return _width(expr.base) + 2 + (2 if isinstance(expr.base, (sp.Add, sp.Mul)) else 0)
     if isinstance(expr, sp.Function):
         return len(type(expr).__name__) + sum(_width(a) for a in expr.args) + 2
+    if isinstance(expr, sp.MatrixBase):
+        return max((sum(_width(e) + 2 for e in expr.row(i)) for i in range(expr.rows)), default=0) + 2
+    if isinstance(expr, sp.Symbol):
+        return len(symbol_latex(expr.name)) if len(expr.name) < 3 else max(1, len(expr.name) // 2)
+    if isinstance(expr, sp.Float):
+        return len(sp.latex(expr).replace(r"\cdot ", "").replace("{", "").replace("}", "").replace(" ", ""))
     return len(sp.sstr(expr))
-
-
-def _long_rows(lhs: tuple[Tex, ...], expr, nt: Notation) -> tuple[Row, ...]:
-    """``lhs = expr`` as one row, or, when the sum is too wide for a printed line,
-    as rows of whole terms aligned at the equals sign (``= a + b`` / ``+ c + d``)."""
-    whole = _e(expr, nt)
-    if not isinstance(expr, sp.Add) or _width(expr) <= LINE_TEXT:
-        return (Row(lhs, (EQ, whole)),)
-    rows: list[Row] = []
-    chunk_latex: list[str] = []
-    chunk_text: list[str] = []
-    chunk_width = 0
-    for term in expr.as_ordered_terms():
-        negative = term.could_extract_minus_sign()
-        piece = _e(-term if negative else term, nt)
-        sign = "-" if negative else "+"
-        first = not rows and not chunk_latex
-        latex = (f"{sign} " if (negative or not first) else "") + piece.latex
-        text = (f"{sign} " if (negative or not first) else "") + piece.text
-        if chunk_text and chunk_width + _width(term) > LINE_TEXT:
-            relation = (EQ,) if not rows else ()
-            rows.append(
-                Row(lhs if not rows else (), (*relation, Tex(" ".join(chunk_latex), " ".join(chunk_text))))
-            )
-            chunk_latex, chunk_text, chunk_width = [], [], 0
-            if not latex.startswith(("+", "-")):
-                latex, text = "+ " + latex, "+ " + text
-        chunk_latex.append(latex)
-        chunk_text.append(text)
-        chunk_width += _width(term) + 3
-    relation = (EQ,) if not rows else ()
-    rows.append(Row(lhs if not rows else (), (*relation, Tex(" ".join(chunk_latex), " ".join(chunk_text)))))
-    return tuple(rows)
 
 
 def _words(text: str) -> Tex:
@@ -461,6 +508,9 @@ def rows_latex(rows: Sequence[Row], *, brace: bool = False) -> str:
         return line
     lines = []
     for row in rows:
+        if not row.lhs and not row.rhs:  # a note alone sits in the formula's column, adding no width
+            lines.append(f"&{join(row.note)}")
+            continue
         line = f"{join(row.lhs)} &{join(row.rhs)}"
         if row.note:
             line += r" && \qquad " + join(row.note)

@@ -32,7 +32,10 @@ from calckit.sheet.blocks import (
 )
 from calckit.sheet.values import shown_text
 
-__all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block"]
+__all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block", "SHEET_SIG"]
+
+#: significant figures of the numbers in a sheet's numeric derivations (a block may carry its own ``sig``)
+SHEET_SIG = 4
 
 
 def _latex_of(obj: Any) -> str:
@@ -130,7 +133,8 @@ def block_html(block: Any, number: str = "") -> Html:
     if isinstance(block, DerivationBlock):
         from calckit.render.display import derivation_html
 
-        inner = derivation_html(block.derivation, level=block.level)
+        # a numeric derivation is shown in decimals to the sheet's figures; the engine stays exact
+        inner = derivation_html(block.derivation, level=block.level, sig=getattr(block, "sig", SHEET_SIG))
         # the derivation's steps are sub-steps of this sheet step: 3.2.1, 3.2.2, ...
         inner = re.sub(
             r'<span class="number">(\d+)</span>', rf'<span class="number">{number}.\1</span>', inner
