@@ -143,7 +143,10 @@ def _amplitude_check(mv: _Move, results: Mapping[str, float]) -> Check | None:
 
 def _separation_check(mv: _Move, results: Mapping[str, float]) -> Check:
     """``|w / omega_n - 1|`` in percent against the band (common practice, no source)."""
-    separation = speed_separation(mv.base["forcing_frequency"], mv.base["natural_frequency"]) * 100
+    w, w_n = mv.base["forcing_frequency"], mv.base["natural_frequency"]
+    if mv.plan.carry:  # the sheet's separation step takes both frequencies in rad/s as it prints them
+        w, w_n = as_shown(w, mv.plan.carry), as_shown(w_n, mv.plan.carry)
+    separation = speed_separation(w, w_n) * 100
     check = _judge("speed separation", separation, mv.band * 100, ">=", "percent", mv.plan.separation_basis)
     return replace(
         check, shown_value=f"{fmt_number(separation)} %", shown_limit=f"{fmt_number(mv.band * 100)} %"
