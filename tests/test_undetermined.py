@@ -173,7 +173,7 @@ def test_resonance_step_explains_factor_t():
     der = ck.LinearODE([1, 0, 4]).particular(sp.cos(2 * t), t=t)
     (res,) = der.steps_of("resonance")
     assert res.multiplicity == 1
-    assert "simple root" in res.explanation and "multiplied by t" in res.explanation
+    assert "simple root" in res.explanation and "multiplied by $t$" in res.explanation
     (trial,) = der.steps_of("trial-form")
     assert trial.trial.has(t * sp.cos(2 * t))
 

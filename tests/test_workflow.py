@@ -18,7 +18,6 @@ import nbformat
 import pytest
 
 from calckit.core.rounding import as_shown
-
 from calckit.core.units import fmt_number
 from calckit.errors import BuildError, CalcError, CellError, InputsError, OverwriteError
 from calckit.sheet import existing_fingerprint

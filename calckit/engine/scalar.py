@@ -31,7 +31,7 @@ from __future__ import annotations
 
 import sympy as sp
 
-from calckit.engine.algebra import LAMBDA, is_zero, plain, rational_in_symbols, tidy
+from calckit.engine.algebra import LAMBDA, is_zero, rational_in_symbols, tidy
 from calckit.engine.forcing import COS, SIN, ExponentGroup, ForcingSplit, split_forcing
 from calckit.engine.method import GroupSolution, Strategy
 from calckit.engine.steps import (
@@ -101,8 +101,8 @@ class ScalarStrategy(Strategy):
         ode = self.operator
         return CharacteristicStep(
             "Characteristic polynomial",
-            "Substituting x = e^(lambda t) into the homogeneous equation gives the characteristic "
-            "polynomial; its roots decide which trial forms need an extra factor t.",
+            "Substituting $x = e^{\\lambda t}$ into the homogeneous equation gives the characteristic "
+            "polynomial; its roots decide which trial forms need an extra factor $t$.",
             LAMBDA,
             ode.characteristic_polynomial(),
             Deferred(lambda: ode.characteristic_roots() or ())
@@ -147,29 +147,30 @@ def _split_sentence(split: ForcingSplit) -> str:
     n = len(split.groups)
     if n == 1:
         return (
-            "The forcing is one group of terms sharing the exponent lambda = a + i b, "
+            "The forcing is one group of terms sharing the exponent $\\lambda = a + i b$, "
             "so one trial form covers it."
         )
     return (
         f"Products and powers are expanded and the terms sorted into {n} groups by their exponent "
-        "lambda = a + i b; each group gets its own trial form and is solved on its own."
+        "$\\lambda = a + i b$; each group gets its own trial form and is solved on its own."
     )
 
 
 def _resonance_sentence(s: int, group: ExponentGroup) -> str:
     """One plain sentence: is the exponent a root, and what follows."""
-    lam = plain(group.exponent)
+    lam = "$" + sp.latex(group.exponent) + "$"  # sheet text: inline LaTeX between $ signs
+    p_of = "p(" + sp.latex(group.exponent) + ")"
     if s == 0:
         return (
-            f"p({lam}) is not zero: the exponent is not a root of the characteristic polynomial, "
-            "so the trial form needs no extra factor t."
+            f"${p_of}$ is not zero: the exponent is not a root of the characteristic polynomial, "
+            "so the trial form needs no extra factor $t$."
         )
     which = {1: "a simple root", 2: "a double root", 3: "a triple root"}.get(s, f"a root of multiplicity {s}")
     if group.harmonic and group.decay == 0:
         what = "resonance: the forcing is at a natural frequency of the undamped system"
     else:
         what = "the forcing has the shape of a free motion of the system"
-    factor = "t" if s == 1 else f"t^{s}"
+    factor = "$t$" if s == 1 else f"$t^{{{s}}}$"
     return (
         f"The exponent {lam} is {which} of the characteristic polynomial ({what}), "
         f"so the trial form is multiplied by {factor}."
@@ -280,13 +281,13 @@ def _trial_sentence(group: ExponentGroup, s: int, d: int) -> str:
     else:
         shape = "an exponential term" if group.decay != 0 else "a polynomial term"
         assumed = "the same shape"
-    degree = f" multiplied by powers of t up to t^{d}" if d else ""
+    degree = f" multiplied by powers of $t$ up to $t^{{{d}}}$" if d else ""
     text = f"The group holds {shape}{degree}, so {assumed} with unknown coefficients"
     if d:
-        text += f" and every power of t up to t^{d}"
+        text += f" and every power of $t$ up to $t^{{{d}}}$"
     text += " is assumed"
     if s:
-        text += f", multiplied by t{'' if s == 1 else '^' + str(s)} because the exponent is a root"
+        text += f", multiplied by $t{'' if s == 1 else '^{' + str(s) + '}'}$ because the exponent is a root"
     return text + "."
 
 

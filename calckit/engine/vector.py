@@ -128,9 +128,9 @@ class VectorStrategy(Strategy):
                 roots = tuple(sorted(found.items(), key=lambda item: sp.default_sort_key(item[0])))
         return CharacteristicStep(
             "Characteristic polynomial",
-            "Substituting x = phi e^(lambda t) into the free equations gives Z(lambda) phi = 0 with "
-            "Z(lambda) = lambda^2 M + lambda C + K; its determinant p(lambda) = det Z(lambda) vanishes "
-            "at the exponents of free motion, which decide where the trial form needs extra powers of t.",
+            "Substituting $x = \\phi e^{\\lambda t}$ into the free equations gives $Z(\\lambda) \\phi = 0$ with "
+            "$Z(\\lambda) = \\lambda^{2} M + \\lambda C + K$; its determinant $p(\\lambda) = \\det Z(\\lambda)$ "
+            "vanishes at the exponents of free motion, which decide where the trial form needs extra powers of $t$.",
             LAMBDA,
             det,
             roots,
@@ -181,11 +181,11 @@ def _split_sentence(split: VectorForcing) -> str:
         return "There is no forcing, so the particular solution is zero."
     if n == 1:
         return (
-            "Every term of every row shares one exponent lambda = a + i b, so one vector trial form covers "
+            "Every term of every row shares one exponent $\\lambda = a + i b$, so one vector trial form covers "
             "the whole forcing vector."
         )
     return (
-        f"The terms of all rows are expanded and sorted into {n} groups by their exponent lambda = a + i b; "
+        f"The terms of all rows are expanded and sorted into {n} groups by their exponent $\\lambda = a + i b$; "
         "each group gets its own vector trial form (one set of unknowns per coordinate) and is solved on its own."
     )
 

@@ -65,7 +65,7 @@ from calckit.render.latex import (
     step_rows,
     steps_at,
 )
-from calckit.render.page import Html, escape, math_block, math_inline
+from calckit.render.page import Html, math_block, math_inline, prose, prose_parts, prose_text
 
 __all__ = [
     "Block",
@@ -213,8 +213,11 @@ def _braced(step: Step) -> bool:
 
 
 def _latex_text(text: str) -> str:
-    """Text placed around math in text/latex: a dollar sign must not start math."""
-    return text.replace("$", r"\$")
+    """Text placed around math in text/latex: inline ``$...$`` stays math, ``\\$`` a dollar,
+    and a lone ``$`` is escaped so that it cannot start math."""
+    return "".join(
+        f"${piece}$" if is_math else piece.replace("$", r"\$") for is_math, piece in prose_parts(text)
+    )
 
 
 def latex_document(obj: Any, level: str = "full", **options) -> str:
@@ -246,7 +249,10 @@ _MD_SPECIAL = re.compile(r"([\\`*_{}\[\]<>#|$])")
 
 
 def _md(text: str) -> str:
-    return _MD_SPECIAL.sub(r"\\\1", text)
+    """Markdown of sheet text: the prose escaped, each ``$...$`` kept as inline math."""
+    return "".join(
+        f"${piece}$" if is_math else _MD_SPECIAL.sub(r"\\\1", piece) for is_math, piece in prose_parts(text)
+    )
 
 
 def markdown_document(obj: Any, level: str = "full", **options) -> str:
@@ -301,15 +307,15 @@ def html_fragment(obj: Any, level: str = "full", **options) -> Html:
         elif block.role == "note":
             if block.rows:
                 inline = _mathml(math_inline(block.latex))
-                parts.append(f'<p class="note"><strong>{escape(block.title)}:</strong> {inline}</p>')
+                parts.append(f'<p class="note"><strong>{prose(block.title)}:</strong> {inline}</p>')
             else:
-                parts.append(f'<p class="note"><em>{escape(block.title)}</em></p>')
+                parts.append(f'<p class="note"><em>{prose(block.title)}</em></p>')
         else:
             number = "" if block.number is None else f'<span class="number">{block.number}</span> '
             data = "" if block.number is None else f' data-step="{block.number}"'
             parts.append(
-                f'<section class="step"{data}><h3>{number}{escape(block.title)}</h3>'
-                f"<p>{escape(block.sentence)}</p>{math}</section>"
+                f'<section class="step"{data}><h3>{number}{prose(block.title)}</h3>'
+                f"<p>{prose(block.sentence)}</p>{math}</section>"
             )
     parts.append("</div>")
     return Html("\n".join(parts))
@@ -333,9 +339,13 @@ def plain_text(obj: Any, level: str = "full", *, width: int = 88, **options) -> 
         if block.role == "formula":
             lines.append(rows_text(block.rows))
             continue
-        lines.append(block.heading)
+        lines.append(prose_text(block.heading))
         if block.sentence:
-            lines.append(textwrap.fill(block.sentence, width, initial_indent="   ", subsequent_indent="   "))
+            lines.append(
+                textwrap.fill(
+                    prose_text(block.sentence), width, initial_indent="   ", subsequent_indent="   "
+                )
+            )
         if block.rows:
             lines.append(rows_text(block.rows, indent="     "))
     return "\n".join(lines)

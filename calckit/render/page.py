@@ -20,6 +20,7 @@ True
 from __future__ import annotations
 
 import html
+import re
 from collections.abc import Iterable, Sequence
 
 from calckit.errors import SheetError
@@ -32,6 +33,9 @@ __all__ = [
     "html_page",
     "math_block",
     "math_inline",
+    "prose",
+    "prose_parts",
+    "prose_text",
     "section",
     "table",
 ]
@@ -174,6 +178,94 @@ def math_inline(latex: str) -> Html:
     return Html(f'<span class="math-inline">{latex_to_mathml(latex, display=False)}</span>')
 
 
+_PROSE_MATH = re.compile(r"(?<!\\)\$((?:[^$\\]|\\.)+?)(?<!\\)\$", re.DOTALL)
+
+
+def prose_parts(text: str) -> list[tuple[bool, str]]:
+    r"""Sheet text split into (is_math, piece): inline LaTeX lies between single ``$``.
+
+    A literal dollar is written ``\$``; a ``$`` with no partner stays text.
+
+    Examples
+    --------
+    >>> prose_parts(r"Put $x = e^{\lambda t}$ in; costs \$5")
+    [(False, 'Put '), (True, 'x = e^{\\lambda t}'), (False, ' in; costs $5')]
+    """
+    parts: list[tuple[bool, str]] = []
+    position = 0
+    for match in _PROSE_MATH.finditer(text):
+        if match.start() > position:
+            parts.append((False, text[position : match.start()]))
+        parts.append((True, match.group(1)))
+        position = match.end()
+    if position < len(text):
+        parts.append((False, text[position:]))
+    return [(is_math, piece if is_math else piece.replace(r"\$", "$")) for is_math, piece in parts]
+
+
+def prose(text: object) -> Html:
+    r"""Sheet text as HTML: the prose escaped, each ``$...$`` as inline MathML.
+
+    :class:`Html` passes through unchanged.
+
+    Raises
+    ------
+    calckit.errors.SheetError
+        The LaTeX between two ``$`` cannot be converted; the message names it.
+
+    Examples
+    --------
+    >>> "<math" in prose(r"The roots of $p(\lambda)$ are simple.")
+    True
+    >>> prose(r"No maths, \$20.")
+    'No maths, $20.'
+    """
+    if isinstance(text, Html):
+        return text
+    out = []
+    for is_math, piece in prose_parts(str(text)):
+        if is_math:
+            out.append(_strip_namespace(math_inline(piece)))
+        else:
+            out.append(escape(piece))
+    return Html("".join(out))
+
+
+def prose_text(text: str) -> str:
+    r"""Sheet text as plain text: the ``$`` delimiters dropped, the LaTeX spelled plainly.
+
+    Examples
+    --------
+    >>> prose_text(r"Put $x = e^{\lambda t}$ in; \$5")
+    'Put x = e^(lambda t) in; $5'
+    """
+    return "".join(_plain_math(piece) if is_math else piece for is_math, piece in prose_parts(text))
+
+
+def _plain_math(latex: str) -> str:
+    """Inline LaTeX read aloud in plain text: ``e^{\\lambda t}`` -> ``e^(lambda t)``."""
+    text = re.sub(r"\\(?:left|right|,|;|!)", "", latex)
+    text = re.sub(
+        r"\\(sqrt|operatorname)\{([^{}]*)\}",
+        lambda m: (
+            ("sqrt" if m.group(1) == "sqrt" else "") + f"({m.group(2)})"
+            if m.group(1) == "sqrt"
+            else m.group(2)
+        ),
+        text,
+    )
+    text = re.sub(r"\\([A-Za-z]+)", r"\1", text)
+    text = re.sub(
+        r"\^\{([^{}]*)\}", lambda m: "^" + (m.group(1) if len(m.group(1)) == 1 else f"({m.group(1)})"), text
+    )
+    return text.replace("{", "").replace("}", "")
+
+
+def _strip_namespace(markup: str) -> str:
+    """MathML inside HTML5 needs no namespace: drop it, so the page names no address."""
+    return markup.replace(' xmlns="http://www.w3.org/1998/Math/MathML"', "")
+
+
 def table(headers: Sequence[object], rows: Iterable[Sequence[object]], *, cls: str | None = None) -> Html:
     """A table with one header row; cells that are not :class:`Html` are escaped.
 
@@ -191,7 +283,7 @@ def table(headers: Sequence[object], rows: Iterable[Sequence[object]], *, cls: s
     >>> table(["Input", "Value"], [["m", "12 kg"]])
     '<table><thead><tr><th>Input</th><th>Value</th></tr></thead><tbody><tr><td>m</td><td>12 kg</td></tr></tbody></table>'
     """
-    head = "".join(f"<th>{escape(h)}</th>" for h in headers)
+    head = "".join(f"<th>{prose(h)}</th>" for h in headers)
     body = []
     for index, row in enumerate(rows, start=1):
         cells = list(row)
@@ -201,7 +293,7 @@ def table(headers: Sequence[object], rows: Iterable[Sequence[object]], *, cls: s
                 where="table",
                 do="Give every row one cell per heading",
             )
-        body.append("<tr>" + "".join(f"<td>{escape(c)}</td>" for c in cells) + "</tr>")
+        body.append("<tr>" + "".join(f"<td>{prose(c)}</td>" for c in cells) + "</tr>")
     attr = f' class="{escape(cls)}"' if cls else ""
     return Html(f"<table{attr}><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>")
 
@@ -218,7 +310,7 @@ def section(number: object, title: str, inner_html: str) -> Html:
     anchor = "section-" + "-".join(str(number).split("."))
     return Html(
         f'<section class="section" id="{escape(anchor)}">'
-        f'<h2><span class="number">{num}</span> {escape(title)}</h2>{inner_html}</section>'
+        f'<h2><span class="number">{num}</span> {prose(title)}</h2>{inner_html}</section>'
     )
 
 

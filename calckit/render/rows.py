@@ -368,4 +368,4 @@ def _(step: ContinuityStep, nt: Notation) -> tuple[Row, ...]:
 
 @step_rows.register
 def _(step: PiecewiseSolutionStep, nt: Notation) -> tuple[Row, ...]:
-    return _long_rows((_derivative(nt, 0, None, "t"),), step.solution, nt)
+    return long_rows((_derivative(nt, 0, None, "t"),), step.solution, nt)

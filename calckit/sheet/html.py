@@ -17,7 +17,17 @@ from typing import Any
 import sympy as sp
 
 from calckit._version import __version__
-from calckit.render.page import SHEET_CSS, Html, escape, html_page, math_block, math_inline, section, table
+from calckit.render.page import (
+    SHEET_CSS,
+    Html,
+    escape,
+    html_page,
+    math_block,
+    math_inline,
+    prose,
+    section,
+    table,
+)
 from calckit.sheet.blocks import (
     RELATIONS,
     CalcStep,
@@ -91,11 +101,11 @@ def _check_rows(checks: list[Check]) -> list[list[Any]]:
 def _step_html(
     number: str, title: str, latex: str, reference: str, working: Any = None, extra: str = ""
 ) -> Html:
-    ref = extra + (f'<p class="step-ref">Reference: {escape(reference)}</p>' if reference else "")
+    ref = extra + (f'<p class="step-ref">Reference: {prose(reference)}</p>' if reference else "")
     if working is not None:
-        ref = f'<p class="step-working"><em>{escape(working.label)}:</em> {escape(working.text)}</p>' + ref
+        ref = f'<p class="step-working"><em>{escape(working.label)}:</em> {prose(working.text)}</p>' + ref
     heading = (
-        f'<h3><span class="number">{escape(number)}</span> {escape(title)}</h3>'
+        f'<h3><span class="number">{escape(number)}</span> {prose(title)}</h3>'
         if title
         else (f'<h3><span class="number">{escape(number)}</span></h3>')
     )
@@ -143,15 +153,15 @@ def block_html(block: Any, number: str = "") -> Html:
         verdict = "verified by substitution" if block.derivation.verified else "NOT verified"
         return Html(
             f'<div class="derivation"><h3><span class="number">{escape(number)}</span> '
-            f'{escape(block.title)} <span class="tag">({verdict})</span></h3>{inner}</div>'
+            f'{prose(block.title)} <span class="tag">({verdict})</span></h3>{inner}</div>'
         )
     if isinstance(block, Figure):
         return Html(
             f'<figure class="figure">{block.svg}<figcaption>Figure {escape(number)}. '
-            f"{escape(block.caption)}</figcaption></figure>"
+            f"{prose(block.caption)}</figcaption></figure>"
         )
     if isinstance(block, TableBlock):
-        caption = f'<p class="table-caption">Table {escape(number)}. {escape(block.caption)}</p>'
+        caption = f'<p class="table-caption">Table {escape(number)}. {prose(block.caption)}</p>'
         return Html(f'<div class="table-block">{caption}{table(block.headers, block.rows)}</div>')
     if isinstance(block, Check):
         return table(
@@ -161,7 +171,7 @@ def block_html(block: Any, number: str = "") -> Html:
         )
     if isinstance(block, TextBlock):
         return Html(
-            f'<p class="{escape(block.kind)}"><em>{escape(block.kind.capitalize())}:</em> {escape(block.text)}</p>'
+            f'<p class="{escape(block.kind)}"><em>{escape(block.kind.capitalize())}:</em> {prose(block.text)}</p>'
         )
     raise TypeError(f"no HTML for {type(block).__name__}")
 
@@ -224,7 +234,7 @@ def _summary(sheet: Any) -> Html:
 def _caution(sheet: Any) -> Html:
     if not sheet.caution:
         return Html("")
-    return Html(f'<div class="caution">{escape(sheet.caution)}</div>')
+    return Html(f'<div class="caution">{prose(sheet.caution)}</div>')
 
 
 def _signoff(sheet: Any) -> Html:
@@ -258,7 +268,7 @@ def _body(sheet: Any) -> Html:
     assumptions = [b for b in sheet.of_type(TextBlock) if b.kind == "assumption"]
     if assumptions:
         next_section(
-            "Assumptions", "<ol>" + "".join(f"<li>{escape(b.text)}</li>" for b in assumptions) + "</ol>"
+            "Assumptions", "<ol>" + "".join(f"<li>{prose(b.text)}</li>" for b in assumptions) + "</ol>"
         )
     calc_blocks = [
         b
@@ -297,11 +307,11 @@ def _body(sheet: Any) -> Html:
     references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
     if references:
         next_section(
-            "References", "<ol>" + "".join(f"<li>{escape(b.text)}</li>" for b in references) + "</ol>"
+            "References", "<ol>" + "".join(f"<li>{prose(b.text)}</li>" for b in references) + "</ol>"
         )
     notes = [b for b in sheet.of_type(TextBlock) if b.kind == "note"]
     if notes:
-        next_section("Notes", "".join(f"<p>{escape(b.text)}</p>" for b in notes))
+        next_section("Notes", "".join(f"<p>{prose(b.text)}</p>" for b in notes))
     parts.append(_signoff(sheet))
     parts.append(
         Html(
