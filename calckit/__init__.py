@@ -39,7 +39,15 @@ _PUBLIC = {
         "speed_separation", "STANDARD_GRAVITY", "static_deflection",
         "DEFAULT_SEPARATION_REFERENCE", "SEPARATION_REFERENCES", "separation_basis", "separation_formula",
         "AbsorberResponse", "absorber_response", "AbsorberTuning", "equal_peak_tuning",
-        "excitation", "fourier", "harmonic",  # modules exported by name (``ck.harmonic.magnification``)
+        "excitation", "fourier", "harmonic", "pulses",  # modules exported by name (``ck.harmonic.magnification``)
+    ),
+    "calckit.physics.absorber": ("equal_peak_tuning",),
+    "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
+    "calckit.physics.shock": ("record_spectrum",),
+    "calckit.physics.spectrum": ("log_frequencies", "ShockSpectrum"),
+    "calckit.physics.pulses": (
+        "half_sine", "initial_peak_sawtooth", "ramp_and_hold", "rectangular", "repeated", "terminal_peak_sawtooth",
+        "trapezoid", "triangle", "versed_sine",
     ),
     "calckit.render.display": ("show",),
     "calckit.render.numbers": ("put_through", "Substitution"),
