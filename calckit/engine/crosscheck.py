@@ -84,6 +84,11 @@ class PeakComparison:
         return bool(self.agreement <= self.tolerance)
 
     @property
+    def method(self) -> str:
+        """The solver's name and method, without the settings that scale with the case."""
+        return f"method {INTEGRATION_METHOD}, rtol {self.rtol:g}"
+
+    @property
     def procedure(self) -> str:
         """The numerical procedure and its settings, in one line a checker can repeat."""
         return (
