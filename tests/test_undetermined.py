@@ -59,6 +59,17 @@ CORPUS = [
     ("symbolic decay", [m, c, k], P * sp.exp(-t / tau), None),
     ("30-term sum", [2, sp.Rational(3, 10), 50], sum(sp.cos(i * t) / i for i in range(1, 31)), None),
     ("mixed issue example", [m, c, k], A * sp.cos(w * t) + a * t**2 + P * sp.exp(-t / tau), None),
+    # Square roots of rationals: the multiplicity test must know sqrt(3)**2 = 3, sqrt(12) = 2 sqrt(3)
+    # and sqrt(6) = sqrt(2) sqrt(3), or it misses the resonance (then the check by substitution fails).
+    # x'' + 3x = cos(sqrt(3) t): x_p = t sin(sqrt(3) t) / (2 sqrt(3)), the modification rule by hand
+    ("resonance at sqrt(3)", [1, 0, 3], sp.cos(sp.sqrt(3) * t), t * sp.sin(sp.sqrt(3) * t) / (2 * sp.sqrt(3))),
+    # (D^2 + 3)^2 x = cos(sqrt(3) t): double root; x_p = -t^2 cos(sqrt(3) t) / 24 (worked by hand:
+    # t^2 (A cos + B sin) substituted, 8 (sqrt 3)^2 A = -1 ... gives A = -1/24, B = 0)
+    ("double resonance at sqrt(3)", [1, 0, 6, 0, 9], sp.cos(sp.sqrt(3) * t), -t**2 * sp.cos(sp.sqrt(3) * t) / 24),
+    # x'' + 6x forced at sqrt(2) sqrt(3) = sqrt(6): resonance only if the relation is known
+    ("resonance at sqrt(2) sqrt(3)", [1, 0, 6], sp.sin(sp.sqrt(2) * sp.sqrt(3) * t) + sp.cos(sp.sqrt(6) * t), None),
+    ("surds in the coefficients", [2, sp.sqrt(3), 5], sp.cos(sp.sqrt(12) * t) / sp.sqrt(3), None),
+    ("reciprocal surd resonance", [3, 0, 1], sp.cos(t / sp.sqrt(3)) + t * sp.sin(3 ** sp.Rational(-1, 2) * t), None),
 ]
 
 

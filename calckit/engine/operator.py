@@ -146,10 +146,10 @@ class LinearODE:
         except FIELD_ERRORS:
             return None
         s = 0
-        while s < self.order and taylor[s][0] == 0 and taylor[s][1] == 0:
+        while s < self.order and field.is_zero(taylor[s][0]) and field.is_zero(taylor[s][1]):
             s += 1
         re0, im0 = taylor[0]
-        value = sp.expand(re0.as_expr() + sp.I * im0.as_expr())
+        value = sp.expand(field.as_expr(re0) + sp.I * field.as_expr(im0))
         return s, value
 
     def apply(self, x: sp.Expr, t: sp.Symbol) -> sp.Expr:

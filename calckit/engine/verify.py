@@ -140,7 +140,10 @@ def shift_rule_satisfies(ode, x_parts: dict, f_parts: dict) -> bool:
                 derivative = [(n * derivative[n][0], n * derivative[n][1]) for n in range(1, len(derivative))]
                 if not derivative:
                     break
-            if any(l_n[0] != f_n[0] or l_n[1] != f_n[1] for l_n, f_n in zip(lhs, target, strict=True)):
+            if not all(
+                conv.is_zero(l_n[0] - f_n[0]) and conv.is_zero(l_n[1] - f_n[1])
+                for l_n, f_n in zip(lhs, target, strict=True)
+            ):
                 return False
     except FIELD_ERRORS:
         return False
