@@ -454,3 +454,44 @@ class TestDefectOfCalckit:
         der = namespace["der"]
         # checked by sympy alone, outside the engine
         assert residual([m_, c_, 3], der.solution, t * sp.exp(-2 * t)) == 0
+
+
+class TestPhaseOffsets:
+    """A forcing with a phase offset keeps it in the answer: ``sin(t - 2)``, not ``sin 2 sin t ...``."""
+
+    CASES = [
+        ([1, 1, 4], sp.sin(t - 2)),
+        ([1, 1, 4], sp.cos(3 * t + sp.pi / 7) + t * sp.sin(3 * t + sp.pi / 7)),
+        ([m, c, k], P * sp.cos(w * t - a)),
+        ([1, 0, 1], sp.cos(t + 1)),  # resonance with a phase: t sin(t + 1) / 2
+    ]
+
+    @pytest.mark.parametrize("coeffs, f", CASES)
+    def test_compact_and_agrees_with_dsolve(self, coeffs, f):
+        """The phase appears as written, no sin/cos of the bare phase is left, and dsolve agrees."""
+        der = ck.LinearODE(coeffs).particular(f, t=t)
+        (arg,) = {fn.args[0] for fn in f.atoms(sp.sin, sp.cos)}
+        phase = arg.subs(t, 0)
+        assert der.solution.has(arg)
+        assert not der.solution.has(sp.sin(phase), sp.cos(phase), sp.sin(-phase), sp.cos(-phase))
+        assert residual(coeffs, der.solution, f) == 0
+        # sympy.dsolve, hint nth_linear_constant_coeff_undetermined_coefficients (outside reference):
+        # the two particular solutions differ by a solution of the homogeneous equation
+        x = sp.Function("x")
+        n = len(coeffs) - 1
+        ode = sp.Eq(sum(cf * x(t).diff(t, n - i) for i, cf in enumerate(coeffs)), f)
+        theirs = sp.dsolve(ode, x(t), hint="nth_linear_constant_coeff_undetermined_coefficients").rhs
+        theirs = theirs.subs({s: 0 for s in theirs.free_symbols if s.name.startswith("C")})
+        assert residual(coeffs, sp.expand_trig(der.solution - theirs), 0) == 0
+
+    def test_resonant_phase_form(self):
+        """x'' + x = cos(t + 1): x_p = t sin(t + 1) / 2 (the modification rule, worked by hand)."""
+        der = ck.LinearODE([1, 0, 1]).particular(sp.cos(t + 1), t=t)
+        assert sp.simplify(der.solution - t * sp.sin(t + 1) / 2) == 0
+        assert der.solution.has(sp.sin(t + 1))
+
+    def test_two_phases_at_one_frequency_left_expanded(self):
+        """Two different phases at one frequency have no single rotation: the form is left as derived."""
+        f = sp.sin(t - 2) + sp.cos(t + 1)
+        der = ck.LinearODE([1, 1, 4]).particular(f, t=t)
+        assert residual([1, 1, 4], der.solution, f) == 0

@@ -32,6 +32,7 @@ from dataclasses import dataclass
 import sympy as sp
 
 from calckit.engine.derivation import Derivation, LinearOperator
+from calckit.engine.phase import compact_phases
 from calckit.engine.roots import normal_conditions
 from calckit.engine.steps import ParticularSolutionStep, Step
 from calckit.engine.verify import verification_step
@@ -166,7 +167,7 @@ def derive(strategy: Strategy, forcing, t: sp.Symbol | None = None) -> Derivatio
         parts.append(solved.part)
         steps.extend(solved.steps)
         conditions.extend(c for c in solved.conditions if c not in conditions)
-    solution = strategy.combine(parts)
+    solution = compact_phases(strategy.combine(parts), split.forcing, t)  # sin(t - 2) stays in its phase
     steps.append(particular_step(solution, t, many))
     verified, residual = strategy.check(solution, split)
     steps.append(
