@@ -495,3 +495,34 @@ class TestPhaseOffsets:
         f = sp.sin(t - 2) + sp.cos(t + 1)
         der = ck.LinearODE([1, 1, 4]).particular(f, t=t)
         assert residual([1, 1, 4], der.solution, f) == 0
+
+
+class TestRadicalsCleared:
+    """Numeric coefficients with radicals are written without a radical in the denominator."""
+
+    CASES = [
+        ([1, sp.sqrt(2), 3], sp.cos(sp.sqrt(2) * t) + sp.exp(-sp.sqrt(3) * t)),
+        ([1, sp.sqrt(2) + 1, 1], sp.cos(t) + 1),
+    ]
+
+    @pytest.mark.parametrize("coeffs, f", CASES)
+    def test_no_radical_below(self, coeffs, f):
+        """Each term's numeric factor has a rational denominator, and the answer still satisfies the equation."""
+        der = ck.LinearODE(coeffs).particular(f, t=t)
+        assert residual(coeffs, der.solution, f) == 0
+        for term in sp.Add.make_args(der.solution):
+            number = term.as_independent(t, as_Add=False)[0]
+            assert sp.fraction(sp.together(number))[1].is_Rational, term
+
+    def test_transient_cleared(self):
+        """The constants of the free motion are rationalised too (checked against sympy.dsolve with ics)."""
+        x = sp.Function("x")
+        f = sp.exp(-sp.sqrt(3) * t)
+        res = ck.LinearODE([1, sp.sqrt(2), 3]).response(f, [1, 0], t=t)
+        theirs = sp.dsolve(
+            sp.Eq(x(t).diff(t, 2) + sp.sqrt(2) * x(t).diff(t) + 3 * x(t), f), x(t), ics={x(0): 1, x(t).diff(t).subs(t, 0): 0}
+        ).rhs
+        assert sp.simplify(sp.expand(res.solution - theirs)) == 0
+        for term in sp.Add.make_args(res.transient):
+            number = term.as_independent(t, as_Add=False)[0]
+            assert sp.fraction(sp.together(number))[1].is_Rational, term

@@ -22,6 +22,7 @@ __all__ = [
     "is_zero",
     "plain",
     "rational_in_symbols",
+    "rationalised",
     "real_imag",
     "tidy",
 ]
@@ -180,6 +181,40 @@ def complex_taylor(field: FreeField, coefficients, lam) -> list:
         out.append(quotient.pop())
         coeffs = quotient
     return out
+
+
+def rationalised(expr):
+    """*expr* with each numeric coefficient's radicals cleared from its denominator.
+
+    ``exp(-sqrt(3) t)/(6 - sqrt(6))`` becomes ``(sqrt(6) + 6) exp(-sqrt(3) t)/30`` and
+    ``-sin(t)/(-sqrt(2) - 1)`` becomes ``(-1 + sqrt(2)) sin(t)``: the form an engineer
+    reads (``sympy.radsimp``, exact). Coefficients with symbols, matrices and anything
+    that is not a sum of terms are left as they are.
+
+    >>> t = sp.Symbol("t")
+    >>> rationalised(sp.exp(-t) / (6 - sp.sqrt(6)))
+    (sqrt(6) + 6)*exp(-t)/30
+    """
+    if not isinstance(expr, sp.Expr):
+        return expr
+    terms = []
+    changed = False
+    for term in sp.Add.make_args(expr):
+        number, rest = term.as_independent(*term.free_symbols, as_Add=False) if term.free_symbols else (term, sp.S.One)
+        if number.is_number and any(
+            p.exp.is_Rational and not p.exp.is_Integer for p in number.atoms(sp.Pow)
+        ) and _radical_below(number):
+            tidy_number = sp.radsimp(number)
+            if sp.count_ops(tidy_number) <= sp.count_ops(number) + 2:
+                number, changed = tidy_number, True
+        terms.append(number * rest)
+    return sp.Add(*terms) if changed else expr
+
+
+def _radical_below(number) -> bool:
+    """Whether a radical sits in the denominator of *number*."""
+    _, den = sp.fraction(sp.together(number))
+    return any(p.exp.is_Rational and not p.exp.is_Integer for p in sp.sympify(den).atoms(sp.Pow))
 
 
 def _pick_simplest(*candidates: sp.Expr) -> sp.Expr:

@@ -31,6 +31,7 @@ from dataclasses import dataclass
 
 import sympy as sp
 
+from calckit.engine.algebra import rationalised
 from calckit.engine.derivation import Derivation, LinearOperator
 from calckit.engine.phase import compact_phases
 from calckit.engine.roots import normal_conditions
@@ -167,7 +168,8 @@ def derive(strategy: Strategy, forcing, t: sp.Symbol | None = None) -> Derivatio
         parts.append(solved.part)
         steps.extend(solved.steps)
         conditions.extend(c for c in solved.conditions if c not in conditions)
-    solution = compact_phases(strategy.combine(parts), split.forcing, t)  # sin(t - 2) stays in its phase
+    # sin(t - 2) stays in its phase; no radical left below a numeric coefficient
+    solution = rationalised(compact_phases(strategy.combine(parts), split.forcing, t))
     steps.append(particular_step(solution, t, many))
     verified, residual = strategy.check(solution, split)
     steps.append(

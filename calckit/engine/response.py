@@ -16,7 +16,7 @@ import sympy as sp
 
 from calckit.core.display import Displayable
 from calckit.core.exact import exact
-from calckit.engine.algebra import is_zero, plain, real_imag, tidy
+from calckit.engine.algebra import is_zero, plain, rationalised, real_imag, tidy
 from calckit.engine.derivation import Derivation, ScalarOperator
 from calckit.engine.roots import (
     NROOTS_DIGITS,
@@ -212,7 +212,7 @@ def total_response(
         for c, v in zip(constants, solved, strict=True)
     )
     mapping = dict(found)
-    transient = transient_general.xreplace(mapping)
+    transient = rationalised(transient_general.xreplace(mapping))
     labels = ["x(0)", "x'(0)", "x''(0)"] + [f"x^({j})(0)" for j in range(3, n)]
     ic_step = InitialConditionsStep(
         "Constants from the initial state",
