@@ -20,10 +20,11 @@ _NAMES = {
     "check_margin": "calckit.sheet.blocks",
     "RECORD_VERSION": "calckit.sheet.record",
     "SheetRecord": "calckit.sheet.record",
-    "existing_fingerprint": "calckit.sheet.record",
+    "existing_fingerprint": "calckit.sheet.record_reading",
     "OutputUnits": "calckit.sheet.output_units",
     "apply_units": "calckit.sheet.output_units",
-    "read_record": "calckit.sheet.record",
+    "read_record": "calckit.sheet.record_reading",
+    "record_from_dict": "calckit.sheet.record_reading",
     "Sheet": "calckit.sheet.sheet",
     "in_kernel": "calckit.sheet.sheet",
 }

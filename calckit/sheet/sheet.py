@@ -59,7 +59,8 @@ from calckit.sheet.blocks import (
 )
 from calckit.sheet.checking import acceptance_check, separation_percent
 from calckit.sheet.output_units import OutputUnits, apply_units
-from calckit.sheet.record import SheetRecord, existing_fingerprint, record_of
+from calckit.sheet.record import SheetRecord, record_of
+from calckit.sheet.record_reading import existing_fingerprint
 from calckit.sheet.steps import Steps
 from calckit.sheet.values import check_name, exact_text, figure_svg, shown_text, si_value, symbol_latex
 from calckit.sheet.working import conversion_formula, rounding_policy

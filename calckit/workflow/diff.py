@@ -38,7 +38,7 @@ from pathlib import Path
 from typing import Any
 
 from calckit.errors import InputsError
-from calckit.sheet import SheetRecord, existing_fingerprint
+from calckit.sheet import existing_fingerprint, record_from_dict
 from calckit.workflow.diff_text import (
     limit_text,
     number,
@@ -430,7 +430,7 @@ def load_built_record(path: str | os.PathLike) -> dict:
                 where=str(html),
                 do="Rebuild the sheet: the HTML and its .json record come from different builds",
             )
-    data = SheetRecord.from_dict(data, where=str(record_path)).to_dict()  # version, fields and seal checked
+    data = record_from_dict(data, str(record_path)).to_dict()  # version, fields and seal checked
     data.setdefault("_source", str(record_path))
     return data
 
@@ -487,7 +487,9 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
             ta, tb = (a or {}).get("text"), (b or {}).get("text")
             if ta != tb or (a is None) != (b is None):
                 label = result_label(a, b, name)
-                results.append(ResultMove(name, None, None, "", None, text_or_absent(a), text_or_absent(b), label))
+                results.append(
+                    ResultMove(name, None, None, "", None, text_or_absent(a), text_or_absent(b), label)
+                )
             continue
         if not _moved(va, vb):
             continue
