@@ -9,9 +9,30 @@ what-if explorer all round through :func:`as_shown`, so they agree to the last d
 from __future__ import annotations
 
 import math
+from decimal import ROUND_HALF_UP, Decimal
 from typing import Any
 
-__all__ = ["as_shown"]
+__all__ = ["as_shown", "rounded_decimal"]
+
+
+def rounded_decimal(x: float, sig: int) -> Decimal:
+    """*x* to *sig* significant figures as a Decimal, halves away from zero on the decimal Python prints.
+
+    The float's shortest decimal (``repr``) is what a checker sees and rounds by hand, so
+    ``1.2345`` becomes ``1.235`` (rounding the binary value, ``1.23449999...``, would give
+    ``1.234``).
+
+    >>> rounded_decimal(1.2345, 4), rounded_decimal(-2.5, 1), rounded_decimal(19.7323, 4)
+    (Decimal('1.235'), Decimal('-3'), Decimal('19.73'))
+    """
+    d = Decimal(repr(float(x)))
+    if d == 0:
+        return Decimal(0)
+    quantum = Decimal(1).scaleb(d.adjusted() - sig + 1)
+    out = d.quantize(quantum, rounding=ROUND_HALF_UP)
+    if out.adjusted() > d.adjusted():  # 9.9995 -> 10.00: one figure too many
+        out = d.quantize(quantum * 10, rounding=ROUND_HALF_UP)
+    return out
 
 
 def as_shown(value: Any, sig: int | None = 4) -> Any:
@@ -31,5 +52,5 @@ def as_shown(value: Any, sig: int | None = 4) -> Any:
     units = getattr(value, "units", None)
     magnitude = float(value.magnitude if units is not None else value)
     if math.isfinite(magnitude):
-        magnitude = float(f"{magnitude:.{sig}g}")
+        magnitude = float(rounded_decimal(magnitude, sig))
     return type(value)(magnitude, units) if units is not None else magnitude

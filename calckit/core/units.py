@@ -51,6 +51,7 @@ import pint
 import sympy as sp
 
 from calckit.core.exact import exact as _exact
+from calckit.core.rounding import rounded_decimal
 from calckit.errors import UnitsError
 
 __all__ = [
@@ -533,10 +534,11 @@ def fmt_number(x: Any, sig: int = 4) -> str:
         return str(x)
     if x == 0:
         return "0"
-    mantissa, _, exponent_text = f"{x:.{sig - 1}e}".partition("e")  # rounds to sig figures
+    rounded = rounded_decimal(x, sig)  # halves away from zero, as the sheet's policy states
+    mantissa, _, exponent_text = f"{rounded:.{sig - 1}e}".partition("e")
     exponent = int(exponent_text)
     if -3 <= exponent < 6:
-        text = f"{float(mantissa + 'e' + exponent_text):.{max(sig - 1 - exponent, 0)}f}"
+        text = f"{rounded:.{max(sig - 1 - exponent, 0)}f}"
         return text.rstrip("0").rstrip(".") if "." in text else text
     if "." in mantissa:
         mantissa = mantissa.rstrip("0").rstrip(".")
