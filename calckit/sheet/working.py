@@ -114,8 +114,8 @@ def require_working(name: str, working: Working | None) -> Working:
 def rounding_policy(sig: int) -> str:
     """The sheet's one rounding policy, as its assumptions state it."""
     return (
-        f"Rounding: every result is shown to {sig} significant figures (halves away from zero, trailing "
-        "zeros not printed: 3.14 Hz is 3.140 Hz) and a "
+        f"Rounding: every result is shown to {sig} significant figures (halves away from zero; trailing "
+        "zeros are not printed, so 3.14 stands for 3.140) and a "
         "later step takes it as shown, so each substitution can be redone by hand from the printed "
         "values to the last digit shown; speeds and frequencies are converted to rad/s in a step of "
         "their own before they enter a formula."
