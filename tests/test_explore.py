@@ -557,7 +557,7 @@ class TestIsolators:
         assert verdict == "not met" and margin == pytest.approx(separation - 20, rel=1e-9)  # points
         bases = {c.name: c.basis for c in iso.results.checks}
         assert bases["frequency ratio for isolation"] == (
-            "common practice, no source: isolation needs r > sqrt(2), usually r >= 3"
+            r"common practice, no source: isolation needs $r > \sqrt{2}$, usually $r \ge 3$"
         )
         assert bases["speed separation"].startswith(
             "common practice, no source: keep the operating frequency"

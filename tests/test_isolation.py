@@ -176,7 +176,7 @@ class TestCriteria:
         20 % against the mode (hand-worked); the choice is printed in the basis; an unknown one refused."""
         assert speed_separation(80.0, 100.0, relative_to="operating speed") == pytest.approx(0.25, rel=1e-12)
         assert separation_basis("operating speed").endswith(
-            "separation measured relative to the operating speed, |omega_n / Omega - 1|"
+            r"separation measured relative to the operating speed, $|\omega_n / \Omega - 1|$"
         )
         with pytest.raises(InputsError) as err:
             speed_separation(80.0, 100.0, relative_to="speed")
@@ -199,11 +199,11 @@ class TestCriteria:
         """+/-20 % and r >= 3 (common practice, no source), with their bases in words."""
         assert SEPARATION_BAND == 0.20 and LEAST_ISOLATION_RATIO == 3.0
         assert SEPARATION_BASIS == (
-            "common practice, no source: keep the operating frequency outside about +/-20 % of a natural "
-            "frequency; separation measured relative to the natural frequency, |Omega / omega_n - 1|"
+            r"common practice, no source: keep the operating frequency outside about $\pm 20$ % of a natural "
+            r"frequency; separation measured relative to the natural frequency, $|\Omega / \omega_n - 1|$"
         )
         assert (
-            ISOLATION_RATIO_BASIS == "common practice, no source: isolation needs r > sqrt(2), usually r >= 3"
+            ISOLATION_RATIO_BASIS == r"common practice, no source: isolation needs $r > \sqrt{2}$, usually $r \ge 3$"
         )
 
 

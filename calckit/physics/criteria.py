@@ -62,18 +62,18 @@ def separation_basis(relative_to: str = DEFAULT_SEPARATION_REFERENCE, band: floa
 
     Examples
     --------
-    >>> separation_basis("operating speed")
-    'common practice, no source: keep the operating frequency outside about +/-20 % of a natural frequency; \
-separation measured relative to the operating speed, |omega_n / Omega - 1|'
+    >>> print(separation_basis("operating speed"))  # doctest: +NORMALIZE_WHITESPACE
+    common practice, no source: keep the operating frequency outside about $\\pm 20$ % of a
+    natural frequency; separation measured relative to the operating speed, $|\\omega_n / \\Omega - 1|$
     """
     formula = (
-        "|Omega / omega_n - 1|"
+        r"$|\Omega / \omega_n - 1|$"
         if _reference(relative_to) == SEPARATION_REFERENCES[0]
-        else "|omega_n / Omega - 1|"
+        else r"$|\omega_n / \Omega - 1|$"
     )
     return (
         "common practice, no source: keep the operating frequency outside about "
-        f"+/-{band * 100:.0f} % of a natural frequency; separation measured relative to the {relative_to}, {formula}"
+        f"$\\pm {band * 100:.0f}$ % of a natural frequency; separation measured relative to the {relative_to}, {formula}"
     )
 
 
@@ -84,7 +84,7 @@ SEPARATION_BASIS = separation_basis()
 LEAST_ISOLATION_RATIO = 3.0
 
 #: Basis of the frequency-ratio check for isolation.
-ISOLATION_RATIO_BASIS = "common practice, no source: isolation needs r > sqrt(2), usually r >= 3"
+ISOLATION_RATIO_BASIS = r"common practice, no source: isolation needs $r > \sqrt{2}$, usually $r \ge 3$"
 
 
 def speed_separation(
