@@ -21,7 +21,7 @@ _PUBLIC = {
     ),
     "calckit.core.exact": ("exact",),
     "calckit.core.checks": ("finite", "non_negative", "positive"),
-    "calckit.core.expressions": ("parse_expression",),
+    "calckit.core.expressions": ("parse_expression", "parse_parameters"),
     "calckit.core.rounding": ("as_shown",),
     "calckit.core": ("units",),  # modules exported by name (``ck.units.fmt``)
     "calckit.core.units": ("angular_frequency", "cyclic_frequency", "fmt", "Q_", "quantity", "to_si", "ureg"),

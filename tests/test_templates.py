@@ -13,6 +13,7 @@ timings change from run to run::
 
 from __future__ import annotations
 
+import json
 import math
 from pathlib import Path
 
@@ -347,6 +348,37 @@ class TestArbitraryForcing:
         assert isinstance(caught.value, CalcError)
         message = str(caught.value)
         assert "forcing" in message and "does not give a force" in message and "cos(2*w*t)" in message
+
+
+    def test_forcing_in_names_of_ones_own(self, tmp_path):
+        """forcing_parameters names the forcing's parameters; Hz is read as cycles (2 pi rad); the peak
+        agrees with scipy.integrate.solve_ivp of the same equation written out here."""
+        from scipy.integrate import solve_ivp
+
+        text = (EXAMPLES / self.example).read_text(encoding="utf-8")
+        text = _changed(text, "forcing", '"P*exp(-t/tau)*sin(Omega*t)"')
+        text = "\n".join(line for line in text.splitlines() if line.split("=")[0].strip() not in ("F0", "F1", "a", "w"))
+        text = text.replace("[start]", '[own]\nforcing_parameters = { value = "P = 1.5 kN; tau = 0.3 s; Omega = 9 Hz", '
+                            'source = "Surge analysis HCW-HYD-012 rev A (invented)" }\n\n[start]')
+        inputs = tmp_path / "own.toml"
+        inputs.write_text(text, encoding="utf-8")
+        build_sheet("arbitrary_forcing", inputs, tmp_path / "out")
+        record = json.loads((tmp_path / "out" / "arbitrary_forcing.json").read_text(encoding="utf-8"))
+        shown = {i["name"]: i for i in record["inputs"]}
+        assert {"P", "tau", "Omega"} <= set(shown) and not {"F0", "F1", "a", "w"} & set(shown)
+        assert shown["Omega"]["source"] == "Surge analysis HCW-HYD-012 rev A (invented)"
+        v = _inputs(self.example)
+        m, k, zeta = _si(v, "mass"), _si(v, "stiffness"), v["damping_ratio"]
+        c = 2 * zeta * math.sqrt(k * m)
+        P, tau, Omega = 1500.0, 0.3, 2 * math.pi * 9.0  # 9 Hz = 18 pi rad/s (definition of the hertz)
+
+        def rhs(t, y):
+            return [y[1], (P * math.exp(-t / tau) * math.sin(Omega * t) - c * y[1] - k * y[0]) / m]
+
+        t_end = _si(v, "duration")
+        times = np.linspace(0, t_end, 6001)
+        ref = solve_ivp(rhs, (0, t_end), [0.0, 0.0], t_eval=times, rtol=1e-10, atol=1e-14).y[0]
+        assert _results(record)["peak_displacement"] == pytest.approx(np.max(np.abs(ref)), rel=1e-3)
 
 
 class TestPeriodicLoad:

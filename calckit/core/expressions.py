@@ -404,7 +404,8 @@ def parse_expression(
 
 
 def parse_parameters(entries, *, where: str) -> dict[str, Any]:
-    """Named parameters of an expression, as the inputs file gives them: ``["P = 12 kN", "td = 8 ms"]``.
+    """Named parameters of an expression, as the inputs file gives them: ``["P = 12 kN", "td = 8 ms"]``
+    or one text ``"P = 12 kN; td = 8 ms"`` (entries separated by ``;`` or new lines).
 
     Any Python name the user chooses (not ``t``, ``pi`` or a function's name); each value
     is read as a quantity (:func:`calckit.core.units.quantity`). Returns name -> quantity,
@@ -412,14 +413,18 @@ def parse_parameters(entries, *, where: str) -> dict[str, Any]:
 
     >>> sorted(parse_parameters(["P = 12 kN", "td = 8 ms"], where="load_parameters"))
     ['P', 'td']
+    >>> list(parse_parameters("P = 12 kN; td = 8 ms", where="load_parameters"))
+    ['P', 'td']
     """
     from calckit.core.units import quantity
 
-    if isinstance(entries, str) or not isinstance(entries, (list, tuple)):
+    if isinstance(entries, str):
+        entries = [e for e in entries.replace("\n", ";").split(";") if e.strip()]
+    if not isinstance(entries, (list, tuple)):
         raise InputsError(
             f"expected a list of \"name = value\" texts, got {type(entries).__name__} {entries!r}",
             where=where,
-            do='Write e.g. ["P = 12 kN", "td = 8 ms"]',
+            do='Write e.g. "P = 12 kN; td = 8 ms" or ["P = 12 kN", "td = 8 ms"]',
         )
     out: dict[str, Any] = {}
     for i, entry in enumerate(entries, start=1):

@@ -139,7 +139,7 @@ def conversion_formula(value: Any):
 
     >>> formula, values, note = conversion_formula(Q_(1480, "rpm"))
     >>> formula, values["n"], note
-    (2*pi*n, <Quantity(1480, '1 / minute')>, '1 rpm = 2 pi rad/min')
+    (2*pi*n, <Quantity(1480, '1 / minute')>, '1 rpm = $2\\\\pi$ rad/min')
     """
     units = getattr(value, "units", None)
     if units is None:
@@ -150,9 +150,9 @@ def conversion_formula(value: Any):
     letter, shown, per = _CYCLE_UNITS[names[0]]
     magnitude = value.to(shown).magnitude
     note = (
-        "1 rpm = 2 pi rad/min"
+        r"1 rpm = $2\pi$ rad/min"
         if shown == "rpm"
-        else ("1 cpm = 2 pi rad/min" if shown == "cpm" else "1 Hz = 2 pi rad/s")
+        else (r"1 cpm = $2\pi$ rad/min" if shown == "cpm" else r"1 Hz = $2\pi$ rad/s")
     )
     return 2 * sp.pi * sp.Symbol(letter), {letter: Q_(magnitude, per)}, note
 

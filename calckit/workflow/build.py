@@ -168,6 +168,16 @@ def _check_sources(
 ) -> None:
     """Refuse a built sheet that does not show a source the inputs file gives, where it gives it."""
     shown = {item.get("name"): item.get("source") for item in record.get("inputs", [])}
+    for name, source in sources.items():
+        # a group of inputs (e.g. forcing_parameters = "P = 12 kN; td = 8 ms") is shown through its
+        # members: inputs whose description ends "(name)", each with the group's source
+        members = {
+            item.get("source")
+            for item in record.get("inputs", [])
+            if str(item.get("description", "")).endswith(f"({name})")
+        }
+        if name not in shown and members:
+            shown[name] = source if members == {source} else next(iter(members - {source}))
     for name in sources:
         if name not in shown:
             raise InputsError(
