@@ -262,11 +262,11 @@ for i, name in ((1, "natural_frequency_1"), (2, "natural_frequency_2")):
     sheet.calc(f"separation_{i}", separation_formula, {"Omega": Omega_q, "omega_n": sheet.carried(name)},
                unit="percent", title=f"Distance of running speed from mode {i}, relative to the {reference_to}",
                symbol=f"s_{i}")
-sep1, sep2 = (float(sheet.carried(f"separation_{i}").to("percent").magnitude) for i in (1, 2))
+sep1, sep2 = (ck.fmt(sheet.carried(f"separation_{i}")) for i in (1, 2))  # as the steps show them
 sheet.note(
     f"The $\\pm${ck.SEPARATION_BAND * 100:.0f} % separation rule is waived for the two coupled modes: "
-    f"$\\omega_1$ = {sheet.carried('natural_frequency_1').to('rad/s').magnitude:g} rad/s is {sep1:.3g} % and "
-    f"$\\omega_2$ = {sheet.carried('natural_frequency_2').to('rad/s').magnitude:g} rad/s is {sep2:.3g} % from running speed "
+    f"$\\omega_1$ = {sheet.carried('natural_frequency_1').to('rad/s').magnitude:g} rad/s is {sep1} and "
+    f"$\\omega_2$ = {sheet.carried('natural_frequency_2').to('rad/s').magnitude:g} rad/s is {sep2} from running speed "
     f"(relative to the {reference_to}). They are the modes the absorber makes on purpose around the running speed; "
     "its damper bounds them, and the checks on the highest peak of the machine's amplitude curve and on the "
     "amplitude at running speed take the place of the separation rule for them."
@@ -371,6 +371,13 @@ EDITS = {
 }
 
 
+# cell index -> (text, its replacement) inside a cell kept otherwise as it is
+REPLACE = {
+    4: ('speed_q = sheet.given("running_speed", running_speed, r"\\omega", "Running speed", "frequency")',
+        'speed_q = sheet.given("running_speed", running_speed, r"\\Omega", "Running speed", "frequency")'),
+}
+
+
 def main() -> None:
     nb = nbformat.read(NOTEBOOK, as_version=4)
     if len(nb.cells) != 21:
@@ -382,6 +389,11 @@ def main() -> None:
         cell.source = source.rstrip("\n")
         if cell.cell_type == "code":
             cell.outputs, cell.execution_count = [], None
+    for index, (before, after) in REPLACE.items():
+        cell = nb.cells[index]
+        if before not in cell.source and after not in cell.source:
+            raise SystemExit(f"{NOTEBOOK}: cell {index} holds neither {before!r} nor {after!r}")
+        cell.source = cell.source.replace(before, after)
     nbformat.validate(nb)
     nbformat.write(nb, NOTEBOOK)
     print(f"wrote {NOTEBOOK}")
