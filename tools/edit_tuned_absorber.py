@@ -228,11 +228,20 @@ AT_SPEED = r'''formulas = ck.physics.RESPONSE_FORMULAS  # the one place of the t
 at_speed = {"k_1": k1_q, "m_1": m1_q, "c_1": sheet.carried("support_damping"), "m_2": sheet.carried("absorber_mass"),
             "k_2": sheet.carried("absorber_stiffness"), "c_2": sheet.carried("absorber_damping"), "Omega": Omega_q,
             "F_0": F_q}
-sheet.calc("dyn_machine", formulas["p"], at_speed, unit="N/m", title=r"$k_1 - m_1 \Omega^2$ at running speed", symbol="p")
-sheet.calc("dyn_absorber", formulas["q"], at_speed, unit="N/m", title=r"$k_2 - m_2 \Omega^2$ at running speed", symbol="q")
-at_speed.update(p=sheet.carried("dyn_machine"), q=sheet.carried("dyn_absorber"))
-sheet.calc("det_re", formulas["D_re"], at_speed, unit="N**2/m**2", title="Real part of the determinant", symbol="D_{re}")
-sheet.calc("det_im", formulas["D_im"], at_speed, unit="N**2/m**2", title="Imaginary part of the determinant",
+# every term a stiffness at running speed in N/mm, so that the determinant's substitution prints on one line
+sheet.calc("dyn_machine", formulas["p"], at_speed, unit="N/mm", title=r"$k_1 - m_1 \Omega^2$ at running speed", symbol="p")
+sheet.calc("dyn_absorber", formulas["q"], at_speed, unit="N/mm", title=r"$k_2 - m_2 \Omega^2$ at running speed", symbol="q")
+sheet.calc("damper_support", formulas["d_1"], at_speed, unit="N/mm", title="The support's damper at running speed",
+           symbol="d_1")
+sheet.calc("damper_absorber", formulas["d_2"], at_speed, unit="N/mm", title="The absorber's damper at running speed",
+           symbol="d_2")
+sheet.calc("inertia_absorber", formulas["h_2"], at_speed, unit="N/mm",
+           title="The absorber mass's inertia at running speed", symbol="h_2")
+at_speed.update(p=sheet.carried("dyn_machine"), q=sheet.carried("dyn_absorber"), d_1=sheet.carried("damper_support"),
+                d_2=sheet.carried("damper_absorber"), h_2=sheet.carried("inertia_absorber"))
+sheet.calc("det_re", formulas["D_re"], at_speed, unit="N**2/mm**2", title="Real part of the determinant",
+           symbol="D_{re}")
+sheet.calc("det_im", formulas["D_im"], at_speed, unit="N**2/mm**2", title="Imaginary part of the determinant",
            symbol="D_{im}")
 at_speed.update(D_re=sheet.carried("det_re"), D_im=sheet.carried("det_im"))
 amplitude = sheet.calc("amplitude", formulas["X_1"], at_speed, unit="mm", symbol="X_1",
