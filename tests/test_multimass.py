@@ -571,7 +571,7 @@ def test_tuned_absorber_template_builds(tmp_path):
     record = json.loads(Path(done.stdout.strip().splitlines()[-1]).read_text())
     verdicts = {check["name"]: check["verdict"] for check in record["checks"]}
     assert verdicts == {
-        "independent check: machine's steady state at running speed, derived and integrated": "met",
+        "independent check: the machine's steady state, derived and integrated": "met",
         "equal peaks": "met",
         "amplitude at running speed": "met",
         "highest peak": "met",

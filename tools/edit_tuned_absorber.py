@@ -170,7 +170,7 @@ peak = ck.compare_peak(
 )
 sheet.independent_check(
     "x_1", peak, symbol="x_1", unit="mm",
-    title="machine's steady state at running speed, derived and integrated",
+    title="the machine's steady state, derived and integrated",
 )
 '''
 
