@@ -37,7 +37,7 @@ build a sheet from an inputs file:
     calckit build tuned_absorber --inputs my_inputs.toml --out built/
 """
 
-IMPORTS = r'''import matplotlib
+IMPORTS = r"""import matplotlib
 
 matplotlib.use("Agg")  # figures go onto the sheet as SVG, not to a window
 import matplotlib.pyplot as plt
@@ -51,7 +51,7 @@ from calckit.sheet.working import conversion_formula  # a speed's step to rad/s,
 template_text = ""
 inputs_file = "the template's own values"
 input_sources = {}  # input name -> where its value comes from, when the inputs file says
-'''
+"""
 
 TUNING = r'''m1 = ck.exact(ck.to_si(m1_q, "machine_mass").magnitude, "machine_mass")
 k1 = ck.exact(ck.to_si(k1_q, "support_stiffness").magnitude, "support_stiffness")
@@ -124,7 +124,7 @@ def design(name):
 m2, k2, c2, c1_design = (design(n) for n in ("absorber_mass", "absorber_stiffness", "absorber_damping", "support_damping"))
 '''
 
-MODEL = r'''M = [[m1, 0], [0, m2]]
+MODEL = r"""M = [[m1, 0], [0, m2]]
 C = [[c1_design + c2, -c2], [-c2, c2]]
 K = [[k1 + k2, -k2], [-k2, k2]]
 model = ck.MultiMass(M, C, K)
@@ -172,9 +172,9 @@ sheet.independent_check(
     "x_1", peak, symbol="x_1", unit="mm",
     title="the machine's steady state, derived and integrated",
 )
-'''
+"""
 
-RESPONSE = r'''omegas = np.linspace(0.6 * float(wn), 1.4 * float(wn), 8001)
+RESPONSE = r"""omegas = np.linspace(0.6 * float(wn), 1.4 * float(wn), 8001)
 H = model.frequency_response(omegas)
 curve = np.abs(H[:, 0, 0]) * float(F0)
 inner = (curve[1:-1] > curve[:-2]) & (curve[1:-1] > curve[2:])
@@ -215,7 +215,7 @@ ax.set_ylabel("machine amplitude, mm")
 ax.legend(loc="upper right", fontsize=8)
 sheet.figure(fig, f"Machine amplitude against frequency, mass ratio $\\mu$ = {float(mu):.3g}.")
 plt.close(fig)
-'''
+"""
 
 AT_SPEED_TEXT = r"""## The machine and the absorber at running speed
 
@@ -224,7 +224,7 @@ come from the two equations of motion at running speed (Cramer's rule on the dyn
 determinant is $D = D_{re} + i D_{im}$); both are checked against the derivation above.
 """
 
-AT_SPEED = r'''formulas = ck.physics.RESPONSE_FORMULAS  # the one place of the two-mass steady state
+AT_SPEED = r"""formulas = ck.physics.RESPONSE_FORMULAS  # the one place of the two-mass steady state
 at_speed = {"k_1": k1_q, "m_1": m1_q, "c_1": sheet.carried("support_damping"), "m_2": sheet.carried("absorber_mass"),
             "k_2": sheet.carried("absorber_stiffness"), "c_2": sheet.carried("absorber_damping"), "Omega": Omega_q,
             "F_0": F_q}
@@ -263,9 +263,9 @@ for name, x, got in (("amplitude", x1, amplitude), ("relative_stroke", x2 - x1, 
             f"the sheet's {name} ({float(got.to('m').magnitude)!r} m) differs from the derivation's {derived!r} m",
             reproduce=reproduce, where=f"tuned_absorber, {name}",
         )
-'''
+"""
 
-MODES = r'''reference_to = ck.DEFAULT_SEPARATION_REFERENCE  # the separation is measured relative to this (criteria)
+MODES = r"""reference_to = ck.DEFAULT_SEPARATION_REFERENCE  # the separation is measured relative to this (criteria)
 separation_formula = ck.separation_formula(reference_to)  # in Omega and omega_n
 for i, name in ((1, "natural_frequency_1"), (2, "natural_frequency_2")):
     sheet.calc(f"separation_{i}", separation_formula, {"Omega": Omega_q, "omega_n": sheet.carried(name)},
@@ -280,7 +280,7 @@ sheet.note(
     "its damper bounds them, and the checks on the highest peak of the machine's amplitude curve and on the "
     "amplitude at running speed take the place of the separation rule for them."
 )
-'''
+"""
 
 ALTERNATIVE_TEXT = r"""## The alternative for a fixed-speed machine: the absorber tuned to running speed
 
@@ -290,7 +290,7 @@ $X_r = F_0 / k_2$ (Den Hartog, sec. 3.2). It leaves two sharp undamped modes
 close to running speed.
 """
 
-ALTERNATIVE = r'''sheet.calc("absorber_stiffness_at_speed", sym("m_2") * sym("Omega") ** 2,
+ALTERNATIVE = r"""sheet.calc("absorber_stiffness_at_speed", sym("m_2") * sym("Omega") ** 2,
            {"m_2": sheet.carried("absorber_mass"), "Omega": Omega_q}, unit="kN/mm",
            title="Absorber stiffness tuned to running speed", symbol=r"k_{2,\Omega}")
 sheet.calc("relative_stroke_at_speed", sym("F_0") / sym("k_2"),
@@ -331,9 +331,9 @@ sheet.note(
     "a change of speed or of $k_2$ by a few percent, or the run-up through the lower mode, meets a sharp resonance. "
     "Equal-peak tuning keeps the machine's amplitude bounded at every speed; this sheet adopts it."
 )
-'''
+"""
 
-CHECKS = r'''sheet.check(
+CHECKS = r"""sheet.check(
     "equal peaks",
     float(difference.to("percent").magnitude),
     float(ck.to_si(peak_limit, "peak_difference_limit").magnitude),
@@ -345,9 +345,9 @@ sheet.check("amplitude at running speed", sheet.carried("amplitude"), limit, rel
 sheet.check("highest peak", max(X_p1, X_p2), limit, relation="<=", basis=amplitude_limit_basis, unit="mm")
 sheet.check("absorber stroke", sheet.carried("relative_stroke"), stroke_lim, relation="<=", basis=stroke_limit_basis, unit="mm")
 sheet.check("absorber spring force", sheet.carried("spring_force"), spring_lim, relation="<=", basis=spring_force_limit_basis, unit="kN");
-'''
+"""
 
-CLOSING = r'''sheet.assume("The machine moves in one direction as one mass on its support; the absorber moves in the same direction.")
+CLOSING = r"""sheet.assume("The machine moves in one direction as one mass on its support; the absorber moves in the same direction.")
 sheet.assume("Springs are linear and damping is viscous; the support's damping acts between the machine and the ground.")
 sheet.assume("Absorber mass, stiffness and damping are set to four significant figures of the equal-peak values.")
 sheet.assume(r"Equal-peak tuning assumes an undamped machine support (here the support has a damping ratio $\zeta_1$ = "
@@ -360,13 +360,13 @@ sheet.reference("J. P. Den Hartog, Mechanical Vibrations, 4th ed., McGraw-Hill, 
                 "(the undamped dynamic absorber) and sec. 3.3 (the damped vibration absorber, equal-peak tuning).")
 sheet.note("The sections of the book were recalled when this template was written, not read from the book beside it; "
            "a checker should confirm them in the edition named.")
-sheet'''
+sheet"""
 
 # cell index -> (a line the cell being replaced holds, its new source)
 EDITS = {
     0: ("# Tuned vibration absorber on a machine", INTRO),
     1: ("import calckit as ck", IMPORTS),
-    6: ("ck.to_si(m1_q, \"machine_mass\")", TUNING),
+    6: ('ck.to_si(m1_q, "machine_mass")', TUNING),
     8: ("M = [[m1, 0], [0, m2]]", MODEL),
     9: ("## Frequency response of the machine", "## Frequency response of the machine"),
     10: ("omegas = np.linspace(", RESPONSE),
@@ -382,8 +382,10 @@ EDITS = {
 
 # cell index -> (text, its replacement) inside a cell kept otherwise as it is
 REPLACE = {
-    4: ('speed_q = sheet.given("running_speed", running_speed, r"\\omega", "Running speed", "frequency")',
-        'speed_q = sheet.given("running_speed", running_speed, r"\\Omega", "Running speed", "frequency")'),
+    4: (
+        'speed_q = sheet.given("running_speed", running_speed, r"\\omega", "Running speed", "frequency")',
+        'speed_q = sheet.given("running_speed", running_speed, r"\\Omega", "Running speed", "frequency")',
+    ),
 }
 
 
