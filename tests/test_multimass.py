@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 import scipy.integrate
 import scipy.linalg
+import scipy.optimize
 import sympy as sp
 
 from calckit.engine.forcing import quasi_polynomial
@@ -296,25 +297,60 @@ def _peaks(curve: np.ndarray) -> np.ndarray:
 
 
 def _absorber(mu: float, f: float, zeta: float) -> MultiMass:
-    k_a = mu * f**2  # main mass 1 kg on 1 N/m: omega_main = 1 rad/s; absorber omega_a = f
-    c_a = 2 * zeta * mu * f
+    """Main mass 1 kg on 1 N/m (omega_n = 1 rad/s), absorber mu kg with its own frequency omega_a = f rad/s and
+    c_2 = 2 zeta m_2 omega_n: zeta is quoted against the machine's natural frequency, as Den Hartog's is."""
+    k_a = mu * f**2
+    c_a = 2 * zeta * mu
     return MultiMass([[1, 0], [0, mu]], [[c_a, -c_a], [-c_a, c_a]], [[1 + k_a, -k_a], [-k_a, k_a]])
 
 
-def test_equal_peak_tuning():
-    """Den Hartog's equal-peak tuning gives two nearly equal peaks of the main mass; f = 1 does not.
+def _main_amplitude(omegas: np.ndarray, mu: float, f: float, zeta: float) -> np.ndarray:
+    """|X_1| of the same model under a 1 N force on the main mass, by numpy.linalg.solve of the dynamic stiffness
+    (K - omega^2 M + i omega C) X = F at each frequency, written out here, not taken from MultiMass."""
+    k_a, c_a = mu * f**2, 2 * zeta * mu
+    z = np.empty((omegas.size, 2, 2), complex)
+    z[:, 0, 0] = 1 + k_a - omegas**2 + 1j * omegas * c_a
+    z[:, 0, 1] = z[:, 1, 0] = -k_a - 1j * omegas * c_a
+    z[:, 1, 1] = k_a - mu * omegas**2 + 1j * omegas * c_a
+    force = np.broadcast_to(np.array([1.0, 0.0]), (omegas.size, 2))[..., None]
+    return np.abs(np.linalg.solve(z, force)[:, 0, 0])
 
-    Tuning f = 1/(1+mu), zeta = sqrt(3 mu / (8 (1+mu)^3)): Den Hartog, Mechanical
-    Vibrations, 4th ed. (Dover), sec. 3.3, from memory.
+
+def test_equal_peak_tuning():
+    """Den Hartog's equal-peak tuning against the numerical minimax optimum of the main mass's amplitude curve.
+
+    Tuning f = 1/(1+mu), zeta_n = sqrt(3 mu / (8 (1+mu)^3)) against the main mass's natural frequency
+    (c_2 = 2 zeta_n m_2 omega_n): Den Hartog, Mechanical Vibrations, 4th ed. (1956), sec. 3.3, from memory.
+    The optimum: scipy.optimize.minimize (Nelder-Mead) over (f, zeta) of the highest |X_1| on the frequency
+    grid, |X_1| by numpy.linalg.solve. Measured at mu = 0.05: Den Hartog's form is 0.2 % below the optimum's
+    zeta, its highest peak 0.01 % above the optimum's and its two peaks 0.02 % apart; the damper quoted against
+    the absorber's own frequency instead (c_2 low by 1/(1+mu)) is 5 % low in zeta, 0.6 % high in the highest
+    peak and 0.6 % apart, so the tolerances below (zeta 2 %, peaks 0.1 %) hold the one and refuse the other.
+    MultiMass.frequency_response gives the curve of the tuned absorber; f = 1 (the absorber at the main
+    mass's frequency) leaves two unequal peaks.
     """
     mu = 0.05
-    zeta = np.sqrt(3 * mu / (8 * (1 + mu) ** 3))
+    f_dh, zeta_dh = 1 / (1 + mu), np.sqrt(3 * mu / (8 * (1 + mu) ** 3))
     omegas = np.linspace(0.6, 1.4, 8001)
-    tuned = np.abs(_absorber(mu, 1 / (1 + mu), zeta).frequency_response(omegas)[:, 0, 0])
+    best = scipy.optimize.minimize(
+        lambda p: _main_amplitude(omegas, mu, p[0], p[1]).max(),
+        [1.0, 0.1],  # a start of no tuning rule: the absorber at the main mass's frequency
+        method="Nelder-Mead",
+        options={"xatol": 1e-8, "fatol": 1e-12},
+    )
+    assert best.success
+    f_opt, zeta_opt = best.x
+    assert f_dh == pytest.approx(f_opt, rel=0.005)
+    assert zeta_dh == pytest.approx(zeta_opt, rel=0.02)
+
+    tuned = np.abs(_absorber(mu, f_dh, zeta_dh).frequency_response(omegas)[:, 0, 0])
+    np.testing.assert_allclose(tuned, _main_amplitude(omegas, mu, f_dh, zeta_dh), rtol=1e-9)
     peaks = _peaks(tuned)
     assert len(peaks) == 2
-    assert abs(peaks[0] - peaks[1]) / max(peaks) < 0.03
-    detuned = np.abs(_absorber(mu, 1.0, zeta).frequency_response(omegas)[:, 0, 0])
+    assert abs(peaks[0] - peaks[1]) / max(peaks) < 0.001
+    assert max(peaks) == pytest.approx(best.fun, rel=0.001)
+
+    detuned = np.abs(_absorber(mu, 1.0, zeta_dh).frequency_response(omegas)[:, 0, 0])
     off = _peaks(detuned)
     assert len(off) == 2
     assert abs(off[0] - off[1]) / max(off) > 0.10
@@ -506,7 +542,8 @@ def test_inputs_accepted_in_every_form():
 
 @pytest.mark.slow
 def test_tuned_absorber_template_builds(tmp_path):
-    """The bundled absorber template builds from the Harrow Creek inputs, with equal peaks met.
+    """The bundled absorber template builds from the Harrow Creek inputs, with equal peaks met and its derived
+    steady state agreeing with solve_ivp of the same equations (the sheet's independent check).
 
     Equal-peak criterion: Den Hartog, Mechanical Vibrations, 4th ed. (Dover), sec. 3.3, from memory.
     The build runs in a child process: the kernel client's sockets are its business, not this test's.
@@ -534,6 +571,7 @@ def test_tuned_absorber_template_builds(tmp_path):
     record = json.loads(Path(done.stdout.strip().splitlines()[-1]).read_text())
     verdicts = {check["name"]: check["verdict"] for check in record["checks"]}
     assert verdicts == {
+        "independent check: the machine's steady state, derived and integrated": "met",
         "equal peaks": "met",
         "amplitude at running speed": "met",
         "highest peak": "met",

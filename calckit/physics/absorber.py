@@ -73,23 +73,30 @@ TUNING_FORMULAS: Mapping[str, sp.Expr] = MappingProxyType(
 
 _m1, _c1, _k1, _F0, _W = sp.symbols("m_1 c_1 k_1 F_0 Omega")
 _p, _q, _dre, _dim, _xr = sp.symbols("p q D_re D_im X_r")
+_d1, _d2, _h2 = sp.symbols("d_1 d_2 h_2")
 
 #: The steady state of the two masses under ``F_0 cos(Omega t)`` on the machine, name -> formula.
-#: With ``p = k_1 - m_1 Omega^2``, ``q = k_2 - m_2 Omega^2`` the determinant of the dynamic
-#: stiffness ``[[k_1 + k_2 - m_1 Omega^2 + i Omega (c_1 + c_2), -(k_2 + i Omega c_2)],
-#: [-(k_2 + i Omega c_2), k_2 - m_2 Omega^2 + i Omega c_2]]`` is ``D_re + i D_im``; the machine's
-#: amplitude is ``F_0 |q + i Omega c_2| / |D|`` and the absorber's stroke relative to the machine
-#: ``X_r = F_0 m_2 Omega^2 / |D|`` (Cramer's rule on the two equations of motion).
+#: With ``p = k_1 - m_1 Omega^2``, ``q = k_2 - m_2 Omega^2``, the dampers' ``d_1 = Omega c_1``,
+#: ``d_2 = Omega c_2`` and the absorber mass's ``h_2 = m_2 Omega^2`` (each N/m), the determinant of
+#: the dynamic stiffness ``[[k_1 + k_2 - m_1 Omega^2 + i Omega (c_1 + c_2), -(k_2 + i Omega c_2)],
+#: [-(k_2 + i Omega c_2), k_2 - m_2 Omega^2 + i Omega c_2]]`` is ``D_re + i D_im`` with
+#: ``D_re = p q - d_1 d_2 - h_2 k_2`` and ``D_im = p d_2 + q d_1 - h_2 d_2``; the machine's amplitude
+#: is ``F_0 |q + i d_2| / |D|`` and the absorber's stroke relative to the machine
+#: ``X_r = F_0 h_2 / |D|`` (Cramer's rule on the two equations of motion). The terms of one
+#: stiffness each keep a sheet's substitution of ``D`` short enough to print.
 RESPONSE_FORMULAS: Mapping[str, sp.Expr] = MappingProxyType(
     {
         "p": _k1 - _m1 * _W**2,
         "q": _k2 - _m2 * _W**2,
-        "D_re": _p * _q - _W**2 * _c1 * _c2 - _m2 * _W**2 * _k2,
-        "D_im": _W * (_p * _c2 + _q * _c1 - _m2 * _W**2 * _c2),
-        "X_1": _F0 * sp.sqrt(_q**2 + (_W * _c2) ** 2) / sp.sqrt(_dre**2 + _dim**2),
-        "X_r": _F0 * _m2 * _W**2 / sp.sqrt(_dre**2 + _dim**2),
+        "d_1": _W * _c1,
+        "d_2": _W * _c2,
+        "h_2": _m2 * _W**2,
+        "D_re": _p * _q - _d1 * _d2 - _h2 * _k2,
+        "D_im": _p * _d2 + _q * _d1 - _h2 * _d2,
+        "X_1": _F0 * sp.sqrt(_q**2 + _d2**2) / sp.sqrt(_dre**2 + _dim**2),
+        "X_r": _F0 * _h2 / sp.sqrt(_dre**2 + _dim**2),
         "F_s": _k2 * _xr,
-        "F_a": _xr * sp.sqrt(_k2**2 + (_W * _c2) ** 2),
+        "F_a": _xr * sp.sqrt(_k2**2 + _d2**2),
     }
 )
 

@@ -410,7 +410,8 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
     unit_text, factor = _target_unit(result_units, unit, name.name, where)
     value = sp.nsimplify(value_si / factor) if value_si.has(sp.Float) else value_si / factor
     placeholders = {s: _Value(s.name) for s in symbols}
-    shape = formula.xreplace(placeholders)
+    with sp.evaluate(False):  # the formula's shape as written: sympy would fold sqrt(3/8) into sqrt(6)/4
+        shape = formula.xreplace(placeholders)
     if isinstance(formula, sp.Symbol):  # a value shown alone needs no brackets
         substituted_latex, substituted_text = shown[formula.name][0], _quantity_pieces(inputs[0][1], sig)[1]
     else:
