@@ -16,7 +16,7 @@ from calckit._version import __version__
 # where each public name is defined
 _PUBLIC = {
     "calckit.errors": (
-        "BuildError", "CalcError", "CellError", "ForcingError", "InputsError", "InternalError", "ModelError",
+        "AliasingWarning", "BuildError", "CalcError", "CellError", "ForcingError", "InputsError", "InternalError", "ModelError",
         "OverwriteError", "SheetError", "StorageError", "UnitsError",
     ),
     "calckit.core.exact": ("exact",),
