@@ -56,6 +56,7 @@ __all__ = [
 _MEANING = {
     "r": "frequency ratio",
     "zeta": "damping ratio",
+    "loss_factor": "loss factor",
     "delta": "logarithmic decrement",
     "omega": "forcing frequency",
     "omega_n": "natural frequency",
