@@ -145,3 +145,22 @@ class TestIsolatorChain:
                                  shown=("", ""), running_speed=155.0, maximum_service_speed=150.0)
         assert isinstance(error, CalcError)
         assert error.where == "maximum_service_speed"
+
+
+class TestExplorerTakesOnlyWhatItComputes:
+    """The explorer's isolator plan moves a viscous model with the grade at running speed: another case is
+    refused, not shown with numbers its sheet would compute otherwise."""
+
+    @pytest.mark.parametrize("line", ['damping_model = "hysteretic"', 'maximum_service_speed = "1600 rpm"'])
+    def test_refused(self, tmp_path, line):
+        from pathlib import Path
+
+        example = Path(__file__).parent.parent / "examples" / "harrow_creek_p101_isolators.toml"
+        text = example.read_text(encoding="utf-8").replace("[acceptance]", line + "\n\n[acceptance]")
+        inputs = tmp_path / "case.toml"
+        inputs.write_text(text, encoding="utf-8")
+        with pytest.raises(InputsError) as info:
+            ck.explore(inputs, "machine_on_isolators")
+        name = line.split()[0]
+        assert info.value.where == name
+        assert "calckit build machine_on_isolators" in info.value.do
