@@ -28,7 +28,12 @@ def square(M: int, amp: float = 1.0) -> np.ndarray:
 def tones(M: int) -> np.ndarray:
     """A band-limited load: harmonics 1, 5 and 13 only (all below M/2 for M = 32)."""
     x = np.arange(M) / M
-    return 0.4 + 2 * np.cos(2 * np.pi * x) - 0.7 * np.sin(2 * np.pi * 5 * x) + 0.3 * np.cos(2 * np.pi * 13 * x + 0.4)
+    return (
+        0.4
+        + 2 * np.cos(2 * np.pi * x)
+        - 0.7 * np.sin(2 * np.pi * 5 * x)
+        + 0.3 * np.cos(2 * np.pi * 13 * x + 0.4)
+    )
 
 
 class TestWhyTheLimit:

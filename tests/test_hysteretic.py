@@ -54,13 +54,17 @@ class TestClosedForms:
             assert float(hysteretic_magnification(r, eta)) == pytest.approx(abs(X) * K, rel=1e-12)
             assert float(hysteretic_phase(r, eta)) == pytest.approx(-cmath.phase(X), rel=1e-12, abs=1e-15)
             assert float(hysteretic_transmissibility(r, eta)) == pytest.approx(abs(FT), rel=1e-12)
-            assert float(hysteretic_transmissibility_phase(r, eta)) == pytest.approx(-cmath.phase(FT), rel=1e-12, abs=1e-15)
+            assert float(hysteretic_transmissibility_phase(r, eta)) == pytest.approx(
+                -cmath.phase(FT), rel=1e-12, abs=1e-15
+            )
 
     def test_textbook_forms(self):
         """Rao sec. 3.9 (from memory): peak 1/eta at r = 1; static 1/sqrt(1 + eta^2)."""
         eta = 0.1
         assert float(hysteretic_magnification(1.0, eta)) == pytest.approx(1 / eta, rel=1e-14)
-        assert float(hysteretic_magnification(0.0, eta)) == pytest.approx(1 / math.sqrt(1 + eta**2), rel=1e-14)
+        assert float(hysteretic_magnification(0.0, eta)) == pytest.approx(
+            1 / math.sqrt(1 + eta**2), rel=1e-14
+        )
         assert float(hysteretic_phase(0.0, eta)) == pytest.approx(math.atan(eta), rel=1e-14)
         assert float(hysteretic_transmissibility(math.sqrt(2), eta)) == pytest.approx(1.0, rel=1e-14)
 
@@ -90,7 +94,9 @@ class TestClosedForms:
         eta, w, F0 = 0.12, 1.7 * WN, 2500.0
         c = float(equivalent_viscous_damping(eta, K, w))
         # x = A cos wt + B sin wt in m x'' + c x' + k x = F0 cos wt
-        A, B = np.linalg.solve(np.array([[K - M * w * w, c * w], [-c * w, K - M * w * w]]), np.array([F0, 0.0]))
+        A, B = np.linalg.solve(
+            np.array([[K - M * w * w, c * w], [-c * w, K - M * w * w]]), np.array([F0, 0.0])
+        )
         assert math.hypot(A, B) == pytest.approx(abs(complex_solve(w, eta, F0)), rel=1e-12)
         assert equivalent_damping_ratio(0.1) == pytest.approx(0.05)
 
@@ -106,8 +112,14 @@ class TestClosedForms:
         assert damping_model(" Viscous") == "viscous"
 
 
-P101 = dict(machine_mass=M, isolator_stiffness=K, damping_ratio=0.01, rotor_mass=140.0, balance_grade=6.3,
-            running_speed=1480 * 2 * math.pi / 60)
+P101 = dict(
+    machine_mass=M,
+    isolator_stiffness=K,
+    damping_ratio=0.01,
+    rotor_mass=140.0,
+    balance_grade=6.3,
+    running_speed=1480 * 2 * math.pi / 60,
+)
 
 
 class TestIsolatorChain:
@@ -120,7 +132,9 @@ class TestIsolatorChain:
         X = complex_solve(w, eta, F0)
         assert got.X == pytest.approx(abs(X), rel=1e-12)
         assert got.F_T == pytest.approx(abs(K * (1 + 1j * eta) * X), rel=1e-12)
-        assert got.T == pytest.approx(math.sqrt(1 + eta**2) / math.sqrt((1 - got.r**2) ** 2 + eta**2), rel=1e-12)
+        assert got.T == pytest.approx(
+            math.sqrt(1 + eta**2) / math.sqrt((1 - got.r**2) ** 2 + eta**2), rel=1e-12
+        )
         assert got.c == pytest.approx(eta * K / w, rel=1e-14)
 
     def test_hysteretic_needs_loss_factor(self):
@@ -141,8 +155,15 @@ class TestIsolatorChain:
         assert run.peak == pytest.approx(run_at_w.peak * w / w_max, rel=1e-9)  # linear in U
 
     def test_maximum_below_running_refused(self):
-        error = isolator_refusal(machine_mass=M, rotor_mass=140.0, damping_ratio=0.01, required_isolation=0.9,
-                                 shown=("", ""), running_speed=155.0, maximum_service_speed=150.0)
+        error = isolator_refusal(
+            machine_mass=M,
+            rotor_mass=140.0,
+            damping_ratio=0.01,
+            required_isolation=0.9,
+            shown=("", ""),
+            running_speed=155.0,
+            maximum_service_speed=150.0,
+        )
         assert isinstance(error, CalcError)
         assert error.where == "maximum_service_speed"
 
@@ -164,3 +185,26 @@ class TestExplorerTakesOnlyWhatItComputes:
         name = line.split()[0]
         assert info.value.where == name
         assert "calckit build machine_on_isolators" in info.value.do
+
+
+def test_loss_factor_beyond_any_mount_refused():
+    error = isolator_refusal(
+        machine_mass=M,
+        rotor_mass=140.0,
+        damping_ratio=1.5,
+        required_isolation=0.9,
+        shown=("", ""),
+        loss_factor=3.0,
+    )
+    assert error.where == "loss_factor" and "loss factor of 3" in error.what
+    assert (
+        isolator_refusal(
+            machine_mass=M,
+            rotor_mass=140.0,
+            damping_ratio=0.05,
+            required_isolation=0.9,
+            shown=("", ""),
+            loss_factor=0.1,
+        )
+        is None
+    )

@@ -44,9 +44,15 @@ def record(tmp_path_factory):
     root = tmp_path_factory.mktemp("hysteretic")
     inputs = root / "p101_elastomer.toml"
     inputs.write_text(
-        _with(EXAMPLE.read_text(encoding="utf-8"),
-              {"damping_model": '"hysteretic"', "loss_factor": str(ETA), "maximum_service_speed": f'"{W_MAX_RPM:g} rpm"',
-               "damping_ratio": "0.01"}),  # not used by the hysteretic model: given without a source
+        _with(
+            EXAMPLE.read_text(encoding="utf-8"),
+            {
+                "damping_model": '"hysteretic"',
+                "loss_factor": str(ETA),
+                "maximum_service_speed": f'"{W_MAX_RPM:g} rpm"',
+                "damping_ratio": "0.01",
+            },
+        ),  # not used by the hysteretic model: given without a source
         encoding="utf-8",
     )
     return build_sheet("machine_on_isolators", inputs, root / "built").record
@@ -91,7 +97,9 @@ def test_inputs_and_assumptions(record):
 
 def test_unknown_damping_model_refused(tmp_path):
     inputs = tmp_path / "bad.toml"
-    inputs.write_text(_with(EXAMPLE.read_text(encoding="utf-8"), {"damping_model": '"coulomb"'}), encoding="utf-8")
+    inputs.write_text(
+        _with(EXAMPLE.read_text(encoding="utf-8"), {"damping_model": '"coulomb"'}), encoding="utf-8"
+    )
     with pytest.raises(CalcError) as info:
         build_sheet("machine_on_isolators", inputs, tmp_path / "built")
     assert "unknown damping model 'coulomb'" in str(info.value)

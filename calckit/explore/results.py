@@ -230,7 +230,9 @@ class WhatIf:
     natural_frequency_hz: float  # Hz
     frequency_ratio: float
     magnification: float
-    static_deflection: float  # m, F0 / k: the deflection under the force amplitude applied statically (not m g / k)
+    static_deflection: (
+        float  # m, F0 / k: the deflection under the force amplitude applied statically (not m g / k)
+    )
     amplitude: float  # m
     phase_lag: float  # rad
     transmissibility: float

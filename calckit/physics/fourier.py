@@ -351,7 +351,9 @@ def _numeric_piece(expr, t, lo, hi, w, N, where):
 # --------------------------------------------------------------------------- samples
 
 
-def fourier_series_from_samples(values, period, n_harmonics: int, *, band_limited: bool = False) -> FourierSeries:
+def fourier_series_from_samples(
+    values, period, n_harmonics: int, *, band_limited: bool = False
+) -> FourierSeries:
     r"""Fourier series of equally spaced samples over one period.
 
     Samples ``f_k = f(k T / M)``, ``k = 0 .. M-1`` (do not repeat the sample at ``T``).
@@ -444,8 +446,10 @@ def fourier_series_from_samples(values, period, n_harmonics: int, *, band_limite
     alias = _alias_note(F, M) if not band_limited else None
     if alias is not None:
         notes.append(alias)
-        warnings.warn(AliasingWarning(alias, where=f"{where}(values)", do=f"Give more than {M} samples a period"),
-                      stacklevel=2)
+        warnings.warn(
+            AliasingWarning(alias, where=f"{where}(values)", do=f"Give more than {M} samples a period"),
+            stacklevel=2,
+        )
     return FourierSeries(
         period=Tf,
         omega=2 * math.pi / Tf,

@@ -85,7 +85,9 @@ def hysteretic_magnification(r, loss_factor):
     """
     is_exact, (r, eta) = _args("hysteretic_magnification", r=r, loss_factor=loss_factor)
     if is_exact:
-        return _finite(1 / sp.sqrt((1 - r**2) ** 2 + eta**2), "hysteretic_magnification", _NO_LOSS, _RESONANCE_DO)
+        return _finite(
+            1 / sp.sqrt((1 - r**2) ** 2 + eta**2), "hysteretic_magnification", _NO_LOSS, _RESONANCE_DO
+        )
     with np.errstate(divide="ignore"):
         return _out(1.0 / np.sqrt((1.0 - r * r) ** 2 + eta * eta))
 

@@ -194,6 +194,7 @@ def isolator_refusal(
     names: dict[str, str] | None = None,
     running_speed: float | None = None,
     maximum_service_speed: float | None = None,
+    loss_factor: float | None = None,
 ) -> InputsError | None:
     """What a machine-on-isolators calculation refuses, with its message; None when it takes the values.
 
@@ -212,6 +213,9 @@ def isolator_refusal(
         ``required_isolation``, ``maximum_service_speed``), when the template calls them otherwise.
     running_speed, maximum_service_speed : float, optional
         rad/s; a maximum service speed below the running speed is refused.
+    loss_factor : float, optional
+        For hysteretic mounts: checked in place of *damping_ratio* (below 2, so that the
+        same-peak damping ratio ``eta / 2`` is underdamped).
 
     Examples
     --------
@@ -222,7 +226,13 @@ parts only in rotor_mass and the whole machine in machine_mass.
     """
     name = {
         key: key
-        for key in ("machine_mass", "rotor_mass", "damping_ratio", "required_isolation", "maximum_service_speed")
+        for key in (
+            "machine_mass",
+            "rotor_mass",
+            "damping_ratio",
+            "required_isolation",
+            "maximum_service_speed",
+        )
     }
     name.update(names or {})
     if rotor_mass > machine_mass:
@@ -231,7 +241,13 @@ parts only in rotor_mass and the whole machine in machine_mass.
             where=name["rotor_mass"],
             do=f"Give the rotating parts only in {name['rotor_mass']} and the whole machine in {name['machine_mass']}",
         )
-    if not damping_ratio < 1:
+    if loss_factor is not None and not loss_factor < 2:
+        return InputsError(
+            f"a loss factor of {loss_factor:g} is beyond any mount (its same-peak damping ratio eta/2 is not underdamped)",
+            where=name.get("loss_factor", "loss_factor"),
+            do="Give the mounts' loss factor, elastomer about 0.05 to 0.25",
+        )
+    if loss_factor is None and not damping_ratio < 1:
         return InputsError(
             f"a damping ratio of {damping_ratio:g} is not underdamped",
             where=name["damping_ratio"],
@@ -244,7 +260,11 @@ parts only in rotor_mass and the whole machine in machine_mass.
             where=name["required_isolation"],
             do="Give an efficiency below 100 %, e.g. 90 %",
         )
-    if running_speed is not None and maximum_service_speed is not None and maximum_service_speed < running_speed:
+    if (
+        running_speed is not None
+        and maximum_service_speed is not None
+        and maximum_service_speed < running_speed
+    ):
         return InputsError(
             f"the maximum service speed ({maximum_service_speed:.4g} rad/s) is below the running speed "
             f"({running_speed:.4g} rad/s)",
