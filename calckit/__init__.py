@@ -16,7 +16,7 @@ from calckit._version import __version__
 # where each public name is defined
 _PUBLIC = {
     "calckit.errors": (
-        "BuildError", "CalcError", "CellError", "ForcingError", "InputsError", "InternalError", "ModelError",
+        "AliasingWarning", "BuildError", "CalcError", "CellError", "ForcingError", "InputsError", "InternalError", "ModelError",
         "OverwriteError", "SheetError", "StorageError", "UnitsError",
     ),
     "calckit.core.exact": ("exact",),
@@ -39,7 +39,9 @@ _PUBLIC = {
         "speed_separation", "STANDARD_GRAVITY", "static_deflection",
         "DEFAULT_SEPARATION_REFERENCE", "SEPARATION_REFERENCES", "separation_basis", "separation_formula",
         "AbsorberResponse", "absorber_response", "AbsorberTuning", "equal_peak_tuning",
-        "excitation", "fourier", "harmonic", "pulses",  # modules exported by name (``ck.harmonic.magnification``)
+        "DAMPING_MODELS", "equivalent_damping_ratio", "equivalent_viscous_damping", "hysteretic_magnification",
+        "hysteretic_phase", "hysteretic_transmissibility", "hysteretic_transmissibility_phase",
+        "excitation", "fourier", "harmonic", "hysteretic", "pulses",  # modules exported by name (``ck.harmonic.magnification``)
     ),
     "calckit.physics.absorber": ("equal_peak_tuning",),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),

@@ -9,6 +9,7 @@ from them: *what* was wrong, *where* it was found, and what to *do* instead.
 from __future__ import annotations
 
 __all__ = [
+    "AliasingWarning",
     "CalcError",
     "ForcingError",
     "ModelError",
@@ -164,3 +165,22 @@ class InternalError(CalcError, RuntimeError):
 
 def _rebuild_internal(cls, what, where, do, reproduce):
     return cls(what, where=where, do=do, reproduce=reproduce)
+
+
+class AliasingWarning(UserWarning):
+    """Samples too coarse for the load they sample: some harmonics asked for are aliased.
+
+    Not an error (the numbers are still given), so a warning; its fields and message are
+    built as a :class:`CalcError`'s: *what*, *where*, *do*.
+    """
+
+    def __init__(self, what: str, *, where: str | None = None, do: str | None = None):
+        self.what = what
+        self.where = where
+        self.do = do
+        super().__init__(what)
+
+    __str__ = CalcError.__str__
+
+    def __reduce__(self):
+        return (_rebuild, (type(self), self.what, self.where, self.do))

@@ -423,7 +423,7 @@ def isolator_closed_form(m, k, zeta, w, m_r, grade) -> dict[str, float]:
     }
 
 
-START = {"m": 1850.0, "k": 720e3, "zeta": 0.05, "w": 1480 * RPM, "m_r": 140.0, "grade": 6.3e-3}
+START = {"m": 1850.0, "k": 720e3, "zeta": 0.01, "w": 1480 * RPM, "m_r": 140.0, "grade": 6.3e-3}
 
 
 def carried(x: float) -> float:

@@ -267,7 +267,7 @@ class TestIsolatorRefusal:
         )
         assert str(error) == (
             "damping_ratio: a damping ratio of 1 is not underdamped. Isolators are lightly damped; give a "
-            "damping ratio below 1 (steel springs about 0.01 to 0.05)."
+            "damping ratio below 1 (bare steel coil springs about 0.005 to 0.01, elastomer mounts about 0.05)."
         )
 
     def test_isolation_that_cannot_be_reached(self):

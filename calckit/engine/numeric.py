@@ -393,7 +393,7 @@ class FrequencyResponse:
 
     @property
     def magnification(self) -> np.ndarray:
-        """``k |H|``: amplitude over the static deflection ``F / k``."""
+        """``k |H|``: amplitude over the deflection under the force amplitude applied statically, ``F / k``."""
         if self.static_stiffness is None:
             raise ModelError(
                 "a receptance matrix has no single static deflection to compare with",

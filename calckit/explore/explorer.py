@@ -123,6 +123,15 @@ class Explorer(_Plots, _Sliders):
         self._model = _derive(forcing)
         self._run: RunUp | None = None
         self._hold = False
+        for name, only in self.plan.takes_only.items():
+            given = str(self._values.get(name, only)).strip()
+            if given.lower() != only:
+                raise InputsError(
+                    f"the what-if explorer of {plan.template} computes {name} = {only!r} only, not {given!r}",
+                    where=name,
+                    do=f"Build the sheet for this case (calckit build {plan.template} --inputs FILE --out DIR), "
+                    f"or explore it with {name} = {only!r}",
+                )
         refusal = self._refusal({})
         if refusal is not None:
             raise refusal

@@ -29,7 +29,7 @@ A template not in the table is read by parameter names as the single-mass entry.
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any
 
@@ -145,6 +145,10 @@ class Plan:
         (run-up from rest through resonance, then running speed).
     separation_basis : str
         Basis of the speed-separation check.
+    takes_only : mapping
+        Template parameters the plan computes at one value only (parameter -> that value,
+        compared as lower-case text); other values are refused, so that the explorer
+        never shows numbers for a case its sheet would compute otherwise.
     """
 
     template: str
@@ -161,6 +165,7 @@ class Plan:
     curve: str
     history: str
     separation_basis: str = SEPARATION_BASIS
+    takes_only: Mapping[str, str] = field(default_factory=lambda: MappingProxyType({}))
 
     def roles(self) -> tuple[str, ...]:
         """Every role the entry knows, required first."""
@@ -242,6 +247,8 @@ PLANS: Mapping[str, Plan] = MappingProxyType(
                 rows=_r._isolator_rows,
                 curve="transmissibility",
                 history="run-up",
+                # the sliders move a viscous model with the grade at running speed
+                takes_only=MappingProxyType({"damping_model": "viscous", "maximum_service_speed": ""}),
             ),
         )
     }

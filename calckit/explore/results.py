@@ -230,7 +230,9 @@ class WhatIf:
     natural_frequency_hz: float  # Hz
     frequency_ratio: float
     magnification: float
-    static_deflection: float  # m, F0 / k
+    static_deflection: (
+        float  # m, F0 / k: the deflection under the force amplitude applied statically (not m g / k)
+    )
     amplitude: float  # m
     phase_lag: float  # rad
     transmissibility: float
@@ -281,7 +283,7 @@ def _isolator_rows(results: WhatIf, inputs: Mapping[str, _Input]) -> list[Row]:
         wn_alt += f" = {fmt_number(got['omega_n'] / freq.factor)} {freq.unit}"
     return [
         row("omega_n", "natural frequency ω<sub>n</sub>", "rad/s", extra=wn_alt),
-        row("delta_st", "static deflection δ<sub>st</sub>", "m", "mm"),
+        row("delta_st", "static deflection under the weight δ<sub>st</sub> = mg/k", "m", "mm"),
         row("r", "frequency ratio r = Ω/ω<sub>n</sub>"),
         row("e_per", "permissible eccentricity e<sub>per</sub> = G/Ω", "m", "um"),
         row("U", "residual unbalance U", "kg*m", "g*mm"),

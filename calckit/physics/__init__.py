@@ -66,6 +66,15 @@ from calckit.physics.criteria import (  # noqa: E402
 )
 from calckit.physics.excitation import require_one_harmonic, residual_unbalance, unbalance_force  # noqa: E402
 from calckit.physics.harmonic import forced_amplitude  # noqa: E402
+from calckit.physics.hysteretic import (  # noqa: E402
+    DAMPING_MODELS,
+    equivalent_damping_ratio,
+    equivalent_viscous_damping,
+    hysteretic_magnification,
+    hysteretic_phase,
+    hysteretic_transmissibility,
+    hysteretic_transmissibility_phase,
+)
 from calckit.physics.isolation import (  # noqa: E402
     STANDARD_GRAVITY,
     IsolatorResults,
@@ -77,6 +86,13 @@ from calckit.physics.isolation import (  # noqa: E402
 from calckit.physics.runup import RunUp, RunUpResults, run_up, run_up_results, run_up_stage, run_up_steps  # noqa: E402
 
 __all__ += [
+    "DAMPING_MODELS",
+    "equivalent_damping_ratio",
+    "equivalent_viscous_damping",
+    "hysteretic_magnification",
+    "hysteretic_phase",
+    "hysteretic_transmissibility",
+    "hysteretic_transmissibility_phase",
     "FREQUENCY_FORMULAS",
     "DEFAULT_SEPARATION_REFERENCE",
     "SEPARATION_REFERENCES",

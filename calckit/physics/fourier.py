@@ -28,12 +28,13 @@ E. Kreyszig, *Advanced Engineering Mathematics*, 10th ed., Wiley, 2011, sec. 11.
 from __future__ import annotations
 
 import math
+import warnings
 
 import numpy as np
 import sympy as sp
 
 from calckit.core.exact import exact
-from calckit.errors import ForcingError
+from calckit.errors import AliasingWarning, ForcingError
 from calckit.physics.fourier_terms import HARMONIC_NUMBER, FourierSeries, Harmonic, check_count, check_period
 
 __all__ = ["FourierSeries", "Harmonic", "fourier_series", "fourier_series_from_samples"]
@@ -350,7 +351,9 @@ def _numeric_piece(expr, t, lo, hi, w, N, where):
 # --------------------------------------------------------------------------- samples
 
 
-def fourier_series_from_samples(values, period, n_harmonics: int) -> FourierSeries:
+def fourier_series_from_samples(
+    values, period, n_harmonics: int, *, band_limited: bool = False
+) -> FourierSeries:
     r"""Fourier series of equally spaced samples over one period.
 
     Samples ``f_k = f(k T / M)``, ``k = 0 .. M-1`` (do not repeat the sample at ``T``).
@@ -361,6 +364,29 @@ def fourier_series_from_samples(values, period, n_harmonics: int) -> FourierSeri
 
     so ``M`` must exceed ``2 N`` (Nyquist). The mean square is the mean of ``f_k^2``.
     Take samples at a jump as the mid-value for the best agreement with the closed form.
+
+    **Aliasing.** The transform gives harmonic ``n`` plus every harmonic ``j M +- n`` the
+    samples cannot tell from it. For a load with a jump (harmonics falling as ``1/n``) the
+    error at harmonic ``n`` is ``1 - x cot x`` with ``x = pi n / M``: 2 % at ``n = M/13``,
+    10 % at ``n = 11`` of 64 samples, 21 % at ``n = M/4``, total near ``M/2``. So:
+
+    * ``N`` above ``M // 4`` is refused (a :class:`~calckit.errors.ForcingError` naming the
+      limit) unless ``band_limited=True`` says the load has no harmonic at or above ``M/2``
+      (a sum of known tones, a record filtered before sampling); then up to ``(M - 1) // 2``.
+    * When the harmonics between ``M/4`` and ``M/2`` reach 1 % of the largest, the samples
+      are too coarse for the load: the series carries a note saying so, and a
+      :class:`~calckit.errors.AliasingWarning` is issued.
+
+    Parameters
+    ----------
+    values : 1-D array of floats
+        One period of samples.
+    period : number
+        The period ``T``, s.
+    n_harmonics : int
+        ``N``, the harmonics wanted.
+    band_limited : bool
+        True when the load is known to hold no harmonic at or above ``M/2``.
 
     Examples
     --------
@@ -406,8 +432,24 @@ def fourier_series_from_samples(values, period, n_harmonics: int) -> FourierSeri
             where=f"{where}(values)",
             do=f"Sample more finely or ask for at most {(M - 1) // 2} harmonics",
         )
+    if N > M // 4 and not band_limited:
+        raise ForcingError(
+            f"harmonics above M/4 = {M // 4} of {M} samples are aliased (harmonic n takes in harmonic {M} - n "
+            f"and others the samples cannot tell from it: 21 % error at n = M/4 for a load with a jump)",
+            where=f"{where}(n_harmonics)",
+            do=f"Ask for at most {M // 4} harmonics, give at least {4 * N} samples, or pass band_limited=True "
+            f"if the load holds no harmonic at or above {M // 2}",
+        )
     F = np.fft.rfft(f)
     Tf = float(T)
+    notes = [f"from {M} equally spaced samples by numpy.fft.rfft"]
+    alias = _alias_note(F, M) if not band_limited else None
+    if alias is not None:
+        notes.append(alias)
+        warnings.warn(
+            AliasingWarning(alias, where=f"{where}(values)", do=f"Give more than {M} samples a period"),
+            stacklevel=2,
+        )
     return FourierSeries(
         period=Tf,
         omega=2 * math.pi / Tf,
@@ -415,5 +457,31 @@ def fourier_series_from_samples(values, period, n_harmonics: int) -> FourierSeri
         coefficients=tuple((n, float(2 * F[n].real / M), float(-2 * F[n].imag / M)) for n in range(1, N + 1)),
         mean_square=float(np.mean(f * f)),
         is_exact=False,
-        notes=(f"from {M} equally spaced samples by numpy.fft.rfft",),
+        notes=tuple(notes),
+    )
+
+
+#: Share of the largest harmonic that the harmonics between M/4 and M/2 may reach before the
+#: samples are called too coarse (common practice, no source: 1 %).
+ALIAS_LEVEL = 0.01
+
+
+def _alias_note(F: np.ndarray, M: int) -> str | None:
+    """A note when the top of the resolved band (M/4 < m < M/2) holds 1 % of the largest harmonic, else None.
+
+    A load whose harmonics are still that large near ``M/2`` has more above it, and those
+    fold back onto the harmonics asked for.
+    """
+    amp = 2 * np.abs(F[1 : (M + 1) // 2]) / M  # harmonics 1 .. below M/2
+    if amp.size <= M // 4 or not np.any(amp):
+        return None
+    top = amp[M // 4 :]  # harmonics above M/4
+    m = int(np.argmax(top)) + M // 4 + 1
+    share = float(top.max() / amp.max())
+    if share < ALIAS_LEVEL:
+        return None
+    return (
+        f"the samples are coarse for this load: harmonic {m} of {M} samples is still {share:.1%} of the largest "
+        f"harmonic, so harmonics above it fold back onto those asked for (aliasing; for a load with a jump "
+        f"the error at harmonic n is about 1 - x cot x, x = pi n / {M})"
     )

@@ -56,6 +56,7 @@ __all__ = [
 _MEANING = {
     "r": "frequency ratio",
     "zeta": "damping ratio",
+    "loss_factor": "loss factor",
     "delta": "logarithmic decrement",
     "omega": "forcing frequency",
     "omega_n": "natural frequency",
@@ -218,7 +219,8 @@ def magnification(r, zeta):
     Returns
     -------
     sympy.Expr or numpy float/array
-        Steady-state amplitude over the static deflection ``F0 / k``. Numeric path:
+        Steady-state amplitude over the deflection under the force amplitude applied statically, ``F0 / k``
+        (not the static deflection under the weight, ``m g / k``). Numeric path:
         ``inf`` at ``r = 1, zeta = 0``; exact path: :class:`ModelError` there.
 
     References

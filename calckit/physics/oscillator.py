@@ -238,7 +238,10 @@ class Oscillator(LinearODE):
 
     @property
     def static_deflection(self):
-        """``delta_st = m g / k`` with standard gravity 9.80665 m/s^2, m."""
+        """Static deflection under the weight, ``delta_st = m g / k`` with standard gravity 9.80665 m/s^2, m.
+
+        Not the deflection under a force amplitude applied statically, ``F0 / k``.
+        """
         if self.k == 0:
             raise ModelError("with no spring there is no static deflection", where="static_deflection")
         g = sp.Rational("9.80665")
