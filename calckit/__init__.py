@@ -53,6 +53,7 @@ _PUBLIC = {
     ),
     "calckit.render.display": ("show",),
     "calckit.render.numbers": ("put_through", "Substitution"),
+    "calckit.sheet.working": ("conversion_formula",),
     "calckit.sheet": (
         "Check", "DEFAULT_CAUTION", "OutputUnits", "read_record", "RECORD_VERSION", "Sheet", "SheetRecord",
     ),  # fmt: skip
