@@ -213,7 +213,7 @@ def total_response(
     )
     mapping = dict(found)
     transient = rationalised(transient_general.xreplace(mapping))
-    labels = ["x(0)", "x'(0)", "x''(0)"] + [f"x^({j})(0)" for j in range(3, n)]
+    labels = ["$x(0)$", "$\\dot{x}(0)$", "$\\ddot{x}(0)$"] + [f"$x^{{({j})}}(0)$" for j in range(3, n)]
     ic_step = InitialConditionsStep(
         "Constants from the initial state",
         "The total response and its derivatives at t = 0 must equal the initial values "

@@ -35,7 +35,7 @@ from __future__ import annotations
 
 import sympy as sp
 
-from calckit.engine.algebra import LAMBDA, is_zero, plain, real_imag, tidy
+from calckit.engine.algebra import LAMBDA, is_zero, real_imag, tidy
 from calckit.engine.forcing import COS, SIN
 from calckit.engine.method import GroupSolution, Strategy
 from calckit.engine.operator import LinearODE
@@ -277,7 +277,7 @@ def _solve_group(model, det_ode: LinearODE, group: VectorGroup, gi, many, pair, 
     steps.append(
         SubstitutionStep(
             prefix + "substitution into the equations" if many else "Substitution into the equations",
-            "The trial vector and its derivatives are substituted into M x'' + C x' + K x, row by row, "
+            "The trial vector and its derivatives are substituted into $M\\ddot{x} + C\\dot{x} + Kx$, row by row, "
             "and collected by basis function.",
             gi,
             sp.ImmutableMatrix([form.expr(t) for form in lhs_forms]),
@@ -391,25 +391,25 @@ def _modes_text(modes: tuple[int, ...]) -> str:
 
 
 def _resonance_sentence(model, group, s, modes, natural) -> str:
-    lam = plain(group.exponent)
+    lam = sp.latex(group.exponent)  # sheet text: inline LaTeX between $ signs
     if s == 0:
         return (
-            f"det Z({lam}) is not zero: no mode resonates with this group, so the trial form needs no extra "
-            "powers of t."
+            f"$\\det Z({lam})$ is not zero: no mode resonates with this group, so the trial form needs no extra "
+            "powers of $t$."
         )
     which = {1: "a simple root", 2: "a double root"}.get(s, f"a root of multiplicity {s}")
-    factor = "t" if s == 1 else f"t^{s}"
+    factor = "$t$" if s == 1 else f"$t^{{{s}}}$"
     if natural is not None and is_zero(natural):
         what = f"{_modes_text(modes)} is a rigid-body mode (natural frequency 0): the forcing has its shape"
     elif natural is not None:
         what = (
             f"resonance: {_modes_text(modes)} of the undamped model has the natural frequency "
-            f"{plain(natural)} rad/s, the forcing frequency"
+            f"${sp.latex(natural)}$ rad/s, the forcing frequency"
         )
     else:
         what = f"the forcing has the shape of a free motion of the damped model ({_modes_text(modes)})"
     return (
-        f"The exponent {lam} is {which} of det Z ({what}), so the powers of t in the vector trial form go up "
+        f"The exponent ${lam}$ is {which} of $\\det Z$ ({what}), so the powers of $t$ in the vector trial form go up "
         f"by {s}: every power up to the forcing's degree plus {s} is kept (factor {factor} on the top term)."
     )
 

@@ -435,6 +435,11 @@ def _term(coef, what: Tex | None, nt: Notation) -> tuple[bool, Tex] | None:
     if coef == 0:
         return None
     negative = coef.could_extract_minus_sign() and not coef.is_Add
+    if coef.is_number and coef.is_Add and not negative:  # 2630000 - 120 (148 pi/3)^2 is negative: say so
+        try:
+            negative = bool(coef.evalf(30) < 0)
+        except TypeError:  # complex
+            negative = False
     size = -coef if negative else coef
     if what is None:
         return negative, _e(size, nt)
