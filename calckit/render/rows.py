@@ -365,8 +365,10 @@ def _(step: SwitchingTimesStep, nt: Notation) -> tuple[Row, ...]:
     ends = (sp.S.Zero, *step.times)
     for i, piece in enumerate(step.pieces):
         span = (
-            Tex(rf"{_e(ends[i], nt).latex} \le t < {_e(step.times[i], nt).latex}",
-                f"{_e(ends[i], nt).text} <= t < {_e(step.times[i], nt).text}")
+            Tex(
+                rf"{_e(ends[i], nt).latex} \le t < {_e(step.times[i], nt).latex}",
+                f"{_e(ends[i], nt).text} <= t < {_e(step.times[i], nt).text}",
+            )
             if i < len(step.times)
             else Tex(rf"t \ge {_e(ends[i], nt).latex}", f"t >= {_e(ends[i], nt).text}")
         )
