@@ -103,3 +103,12 @@ def test_bad_units_are_refused_with_what_where_do(units):
         sheet.derivation(ck.Oscillator(M, C, K).particular(FORCE, t=t), "Steady state", units=units)
     assert isinstance(caught.value, CalcError)
     assert caught.value.where and caught.value.do
+
+
+def test_a_two_mass_determinant_is_in_stiffness_squared():
+    """det Z(lambda) of a 2 x 2 matrix whose entries are in N/m is in (N/m)^2 (a determinant is a
+    sum of products of n entries, one from each row)."""
+    mm = ck.MultiMass([[100, 0], [0, 10]], [[0, 0], [0, 0]], [[2000, -500], [-500, 500]])
+    text = " ".join(derivation_text(mm.particular([50 * sp.cos(5 * t), 0], t=t), sig=4, units="SI").split())
+    assert "lambda in 1/s, p(lambda) in (N/m)²" in text
+    assert "mass matrix in kg, damping in N·s/m, stiffness in N/m, forces in N" in text

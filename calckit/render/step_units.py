@@ -86,6 +86,11 @@ def _times(text: str, unit, power: int) -> str:
     return text if power == 0 else f"{text}·{_shown(unit**power)}"
 
 
+def _power(n: int) -> str:
+    """``n`` as a superscript: ``²``."""
+    return str(n).translate(str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹"))
+
+
 def _per(numerator: str, denominator: str) -> str:
     """``numerator/denominator``, the denominator in brackets when it is itself a product or ratio."""
     if denominator == "1":
@@ -252,6 +257,10 @@ def step_units(
     solution); *derivative* gives the LaTeX of the j-th derivative of x as the steps show it.
     """
     per_t = u.per_time
+    steps = tuple(steps)
+    # a multi-mass model's characteristic polynomial is det Z(lambda): the n-th power of [f]/[x]
+    size = next((s.mass.shape[0] for s in steps if isinstance(s, MatrixEquationStep)), 1)
+    poly = u.polynomial if size == 1 else f"({u.polynomial}){_power(size)}"
     if isinstance(step, EquationStep):
         order = len(step.coefficients) - 1
         shown = derivative or (lambda j: "x" if j == 0 else f"x^{{({j})}}")
@@ -268,9 +277,9 @@ def step_units(
     if isinstance(step, (ForcingSplitStep, VectorForcingStep)):
         return f"Units: $f$ in {u.f}, $t$ in {u.t}, $\\lambda$ in {per_t}."
     if isinstance(step, CharacteristicStep):
-        return f"Units: $\\lambda$ in {per_t}, $p(\\lambda)$ in {u.polynomial}."
+        return f"Units: $\\lambda$ in {per_t}, $p(\\lambda)$ in {poly}."
     if isinstance(step, ResonanceStep):
-        return f"Units: $\\lambda$ in {per_t}, $p$ in {u.polynomial}."
+        return f"Units: $\\lambda$ in {per_t}, $p$ in {poly}."
     if isinstance(step, TrialFormStep):
         t = _t_of(step.trial)
         pairs = _constants(step.trial, step.unknowns, t, u)
