@@ -89,6 +89,14 @@ td.number, th.number { text-align: right; font-variant-numeric: tabular-nums; }
 table.inputs td:nth-child(3), table.checks td:nth-child(3), table.checks td:nth-child(4),
 table.checks td:nth-child(5) { white-space: nowrap; }
 thead { display: table-header-group; }
+/* a batch summary: the cases a few a table, long labels and messages wrapped to the page */
+table.summary-cases, table.summary-wide { table-layout: fixed; }
+table.summary-cases td, table.summary-wide td:first-child { overflow-wrap: anywhere; }
+table.summary-wide td + td, table.summary-wide th + th { white-space: nowrap; }  /* a number never breaks */
+table.summary-cases th:nth-child(1) { width: 18%; }
+table.summary-cases th:nth-child(2) { width: 10%; }
+table.summary-cases th:nth-child(3) { width: 12%; }
+table.summary-wide th:first-child { width: 34%; }
 tr, figure, .step, .check, .caution, .signoff, .math { break-inside: avoid; page-break-inside: avoid; }
 h1, h2, h3 { break-after: avoid; page-break-after: avoid; }
 
