@@ -88,6 +88,8 @@ td.number, th.number { text-align: right; font-variant-numeric: tabular-nums; }
 /* values, limits and margins stay on one line */
 table.inputs td:nth-child(3), table.checks td:nth-child(3), table.checks td:nth-child(4),
 table.checks td:nth-child(5) { white-space: nowrap; }
+/* a long name in a check's basis (scipy.integrate.solve_ivp) wraps rather than push the table off the page */
+table.checks td:last-child { overflow-wrap: anywhere; }
 thead { display: table-header-group; }
 /* a batch summary: the cases a few a table, long labels and messages wrapped to the page */
 table.summary-cases, table.summary-wide { table-layout: fixed; }
