@@ -411,15 +411,27 @@ class PrintLayout:
         ``document.body.innerText`` in print media.
     pdf : bytes
         The page printed to PDF on that paper.
+    tables : tuple of dict
+        Per ``<table>``: ``left`` and ``right`` (the furthest right edge of the table or of
+        any cell's content, so a cell whose text overflows it counts), and its first characters.
     """
 
     printable_px: float
     maths: tuple[dict, ...]
     text: str
     pdf: bytes
+    tables: tuple[dict, ...] = ()
 
 
-_LAYOUT_SCRIPT = """(() => { const out = [];
+_LAYOUT_SCRIPT = """(() => { const out = []; const tables = [];
+  for (const t of document.getElementsByTagName("table")) {
+    const r = t.getBoundingClientRect();
+    let right = r.right;
+    for (const c of t.querySelectorAll("th, td")) {
+      right = Math.max(right, c.getBoundingClientRect().right, c.getBoundingClientRect().left + c.scrollWidth);
+    }
+    tables.push({left: r.left, right: right, text: t.innerText.slice(0, 120)});
+  }
   for (const m of document.getElementsByTagName("math")) {
     let left = Infinity, right = -Infinity;
     for (const e of m.querySelectorAll("mi, mn, mo, mtext, ms")) {
@@ -428,7 +440,7 @@ _LAYOUT_SCRIPT = """(() => { const out = [];
     }
     if (right > left) out.push({left: left, right: right, text: m.textContent.slice(0, 120)});
   }
-  return {maths: out, text: document.body.innerText}; })()"""
+  return {maths: out, tables: tables, text: document.body.innerText}; })()"""
 
 
 class _DevTools:
@@ -540,4 +552,10 @@ def print_layout(
             )
         finally:
             tools.close()
-    return PrintLayout(printable, tuple(value["maths"]), value["text"], base64.b64decode(printed["data"]))
+    return PrintLayout(
+        printable,
+        tuple(value["maths"]),
+        value["text"],
+        base64.b64decode(printed["data"]),
+        tuple(value["tables"]),
+    )

@@ -6,7 +6,8 @@ out by headless Chromium in print media at the printable width of the paper
 and ``Page.printToPDF``), and:
 
 * no ``<math>`` element's box reaches past the printable width (its content's
-  ``getBoundingClientRect()``), so nothing is cut at the margin;
+  ``getBoundingClientRect()``), nor any table or the content of any of its cells, so
+  nothing is cut at the margin;
 * the PDF's text, read back by poppler's ``pdftotext``, holds as many ``sin``
   and ``cos`` factors, and as many ``=`` signs, as the laid-out page's text
   (``innerText``): a factor cut at the margin would be missing from the PDF;
@@ -84,6 +85,11 @@ def test_every_formula_fits_and_prints_whole(demo_sheets, paper):
             f"{name}: {m['right']:.0f} px > {layout.printable_px:.0f} px: {m['text'][:60]}"
             for m in layout.maths
             if m["right"] > layout.printable_px + EDGE_PX or m["left"] < -EDGE_PX
+        ]
+        overflow += [  # a table (or a cell's content) past the margin is cut as surely as a formula
+            f"{name}: table {t['right']:.0f} px > {layout.printable_px:.0f} px: {t['text'][:60]!r}"
+            for t in layout.tables
+            if t["right"] > layout.printable_px + EDGE_PX or t["left"] < -EDGE_PX
         ]
         pdf = folder / f"{name}.{paper}.pdf"
         pdf.write_bytes(layout.pdf)

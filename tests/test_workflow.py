@@ -651,6 +651,10 @@ class TestBatch:
         record = result.cases[0].record
         amplitude = _results(record)["amplitude"]
         assert float(rows[0]["amplitude [m]"]) == amplitude
+        # before the SI columns: the result under its label on the sheet, as the sheet shows it
+        item = next(r for r in record["results"] if r["name"] == "amplitude")
+        number, unit = item["shown"].split()
+        assert rows[0][f"{item['label']} (amplitude) [{unit}]"] == number
         verdict = {c["name"]: c["verdict"] for c in record["checks"]}["amplitude"]
         assert rows[0]["amplitude: verdict"] == verdict
         assert rows[1]["message"] == result.cases[1].message

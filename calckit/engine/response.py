@@ -175,7 +175,7 @@ def total_response(
         + "; its constants are fixed by the initial state."
         + (
             f" The roots have no closed form: they are computed numerically (mpmath's polynomial root "
-            f"finder, {NROOTS_DIGITS} working digits, on the exact square-free factors, so multiplicities "
+            f"finder, {NROOTS_DIGITS} working digits, on the exact irreducible factors, so multiplicities "
             f"are exact) and kept to {ROOT_DIGITS} significant digits."
             if numerical
             else ""

@@ -2,10 +2,11 @@
 
 :func:`roots_for_response` gives the roots of ``p(lambda)`` with multiplicities:
 closed forms where sympy finds them, and otherwise, for numeric coefficients of
-any order, numerical roots: ``p`` is split exactly into square-free factors
-(``sympy.sqf_list``, so multiplicities are exact), and each factor without a
-closed form is solved by ``sympy.Poly.nroots`` (mpmath's polynomial root finder)
-with ``NROOTS_DIGITS`` working digits, the roots kept to ``ROOT_DIGITS``
+any order, numerical roots: ``p`` is split exactly into its factors irreducible
+over the rationals (``sympy.factor_list``, so multiplicities are exact and a
+rational root such as 1 stays exact), and each factor without a closed form
+is solved by ``sympy.Poly.nroots`` (mpmath's polynomial root finder) with
+``NROOTS_DIGITS`` working digits, the roots kept to ``ROOT_DIGITS``
 significant digits.
 
 :func:`normal_conditions` writes conditions ``expr != 0`` in one normal form:
@@ -51,7 +52,7 @@ def roots_for_response(ode) -> tuple[tuple[tuple[sp.Expr, int], ...] | None, boo
         return None, False
     poly = sp.Poly(ode.characteristic_polynomial(), LAMBDA)
     found: list[tuple[sp.Expr, int]] = []
-    _, factors = sp.sqf_list(poly)
+    _, factors = sp.factor_list(poly)
     for factor, mult in factors:
         closed = sp.roots(factor, cubics=False, quartics=False)
         if sum(closed.values()) == factor.degree():

@@ -34,6 +34,7 @@ import sympy as sp
 from calckit.engine.algebra import LAMBDA, is_zero, rational_in_symbols, tidy
 from calckit.engine.forcing import COS, SIN, ExponentGroup, ForcingSplit, split_forcing
 from calckit.engine.method import GroupSolution, Strategy
+from calckit.engine.roots import roots_for_response
 from calckit.engine.steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
@@ -105,7 +106,9 @@ class ScalarStrategy(Strategy):
             "polynomial; its roots decide which trial forms need an extra factor $t$.",
             LAMBDA,
             ode.characteristic_polynomial(),
-            Deferred(lambda: ode.characteristic_roots() or ())
+            # closed forms where sympy finds them; for numeric coefficients, numerical roots
+            # otherwise (sympy Floats, see calckit.engine.roots); a symbolic model above order 2: none
+            Deferred(lambda: roots_for_response(ode)[0] or ())
             if (not ode.parameters or ode.order <= 2)
             else None,
         )

@@ -66,6 +66,8 @@ from calckit.render.latex import (
     steps_at,
 )
 from calckit.render.page import Html, math_block, math_inline, prose, prose_parts, prose_text
+from calckit.render.step_units import motion_units, step_units
+from calckit.render.tex import _derivative
 
 __all__ = [
     "Block",
@@ -149,6 +151,7 @@ def blocks(
     names: Mapping | None = None,
     derivatives: str = "auto",
     sig: int | None = None,
+    units=None,
 ) -> tuple[Block, ...]:
     """What every output shows for *obj*, in order.
 
@@ -164,6 +167,9 @@ def blocks(
     sig : int, optional
         Significant figures for the numbers of a derivation with numeric
         coefficients (a sheet passes its own, 4 by default); None shows them exact.
+    units : mapping, "SI" or MotionUnits, optional
+        The units of the derivation's numbers (``{"x": "m", "t": "s", "f": "N"}``): each
+        step whose numbers carry a unit says them (see :mod:`calckit.render.step_units`).
 
     Examples
     --------
@@ -189,6 +195,7 @@ def blocks(
         )
     steps = tuple(steps)
     nt = notation(steps, names=names, derivatives=derivatives, sig=sig)
+    motion = motion_units(units)
     out = []
     previous = 0
     for n, step in steps_at(steps, level):
@@ -197,7 +204,13 @@ def blocks(
             out.append(
                 Block(None, f"({left_out.capitalize()} are shown at the full level.)", "", (), role="note")
             )
-        out.append(Block(n, step.title, _sentence(step.explanation), step_rows(step, nt), _braced(step)))
+        sentence = _sentence(step.explanation)
+        said = None
+        if motion is not None:
+            said = step_units(step, motion, steps, lambda j: _derivative(nt, j).latex)
+        if said:
+            sentence = f"{sentence} {said}".strip()
+        out.append(Block(n, step.title, sentence, step_rows(step, nt), _braced(step)))
         previous = n
     trailer = _conditions_block(obj, nt)
     if trailer is not None:

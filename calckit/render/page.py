@@ -88,7 +88,17 @@ td.number, th.number { text-align: right; font-variant-numeric: tabular-nums; }
 /* values, limits and margins stay on one line */
 table.inputs td:nth-child(3), table.checks td:nth-child(3), table.checks td:nth-child(4),
 table.checks td:nth-child(5) { white-space: nowrap; }
+/* a long name in a check's basis (scipy.integrate.solve_ivp) wraps rather than push the table off the page */
+table.checks td:last-child { overflow-wrap: anywhere; }
 thead { display: table-header-group; }
+/* a batch summary: the cases a few a table, long labels and messages wrapped to the page */
+table.summary-cases, table.summary-wide { table-layout: fixed; }
+table.summary-cases td, table.summary-wide td:first-child { overflow-wrap: anywhere; }
+table.summary-wide td + td, table.summary-wide th + th { white-space: nowrap; }  /* a number never breaks */
+table.summary-cases th:nth-child(1) { width: 18%; }
+table.summary-cases th:nth-child(2) { width: 10%; }
+table.summary-cases th:nth-child(3) { width: 12%; }
+table.summary-wide th:first-child { width: 34%; }
 tr, figure, .step, .check, .caution, .signoff, .math { break-inside: avoid; page-break-inside: avoid; }
 h1, h2, h3 { break-after: avoid; page-break-after: avoid; }
 
@@ -238,6 +248,8 @@ def prose_text(text: str) -> str:
     --------
     >>> prose_text(r"Put $x = e^{\lambda t}$ in; \$5")
     'Put x = e^(lambda t) in; $5'
+    >>> prose_text(r"$\ddot{x}$, $\dot{x}$ and $x^{(5)}$")
+    "x'', x' and x^(5)"
     """
     return "".join(_plain_math(piece) if is_math else piece for is_math, piece in prose_parts(text))
 
@@ -245,6 +257,9 @@ def prose_text(text: str) -> str:
 def _plain_math(latex: str) -> str:
     """Inline LaTeX read aloud in plain text: ``e^{\\lambda t}`` -> ``e^(lambda t)``."""
     text = re.sub(r"\\(?:left|right|,|;|!)", "", latex)
+    text = re.sub(
+        r"\\(ddot|dot)\{([^{}]*)\}", lambda m: m.group(2) + ("''" if m.group(1) == "ddot" else "'"), text
+    )
     text = re.sub(
         r"\\(sqrt|operatorname)\{([^{}]*)\}",
         lambda m: (
@@ -256,9 +271,23 @@ def _plain_math(latex: str) -> str:
     )
     text = re.sub(r"\\([A-Za-z]+)", r"\1", text)
     text = re.sub(
-        r"\^\{([^{}]*)\}", lambda m: "^" + (m.group(1) if len(m.group(1)) == 1 else f"({m.group(1)})"), text
+        r"\^\{([^{}]*)\}",
+        lambda m: "^" + (m.group(1) if len(m.group(1)) == 1 or _bracketed(m.group(1)) else f"({m.group(1)})"),
+        text,
     )
     return text.replace("{", "").replace("}", "")
+
+
+def _bracketed(text: str) -> bool:
+    """Whether *text* is one bracket from its first character to its last: ``(5)``, not ``(a)(b)``."""
+    if not (text.startswith("(") and text.endswith(")")):
+        return False
+    depth = 0
+    for i, ch in enumerate(text):
+        depth += {"(": 1, ")": -1}.get(ch, 0)
+        if depth == 0 and i < len(text) - 1:
+            return False
+    return True
 
 
 def _strip_namespace(markup: str) -> str:

@@ -12,6 +12,7 @@ import functools
 
 import sympy as sp
 
+from calckit.engine.roots import NROOTS_DIGITS, ROOT_DIGITS
 from calckit.engine.steps import (
     CharacteristicStep,
     CoefficientEquationsStep,
@@ -55,9 +56,12 @@ from calckit.render.tex import (
     _operator,
     _term,
     _words,
+    shown_decimals,
 )
 
 __all__ = ["step_rows"]
+
+APPROX = Tex(r"\approx", "~=")
 
 
 @functools.singledispatch
@@ -127,11 +131,35 @@ def _(step: CharacteristicStep, nt: Notation) -> tuple[Row, ...]:
         rows.append(Row((), (), (_words("roots not found in closed form"),)))
         return tuple(rows)
     which = {1: "simple root", 2: "double root", 3: "triple root"}
-    for root, mult in step.roots:
-        rows.append(
-            Row((lam,), (EQ, _e(root, nt)), (_words(which.get(mult, f"root of multiplicity {mult}")),))
-        )
+    numerical = [bool(root.atoms(sp.Float)) for root, _ in step.roots]
+    shown_sig = nt.sig if nt.sig is not None else NUMERICAL_ROOT_SHOWN
+    for (root, mult), approx in zip(step.roots, numerical, strict=True):
+        kind = which.get(mult, f"root of multiplicity {mult}")
+        value = _e(shown_decimals(root, shown_sig), nt) if approx else _e(root, nt)
+        words = _words(kind + (", numerical" if approx else ""))
+        rows.append(Row((lam,), (APPROX if approx else EQ, value), (words,)))
+    if any(numerical):
+        rows.extend(Row((), (), (_words(line),)) for line in numerical_roots_note(shown_sig))
     return tuple(rows)
+
+
+#: significant figures of a numerical root where the display has no figures of its own (exact display)
+NUMERICAL_ROOT_SHOWN = 12
+
+
+def numerical_roots_note(sig: int) -> tuple[str, str]:
+    """What a numerical root on the characteristic step is, and its precision, in two short lines.
+
+    The method and its settings are those of :func:`calckit.engine.roots.roots_for_response`
+    (the roots are found on the exact irreducible factors, so multiplicities are exact).
+
+    >>> numerical_roots_note(4)
+    ('numerical roots: sympy Poly.nroots (mpmath), 30 digits,', 'kept to 15 significant figures, shown to 4')
+    """
+    return (
+        f"numerical roots: sympy Poly.nroots (mpmath), {NROOTS_DIGITS} digits,",
+        f"kept to {ROOT_DIGITS} significant figures, shown to {sig}",
+    )
 
 
 @step_rows.register
@@ -337,8 +365,10 @@ def _(step: SwitchingTimesStep, nt: Notation) -> tuple[Row, ...]:
     ends = (sp.S.Zero, *step.times)
     for i, piece in enumerate(step.pieces):
         span = (
-            Tex(rf"{_e(ends[i], nt).latex} \le t < {_e(step.times[i], nt).latex}",
-                f"{_e(ends[i], nt).text} <= t < {_e(step.times[i], nt).text}")
+            Tex(
+                rf"{_e(ends[i], nt).latex} \le t < {_e(step.times[i], nt).latex}",
+                f"{_e(ends[i], nt).text} <= t < {_e(step.times[i], nt).text}",
+            )
             if i < len(step.times)
             else Tex(rf"t \ge {_e(ends[i], nt).latex}", f"t >= {_e(ends[i], nt).text}")
         )

@@ -104,6 +104,14 @@ class DerivationBlock:
     title: str
     derivation: Any  # Derivation or Response
     level: str
+    units: Any = None  # calckit.render.step_units.MotionUnits: what its numbers are in; None: not stated
+
+    @property
+    def numeric(self) -> bool:
+        """Whether the derivation has numbers for its parameters (no symbol but time in its solution)."""
+        solution = self.derivation.solution
+        t = getattr(self.derivation, "t", None)
+        return not {s for s in solution.free_symbols if s != t}
 
 
 @dataclass(frozen=True)

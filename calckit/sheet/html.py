@@ -144,7 +144,9 @@ def block_html(block: Any, number: str = "") -> Html:
         from calckit.render.display import derivation_html
 
         # a numeric derivation is shown in decimals to the sheet's figures; the engine stays exact
-        inner = derivation_html(block.derivation, level=block.level, sig=getattr(block, "sig", SHEET_SIG))
+        inner = derivation_html(
+            block.derivation, level=block.level, sig=getattr(block, "sig", SHEET_SIG), units=block.units
+        )
         # the derivation's steps are sub-steps of this sheet step: 3.2.1, 3.2.2, ...
         inner = re.sub(
             r'<span class="number">(\d+)</span>', rf'<span class="number">{number}.\1</span>', inner
@@ -153,7 +155,7 @@ def block_html(block: Any, number: str = "") -> Html:
         verdict = "verified by substitution" if block.derivation.verified else "NOT verified"
         return Html(
             f'<div class="derivation"><h3><span class="number">{escape(number)}</span> '
-            f'{prose(block.title)} <span class="tag">({verdict})</span></h3>{inner}</div>'
+            f'{prose(block.title)} <span class="tag">({verdict})</span></h3>{_units_html(block)}{inner}</div>'
         )
     if isinstance(block, Figure):
         return Html(
@@ -174,6 +176,19 @@ def block_html(block: Any, number: str = "") -> Html:
             f'<p class="{escape(block.kind)}"><em>{escape(block.kind.capitalize())}:</em> {prose(block.text)}</p>'
         )
     raise TypeError(f"no HTML for {type(block).__name__}")
+
+
+def _units_html(block: DerivationBlock) -> str:
+    """The line under a derivation's title that says what its numbers are in (nothing for a symbolic one)."""
+    from calckit.render.step_units import derivation_units_line
+
+    if block.units is None:
+        if not block.numeric:
+            return ""
+        return (
+            '<p class="derivation-units"><em>Units: not stated for the numbers of this derivation.</em></p>'
+        )
+    return f'<p class="derivation-units">{prose(derivation_units_line(block.units, block.derivation))}</p>'
 
 
 def _value_latex(value: Any) -> str:

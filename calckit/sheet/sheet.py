@@ -268,8 +268,27 @@ class Sheet(Steps):
         """
         return apply_units(self, OutputUnits.of(system, results))
 
-    def derivation(self, derivation: Any, title: str = "Derivation", *, level: str = "full"):
-        """Add a derivation (a :class:`~calckit.Derivation` or :class:`~calckit.Response`)."""
+    def derivation(
+        self, derivation: Any, title: str = "Derivation", *, level: str = "full", units: Any = None
+    ):
+        """Add a derivation (a :class:`~calckit.Derivation` or :class:`~calckit.Response`).
+
+        ``units`` says what a derivation with numbers is in: ``{"x": "m", "t": "s", "f":
+        "N"}`` (``t`` in s unless given) or ``"SI"`` for exactly that. The sheet states them
+        in a line under the title, with the units of the coefficients that follow from them
+        by dimensions (``kg``, ``N·s/m``, ``N/m``), and on every step whose numbers carry a
+        unit (the solved coefficients in m, m/s for the coefficient of ``t`` ...). A
+        derivation with numbers and no ``units`` says on the sheet that its units are not
+        stated. See :mod:`calckit.render.step_units`.
+
+        Raises
+        ------
+        SheetError
+            An unknown level, not a derivation, or units that are not ``x``, ``t``, ``f``
+            in units pint reads (``t`` a time).
+        """
+        from calckit.render.step_units import motion_units
+
         if level not in ("full", "summary"):
             raise SheetError(f"unknown level {level!r}", where="derivation", do='Use "full" or "summary"')
         if not hasattr(derivation, "steps"):
@@ -278,7 +297,8 @@ class Sheet(Steps):
                 where="derivation",
                 do="Pass what Oscillator.particular or Oscillator.response returned",
             )
-        self._add(DerivationBlock(title, derivation, level))
+        motion = motion_units(units, where=f"derivation {title!r}")
+        self._add(DerivationBlock(title, derivation, level, motion))
         return derivation
 
     def check(

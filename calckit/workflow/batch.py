@@ -318,9 +318,28 @@ def _end_workers(executor: cf.ProcessPoolExecutor) -> None:
 # The summary of a batch
 
 
-def _summary_columns(results: Sequence[CaseResult]) -> tuple[list[str], list[tuple[str, str]]]:
+@dataclass(frozen=True)
+class _Quantity:
+    """A result column of the summary: the sheet's label, the unit it shows, the SI unit of the record."""
+
+    name: str
+    label: str
+    shown_unit: str
+    si_unit: str
+
+
+def _split_shown(shown: str) -> tuple[str, str]:
+    """``"5.191 mm"`` as ``("5.191", "mm")``; a value without a unit as ``("7.856", "")``."""
+    number, _, unit = str(shown).strip().partition(" ")
+    return number, unit.strip()
+
+
+def _summary_columns(results: Sequence[CaseResult]) -> tuple[list[str], list[_Quantity]]:
+    """The checks and the numeric results of the built cases, in the order the sheets give them."""
+    from calckit.workflow.diff_text import result_label
+
     checks: list[str] = []
-    quantities: list[tuple[str, str]] = []
+    quantities: dict[str, _Quantity] = {}
     for result in results:
         if not result.record:
             continue
@@ -328,24 +347,39 @@ def _summary_columns(results: Sequence[CaseResult]) -> tuple[list[str], list[tup
             if check["name"] not in checks:
                 checks.append(check["name"])
         for item in result.record.get("results", []):
-            key = (item["name"], item.get("unit", ""))
-            if item.get("value") is not None and key not in quantities:
-                quantities.append(key)
-    return checks, quantities
+            if item.get("value") is None or item["name"] in quantities:
+                continue
+            quantities[item["name"]] = _Quantity(
+                item["name"],
+                result_label(item, None, item["name"]),
+                _split_shown(item.get("shown", ""))[1],
+                item.get("unit", ""),
+            )
+    return checks, list(quantities.values())
+
+
+def _shown_in(item: dict | None, unit: str) -> str:
+    """A case's result as its sheet shows it, the number alone when it is in the column's unit."""
+    if not item:
+        return ""
+    number, own = _split_shown(item.get("shown", ""))
+    return number if own == unit else f"{number} {own}".strip()
 
 
 def _summary_rows(results: Sequence[CaseResult]) -> tuple[list[str], list[list[Any]]]:
+    """The CSV table: one row a case; results under the sheets' labels in the units they show, then in SI."""
     checks, quantities = _summary_columns(results)
     header = ["case", "status", "checks met"]
     for name in checks:
         header += [f"{name}: verdict", f"{name}: margin %"]
-    header += [f"{name} [{unit}]" if unit else name for name, unit in quantities]
+    header += [f"{q.label} [{q.shown_unit}]" if q.shown_unit else q.label for q in quantities]
+    header += [f"{q.name} [{q.si_unit}]" if q.si_unit else q.name for q in quantities]  # SI, full precision
     header += ["message"]
     rows = []
     for result in results:
         record = result.record or {}
         by_check = {c["name"]: c for c in record.get("checks", [])}
-        by_result = {(r["name"], r.get("unit", "")): r for r in record.get("results", [])}
+        by_result = {r["name"]: r for r in record.get("results", [])}
         summary = record.get("summary")
         row: list[Any] = [
             result.name,
@@ -355,12 +389,15 @@ def _summary_rows(results: Sequence[CaseResult]) -> tuple[list[str], list[list[A
         for name in checks:
             check = by_check.get(name)
             row += [check["verdict"], check["margin_percent"]] if check else ["", ""]
-        for key in quantities:
-            item = by_result.get(key)
-            row.append(item["value"] if item else "")
+        row += [_shown_in(by_result.get(q.name), q.shown_unit) for q in quantities]
+        row += [(by_result.get(q.name) or {}).get("value", "") for q in quantities]
         row.append(result.message)
         rows.append(row)
     return header, rows
+
+
+#: cases side by side in one table of the HTML summary, so that it fits an A4 or Letter page
+CASES_PER_TABLE = 4
 
 
 _SUMMARIES = ("summary.csv", "summary.html")
@@ -388,9 +425,6 @@ def _check_summaries(out: Path, overwrite: bool) -> None:
 def _write_summary(
     out: Path, template: Template, results: Sequence[CaseResult], *, overwrite: bool = False
 ) -> tuple[Path, Path]:
-    from calckit.core.units import fmt_number
-    from calckit.render.page import Html, escape, html_page, table
-
     out.mkdir(parents=True, exist_ok=True)
     header, rows = _summary_rows(results)
     buffer = io.StringIO()
@@ -398,29 +432,73 @@ def _write_summary(
     writer.writerow(header)
     writer.writerows([[repr(c) if isinstance(c, float) else c for c in row] for row in rows])
     csv_path = write_text(out / "summary.csv", buffer.getvalue(), overwrite=overwrite)
+    html_path = write_text(out / "summary.html", _summary_page(template, results), overwrite=overwrite)
+    return csv_path, html_path
 
-    def shown(column: str, cell: Any) -> Any:
-        if isinstance(cell, float):
-            return f"{cell:+.1f}" if column.endswith("margin %") else fmt_number(cell, 4)
-        if cell == "not met":
-            return Html('<strong class="verdict verdict-not-met">NOT MET</strong>')
-        if cell == "failed":
-            return Html("<strong>failed</strong>")
-        if column == "case" and isinstance(cell, str):
-            return Html(f'<a href="{escape(cell)}/{escape(template.name)}.html">{escape(cell)}</a>')
-        return cell
 
-    html_rows = [[shown(h, c) for h, c in zip(header, row, strict=True)] for row in rows]
-    built = sum(r.ok for r in results)
+def _summary_page(template: Template, results: Sequence[CaseResult]) -> str:
+    """The HTML summary: the cases, then checks and results with the cases side by side, a few a table.
+
+    A table never holds more than :data:`CASES_PER_TABLE` cases, so that it fits the printable
+    width of A4 and Letter however many cases the batch has; long labels and messages wrap.
+    """
+    from calckit.render.page import Html, escape, html_page, table
+
+    def link(result: CaseResult) -> Any:
+        if not result.ok:
+            return result.name
+        return Html(f'<a href="{escape(result.name)}/{escape(template.name)}.html">{escape(result.name)}</a>')
+
+    def verdict(check: dict | None) -> Any:
+        if not check:
+            return ""
+        points = check.get("margin_unit") == "percentage points"
+        margin = f"{check['margin_percent']:+.1f} {'points' if points else '%'}"
+        if check["verdict"] == "not met":
+            return Html(f'<strong class="verdict verdict-not-met">NOT MET</strong><br>{escape(margin)}')
+        return Html(f"{escape(check['verdict'])}<br>{escape(margin)}")
+
+    cases_rows = []
+    for result in results:
+        summary = (result.record or {}).get("summary")
+        met = f"{summary['met']} of {summary['checks']}" if summary else ""
+        status = Html("<strong>failed</strong>") if not result.ok else result.status
+        cases_rows.append([link(result), status, met, result.message])
+    parts = [table(["Case", "Status", "Checks met", "Message"], cases_rows, cls="summary-cases")]
+
+    checks, quantities = _summary_columns(results)
+    built = [r for r in results if r.ok and r.record]
+    for start in range(0, len(built), CASES_PER_TABLE):
+        group = built[start : start + CASES_PER_TABLE]
+        which = (
+            f"case {escape(group[0].name)}"
+            if len(group) == 1
+            else f"cases {escape(group[0].name)} to {escape(group[-1].name)}"
+        )
+        names = [link(r) for r in group]
+        if checks:
+            by = [{c["name"]: c for c in r.record.get("checks", [])} for r in group]
+            rows = [[name, *(verdict(b.get(name)) for b in by)] for name in checks]
+            parts.append(f'<p class="table-caption">Checks, {which}: verdict and margin.</p>')
+            parts.append(table(["Check", *names], rows, cls="summary-wide"))
+        if quantities:
+            by = [{i["name"]: i for i in r.record.get("results", [])} for r in group]
+            rows = [
+                [q.label, q.shown_unit, *(_shown_in(b.get(q.name), q.shown_unit) for b in by)]
+                for q in quantities
+            ]
+            parts.append(f'<p class="table-caption">Results, {which}, as the sheets show them.</p>')
+            parts.append(table(["Result", "Unit", *names], rows, cls="summary-wide"))
+
+    done = sum(r.ok for r in results)
     body = (
         f"<h1>Batch of {counted(len(results), 'case')}: {escape(template.name)}</h1>"
-        f"<p>{built} built, {len(results) - built} failed. Each case's sheet is in its own folder; "
-        "margins are in percent of the limit (in percentage points where the checked value is "
-        "itself a percentage), positive when the check is met.</p>" + table(header, html_rows, cls="checks")
+        f"<p>{done} built, {len(results) - done} failed. Each case's sheet is in its own folder. Results "
+        "are under the sheets' own labels in the units the sheets show (summary.csv has them in SI as well); "
+        "margins are in percent of the limit (in percentage points where the checked value is itself a "
+        "percentage), positive when the check is met.</p>" + "".join(parts)
     )
-    page = html_page(f"Batch summary: {template.name}", body, footer_left=template.name)
-    html_path = write_text(out / "summary.html", page, overwrite=overwrite)
-    return csv_path, html_path
+    return html_page(f"Batch summary: {template.name}", Html(body), footer_left=template.name)
 
 
 def counted(number: int, noun: str) -> str:
