@@ -229,11 +229,11 @@ class Steps:
             comparison,
         )
         self._add(block)
-        # the basis names the method; its settings (atol scales with the response) are in the
-        # working of {name}_integrated, so a moved input does not read as a changed basis
+        # the basis names the method; its settings (atol scales with the response) are on the
+        # independent check's own step, so a moved input does not read as a changed basis
         basis = (
-            f"two routes to one equation: the derived x(t) against scipy.integrate.solve_ivp "
-            f"({comparison.method}), settings in the working of {name}_integrated"
+            "two routes to one equation: the derived x(t) against scipy.integrate.solve_ivp "
+            f"({comparison.method}); the settings are on the independent check's step"
         )
         return self.check(
             f"independent check: {title or name}", comparison.agreement, comparison.tolerance, basis=basis
