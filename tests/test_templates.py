@@ -442,7 +442,11 @@ class TestPeriodicLoad:
         assert closest > 1  # the example's frame: a higher harmonic, not the first, sits near resonance
         check = _check(record, "separation")
         assert _results(record)["closest_significant_harmonic"] == closest
-        assert check["value"] == pytest.approx(abs(closest * w / wn - 1) * 100, rel=1e-9)
+        # the sheet's separation step works from the two frequencies as shown, 4 significant figures (its
+        # rounding rule), each within half a unit of the 4th figure (5e-4 relative): the ratio moves by at most
+        # about 2 x 5e-4 of itself, which matters here where the separation itself is below 0.1 %
+        ratio = closest * w / wn
+        assert abs(check["value"] - abs(ratio - 1) * 100) <= 100 * ratio * 2 * 5e-4 * 1.0001
         assert check["verdict"] == ("met" if abs(closest * w / wn - 1) >= 0.2 else "not met")
         reach = _check(record, "highest harmonic kept")
         assert reach["value"] == pytest.approx(v["harmonics"] * w / wn, rel=1e-9)
@@ -483,3 +487,26 @@ class TestPeriodicLoad:
             rhs, (0, strokes * T), [0.0, 0.0], t_eval=times, rtol=1e-9, atol=1e-12, max_step=T / 400
         )
         assert res["peak_displacement"] == pytest.approx(np.max(np.abs(sol.y[0])), rel=0.02)
+
+    def test_every_result_shows_its_working(self, built):
+        """Issue 16: each numbered result names how it was obtained; the mean square (a formula step)
+        against scipy.integrate.quad of f^2 over one period, and the static deflections a_0/k and P/k."""
+        from scipy.integrate import quad
+
+        v, P, T, t1, t2, t3 = self._shape()
+        record = built["periodic_load"][0]
+        kinds = {"formula", "derivation", "input", "table", "procedure"}
+        for item in record["results"]:
+            assert item["working"]["kind"] in kinds and item["working"]["text"].strip(), item["name"]
+        res = _results(record)
+        pieces = [(0, t1, lambda s: P * s / t1), (t1, t1 + t2, lambda s: P), (t1 + t2, t1 + t2 + t3, lambda s: P * (t1 + t2 + t3 - s) / t3)]
+        ms = sum(quad(lambda s, g=g: g(s) ** 2, lo, hi)[0] for lo, hi, g in pieces) / T
+        assert res["mean_square"] == pytest.approx(ms, rel=1e-9)
+        k = _si(v, "frame_stiffness")
+        assert res["static_deflection"] == pytest.approx(P * (t1 / 2 + t2 + t3 / 2) / T / k, rel=1e-3)
+        assert res["peak_quasi_static"] == pytest.approx(P / k, rel=1e-3)
+        by_name = {i["name"]: i for i in record["results"]}
+        assert by_name["peak_displacement"]["working"]["kind"] == "procedure"
+        assert "4001" in by_name["peak_displacement"]["working"]["text"]
+        check = _check(record, "independent check")
+        assert check["verdict"] == "met"
