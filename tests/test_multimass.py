@@ -149,7 +149,7 @@ class TestResonance:
         assert all(1 in _powers_of_t(e) for e in der.solution)
         (res,) = der.steps_of("resonance")
         assert res.multiplicity == 1 and res.modes == (1,) and res.natural_frequency == 1
-        assert "mode 1 of the undamped model has the natural frequency 1 rad/s" in res.explanation
+        assert "mode 1 of the undamped model has the natural frequency $1$ rad/s" in res.explanation
         (exc,) = der.steps_of("mode-excitation")
         assert exc.excited and exc.unbounded and exc.growth_power == 1
         assert "grows without bound (like t times" in exc.explanation

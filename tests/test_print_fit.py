@@ -50,7 +50,8 @@ def demo_sheets(tmp_path_factory) -> dict[str, Path]:
         timeout=600,
         cwd=out,
     )
-    assert run.returncode == 0, run.stderr[-3000:]
+    # 3: built, with a check not met (the SP-601 demo's separation check is not met on purpose)
+    assert run.returncode in (0, 3), run.stderr[-3000:]
     sheets = {p.parent.name: p for p in sorted((out / "sheets").glob("*/*.html"))}
     assert len(sheets) >= 6, sorted(sheets)
     return sheets

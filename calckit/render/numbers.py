@@ -28,7 +28,8 @@ omega_n = sqrt(k/m) = sqrt((180 kN/m)/(250 kg)) = 26.83 rad/s
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from types import MappingProxyType
 from decimal import ROUND_HALF_UP, Decimal
 
 import numpy as np
@@ -215,6 +216,8 @@ class Substitution:
         The result's unit (pint's compact text; ``""`` for a pure number).
     sig : int
         Significant figures shown.
+    value_sig : mapping
+        Values shown with more figures than ``sig`` (a typed input with many digits), by name.
     """
 
     symbol: sp.Symbol
@@ -225,6 +228,7 @@ class Substitution:
     value: sp.Expr
     unit: str
     sig: int = 4
+    value_sig: Mapping = field(default_factory=lambda: MappingProxyType({}))
 
     @property
     def rounded(self) -> Decimal:
@@ -313,7 +317,9 @@ def _unit_names(unit) -> set[str]:
     return {name for name, _ in Q_(1, unit).unit_items()}
 
 
-def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, sig: int = 4) -> Substitution:
+def put_through(
+    symbol, formula, values: Mapping, *, unit: str | None = None, sig: int = 4, value_sig: Mapping | None = None
+) -> Substitution:
     r"""Put numbers with units through a formula.
 
     Parameters
@@ -331,6 +337,10 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
         result's kind (N/m for a stiffness), else pint's base units.
     sig : int
         Significant figures shown (1 to 15, default 4).
+    value_sig : mapping, optional
+        Symbol name -> significant figures to show that value with, when it was typed with
+        more than :data:`_TYPED_DIGITS` (an input such as ``12.3333333333 Hz``); the result
+        keeps ``sig``.
 
     Returns
     -------
@@ -395,7 +405,7 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
         exact_si[s] = to_si(q, f"{where}: value of {s.name}").magnitude
         in_base = q.to_base_units()
         base[s] = Q_(np.float64(in_base.magnitude), in_base.units)
-        latex, text = _quantity_pieces(q, sig)
+        latex, text = _quantity_pieces(q, (value_sig or {}).get(s.name, sig))
         negative = q.magnitude < 0
         shown[s.name] = (latex, negative)
         shown_text[s.name] = (text, negative or bool(_unit_text(q.units)))
@@ -413,14 +423,16 @@ def put_through(symbol, formula, values: Mapping, *, unit: str | None = None, si
     with sp.evaluate(False):  # the formula's shape as written: sympy would fold sqrt(3/8) into sqrt(6)/4
         shape = formula.xreplace(placeholders)
     if isinstance(formula, sp.Symbol):  # a value shown alone needs no brackets
-        substituted_latex, substituted_text = shown[formula.name][0], _quantity_pieces(inputs[0][1], sig)[1]
+        substituted_latex = shown[formula.name][0]
+        substituted_text = _quantity_pieces(inputs[0][1], (value_sig or {}).get(formula.name, sig))[1]
     else:
         substituted_latex = (
             _ValueLatex(shown).doprint(shape).replace(r"\operatorname{atan}_{2}", r"\operatorname{atan2}")
         )
         substituted_text = _ValueText(shown_text).doprint(shape)
     return Substitution(
-        name, formula, tuple(inputs), substituted_latex, substituted_text, value, unit_text, sig
+        name, formula, tuple(inputs), substituted_latex, substituted_text, value, unit_text, sig,
+        MappingProxyType(dict(value_sig or {})),
     )
 
 

@@ -75,8 +75,10 @@ class Steps:
             name = f"{label}_rad_s"
             symbol = (owner.symbol if owner else key).replace("\\", "").replace("{", "").replace("}", "")
             self._converted[given] = name
+            # an input typed with many digits (12.3333333333 Hz) is shown as typed, to 12 figures at most
+            typed = {k: min(12, _figures(v.magnitude)) for k, v in values.items() if owner is not None}
             self.calc(name, formula, values, symbol=symbol, unit="rad/s", sig=self.sig,
-                      title=f"{owner.description if owner else key} in rad/s ({note})")  # fmt: skip
+                      title=f"{owner.description if owner else key} in rad/s ({note})", value_sig=typed)  # fmt: skip
         return self.carried(self._converted[given])
 
     def calc(
@@ -90,6 +92,7 @@ class Steps:
         unit: str | None = None,
         reference: str = "",
         sig: int | None = None,
+        value_sig: dict | None = None,
     ):
         """Put numbers through a formula as a numbered step and return the result.
 
@@ -97,7 +100,8 @@ class Steps:
         results (or given in ``values``). The step shows the formula, the values
         with units substituted, and the result in ``unit``, to the sheet's ``sig``
         figures unless *sig* says otherwise. A speed in rpm or a frequency in Hz is
-        first converted to rad/s in a step of its own (once per sheet).
+        first converted to rad/s in a step of its own (once per sheet); an input typed
+        with more figures than that shows them as typed (``value_sig``: name -> figures).
 
         Raises
         ------
@@ -144,7 +148,7 @@ class Steps:
                 do="Give each result its own name",
             )
         needed = {key: self._in_rad_per_s(key, value, f"step {name}") for key, value in needed.items()}
-        record = put_through(symbol or name, expr, needed, unit=unit, sig=sig)
+        record = put_through(symbol or name, expr, needed, unit=unit, sig=sig, value_sig=value_sig)
         by_hand = reproduced(record)
         if by_hand is not None:
             raise SheetError(
@@ -238,3 +242,9 @@ class Steps:
         return self.check(
             f"independent check: {title or name}", comparison.agreement, comparison.tolerance, basis=basis
         )
+
+
+def _figures(x: float) -> int:
+    """Significant figures of *x* as Python prints it (``12.333333333333334`` has 17)."""
+    digits = repr(abs(float(x))).split("e")[0].replace(".", "").lstrip("0")
+    return max(1, len(digits.rstrip("0")) if "." in repr(float(x)) else len(digits.rstrip("0")) or 1)

@@ -167,7 +167,8 @@ def reproduced(record: Any) -> str | None:
 
     if not record.inputs:
         return None
-    values = {s.name: Q_(shown_magnitude(q, record.sig), q.units) for s, q in record.inputs}
+    digits = getattr(record, "value_sig", {}) or {}
+    values = {s.name: Q_(shown_magnitude(q, digits.get(s.name, record.sig)), q.units) for s, q in record.inputs}
     try:
         again = put_through(record.symbol, record.formula, values, unit=record.unit, sig=record.sig)
     except Exception:  # noqa: BLE001 - a printed value that cannot be put through (a 0 shown) is a mismatch
