@@ -8,14 +8,17 @@ time bound is the harness's (a child process with a timeout), never a timed asse
 
 from __future__ import annotations
 
+import math
 import subprocess
 import sys
 import textwrap
+import unicodedata
 
 import pytest
 import sympy as sp
 
 import calckit as ck
+from calckit.workflow.inputs import check_keys, read_inputs
 
 T = sp.Symbol("t", real=True)
 W = sp.Symbol("w", positive=True)
@@ -113,3 +116,196 @@ def test_hostile_inputs_end_quickly():
         [sys.executable, "-c", code], capture_output=True, text=True, timeout=120, check=True
     )
     assert done.stdout.split() == ["refused"] * 4
+
+
+# ---------------------------------------------------------------------------
+# Python's own limits (integer-string length, float range, recursion depth) reached from
+# hostile text are the kit's errors, naming the limit and the input.
+
+#: Python's default limit on the digits of an int converted from text (CPython 3.11 docs,
+#: "Integer string conversion length limitation", sys.get_int_max_str_digits).
+INT_DIGITS = sys.get_int_max_str_digits()
+
+
+class TestPythonLimits:
+    def test_int_limit_is_the_documented_default(self):
+        """The limit the messages quote is Python's: int() of more digits raises ValueError."""
+        assert INT_DIGITS == 4300
+        with pytest.raises(ValueError):
+            int("1" * (INT_DIGITS + 1))
+
+    def test_long_unit_text_refused_by_length(self):
+        """A unit with a 5000-digit factor is refused by the length bound, before int() sees it."""
+        with pytest.raises(ck.UnitsError, match=r"^mass: the text is 5,009 characters long"):
+            ck.quantity("1850 kg*1" + "0" * 5000, "mass")
+
+    @pytest.mark.parametrize(
+        "value, number",
+        [("1e999999 kg", "1e999999"), (10**5000, "of about 5,001 digits"), (sp.Integer(10) ** 400, "of about 401 digits")],
+        ids=["written", "python int", "sympy integer"],
+    )
+    def test_float_overflow_named(self, value, number):
+        """A number above the largest float (sys.float_info.max, IEEE 754 binary64) is named as an overflow."""
+        with pytest.raises(ck.UnitsError) as caught:
+            ck.quantity(value, "mass")
+        assert str(caught.value) == (
+            f"mass: the number {number} is larger than a float holds (about 1.8e308): it overflows. Give the "
+            "value in a larger unit, or check it for a slip (an exponent typed twice)."
+        )
+
+    def test_expression_power_overflow(self):
+        """10.0**400 is refused by the exponent bound, not computed."""
+        with pytest.raises(ck.InputsError) as caught:
+            ck.parse_expression("10.0**400", {}, where="forcing", t=T)
+        assert str(caught.value) == (
+            'forcing: the power "10.0**400" is too large. Use real exponents between -100 and 100.'
+        )
+
+    def test_product_of_big_numbers_bounded(self):
+        """Each factor in bounds, the product not: refused by its digits (far under the int-string limit)."""
+        with pytest.raises(ck.InputsError) as caught:
+            ck.parse_expression("1e300*1e300*t", {}, where="forcing", t=T)
+        assert str(caught.value) == (
+            'forcing: "1e300*1e300*t" makes a number of 602 digits. Keep numbers under 400 digits.'
+        )
+        assert 400 < INT_DIGITS
+
+    def test_deep_parentheses_name_the_parser_limit(self):
+        """Python's parser stops at 200 nested parentheses (CPython, Parser/tokenizer.c MAXLEVEL)."""
+        text = "(" * 250 + "t" + ")" * 250
+        with pytest.raises(ck.InputsError) as caught:
+            ck.parse_expression(text, {}, where="forcing", t=T)
+        assert str(caught.value) == (
+            "forcing: the expression nests parentheses or calls more than 200 deep (column 201), the limit of "
+            "Python's parser. Write a shorter, less nested expression."
+        )
+
+    def test_deep_operators_name_the_depth(self):
+        """Many unary minus signs pass the parser but not the reader's recursion: refused as nested too deeply."""
+        with pytest.raises(ck.InputsError, match="^forcing: the expression is nested too deeply"):
+            ck.parse_expression("-" * 1999 + "t", {}, where="forcing", t=T)
+
+    def test_inputs_file_long_integer(self, tmp_path):
+        """A 5000-digit integer in an inputs file: the line and Python's limit named, no ValueError."""
+        path = tmp_path / "p101.toml"
+        path.write_text('subject = "P-101"\nmass = ' + "1" * 5000 + "\n", encoding="utf-8")
+        with pytest.raises(ck.InputsError) as caught:
+            read_inputs(path)
+        assert str(caught.value) == (
+            f"{path}, line 2: a number has 5,000 digits, more than the 4,300 digits Python reads in a whole "
+            'number. Write the number with an exponent (1.5e9) or as text with a unit ("1850 kg").'
+        )
+
+    @pytest.mark.parametrize(
+        "text", ["mass = " + "[" * 5000 + "]" * 5000, "a = " + "{b = " * 3000 + "1" + "}" * 3000],
+        ids=["lists", "inline tables"],
+    )
+    def test_inputs_file_deep_nesting(self, tmp_path, text):
+        """Nesting past Python's recursion limit is refused in words, not as a RecursionError."""
+        path = tmp_path / "p101.toml"
+        path.write_text(text + "\n", encoding="utf-8")
+        with pytest.raises(ck.InputsError) as caught:
+            read_inputs(path)
+        assert str(caught.value) == (
+            f"{path}: the inputs file nests lists or tables deeper than calckit reads. Give each value as text "
+            "with a unit, a number or a flat list; group with one level of [tables]."
+        )
+
+    def test_cases_file_long_integer(self, tmp_path):
+        """The cases file goes through the same bounded reader."""
+        from calckit.workflow.toml_text import load_toml
+
+        with pytest.raises(ck.InputsError, match=r"^cases.toml, line 2: a number has 4,400 digits"):
+            load_toml('[[case]]\nmass = ' + "7" * 4400 + "\n", "cases.toml", "cases file")
+
+
+# ---------------------------------------------------------------------------
+# Look-alike characters: the message names the character, by unicodedata's name and code point.
+
+
+def lookalike_words(char: str, position: int, plain: str) -> str:
+    """The words a refusal uses, built from unicodedata (the outside source of the name)."""
+    return f"character {char!r} ({unicodedata.name(char)}, U+{ord(char):04X}) at position {position} looks like {plain!r}"
+
+
+class TestLookalikes:
+    def test_the_words_of_the_brief(self):
+        """unicodedata names U+0441 CYRILLIC SMALL LETTER ES (The Unicode Standard, Cyrillic block)."""
+        assert lookalike_words("\u0441", 3, "c") == (
+            "character 'с' (CYRILLIC SMALL LETTER ES, U+0441) at position 3 looks like 'c'"
+        )
+
+    @pytest.mark.parametrize(
+        "text, char, position, plain",
+        [("F0*\u0441os(w*t)", "\u0441", 4, "c"), ("F0*c\u03bfs(w*t)", "\u03bf", 5, "o"), ("F0 \u2212 t", "\u2212", 4, "-")],
+        ids=["cyrillic es", "greek omicron", "minus sign"],
+    )
+    def test_expression(self, text, char, position, plain):
+        with pytest.raises(ck.InputsError) as caught:
+            ck.parse_expression(text, {"F0": sp.Symbol("F0"), "w": W}, where="forcing", t=T)
+        assert str(caught.value) == (
+            f'forcing: {lookalike_words(char, position, plain)}, in "{text}". '
+            "Type it again with plain Latin letters and ASCII signs (- * / ' \")."
+        )
+
+    def test_unit(self):
+        """A Cyrillic ka in kg."""
+        with pytest.raises(ck.UnitsError) as caught:
+            ck.quantity("1850 \u043ag", "mass")
+        assert lookalike_words("\u043a", 6, "k") in str(caught.value)
+
+    def test_units_read_as_before(self):
+        """The micro and degree signs are units, not look-alikes."""
+        assert ck.quantity("25 µm", "x").to("m").magnitude == pytest.approx(25e-6)
+        assert ck.quantity("30 °", "a").to("rad").magnitude == pytest.approx(math.pi / 6)
+
+    def test_inputs_file_bare_key(self, tmp_path):
+        """A bare key with a Cyrillic es is broken TOML (TOML 1.0: bare keys are A-Za-z0-9_-): named."""
+        path = tmp_path / "p101.toml"
+        path.write_text('ma\u0441s = "1850 kg"\n', encoding="utf-8")
+        with pytest.raises(ck.InputsError) as caught:
+            read_inputs(path)
+        assert str(caught.value) == (
+            f"{path}, line 1, column 3: the inputs file is not valid TOML: {lookalike_words(chr(0x441), 3, 'c')} "
+            "(on that line). Type it again with plain Latin letters and ASCII signs (- * / ' \")."
+        )
+
+    def test_inputs_file_quoted_key(self):
+        """A quoted key is valid TOML; the template does not know it, and the message says why."""
+        with pytest.raises(ck.InputsError) as caught:
+            check_keys({"ma\u0441s": "1850 kg"}, {"mass": ""}, path="p101.toml")
+        assert f'unknown input "ma\u0441s" (did you mean "mass"?) ({lookalike_words(chr(0x441), 3, "c")})' in str(
+            caught.value
+        )
+
+    def test_declared_greek_name_still_read(self):
+        """Only a refused text is searched: a declared Greek name reads as before."""
+        omega = sp.Symbol("omega")
+        assert ck.parse_expression("cos(\u03c9*t)", {"\u03c9": omega}, where="forcing", t=T) == sp.cos(omega * T)
+
+
+def test_python_limits_end_quickly():
+    """The hostile texts of Python's limits in a child process the harness stops after 120 s."""
+    code = textwrap.dedent(
+        """
+        import sympy as sp, calckit as ck
+        from calckit.workflow.toml_text import load_toml
+        t = sp.Symbol("t", real=True)
+        cases = [
+            lambda: ck.quantity("1850 kg*1" + "0" * 5000, "mass"),
+            lambda: ck.quantity("1e999999 kg", "mass"),
+            lambda: ck.quantity("(" * 100000, "mass"),
+            lambda: ck.parse_expression("(" * 100000, {}, where="forcing", t=t),
+            lambda: ck.parse_expression("(" * 199 + "t" + ")" * 199 + "*10.0**400", {}, where="forcing", t=t),
+            lambda: load_toml("x = " + "[" * 100000 + "]" * 100000, "x.toml"),
+            lambda: load_toml("x = " + "9" * 100000, "x.toml"),
+        ]
+        for case in cases:
+            try:
+                case()
+            except ck.CalcError:
+                print("refused")
+        """
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120, check=True)
+    assert done.stdout.split() == ["refused"] * 7

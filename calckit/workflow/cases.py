@@ -12,7 +12,6 @@ import io
 import math
 import os
 import re
-import tomllib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -20,6 +19,7 @@ from typing import Any
 
 from calckit.errors import InputsError
 from calckit.workflow.templates import Template
+from calckit.workflow.toml_text import load_toml
 
 __all__ = ["Case", "read_cases"]
 
@@ -140,12 +140,7 @@ def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
                     wheres[key] = place
             cases.append(Case(name, values, wheres))
     elif path.suffix.lower() == ".toml":
-        try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise InputsError(
-                f"the cases file is not valid TOML: {exc}", where=str(path), do="Check the line named"
-            ) from None
+        data = load_toml(text, path, "cases file")
         tables = data.get("case")
         if set(data) - {"case"} or not isinstance(tables, list):
             raise InputsError(
