@@ -309,3 +309,39 @@ def test_python_limits_end_quickly():
     )
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120, check=True)
     assert done.stdout.split() == ["refused"] * 7
+
+
+class TestOutputUnits:
+    """A unit asked for a result ([units] table, Sheet.use_units) is bounded like a quantity's text."""
+
+    @pytest.mark.parametrize(
+        "unit, start",
+        [
+            ("in**10**10", 'units.x_max: "in**10**10" raises a power to a power.'),
+            ("m" * 100_000, "units.x_max: the text is 100,000 characters long"),
+            ("\u043ag", "units.x_max: character 'к' (CYRILLIC SMALL LETTER KA, U+043A) at position 1 looks like 'k'"),
+        ],
+        ids=["power of a power", "100 kB", "cyrillic ka"],
+    )
+    def test_refused(self, unit, start):
+        from calckit.sheet.output_units import OutputUnits
+
+        with pytest.raises(ck.UnitsError) as caught:
+            OutputUnits.of("SI", {"x_max": unit})
+        assert str(caught.value).startswith(start)
+
+    def test_ends_quickly(self):
+        """pint alone took minutes on these (the harness stops the child after 60 s)."""
+        code = textwrap.dedent(
+            """
+            import calckit as ck
+            from calckit.sheet.output_units import OutputUnits
+            for unit in ["m" * 100_000, "(" * 5000 + "m" + ")" * 5000, "in**10**10"]:
+                try:
+                    OutputUnits.of("SI", {"x_max": unit})
+                except ck.CalcError:
+                    print("refused")
+            """
+        )
+        done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60, check=True)
+        assert done.stdout.split() == ["refused"] * 3

@@ -65,6 +65,7 @@ __all__ = [
     "to_si",
     "angular_frequency",
     "cyclic_frequency",
+    "check_unit_text",
     "fmt",
     "fmt_number",
 ]
@@ -245,6 +246,29 @@ def _check_size(text: str, where: str) -> None:
             where=where,
             do="Write the number with an exponent, as 1.5e9",
         )
+
+
+def check_unit_text(text: str, where: str) -> None:
+    """Refuse a unit's text (``"in"``, ``"N*s/m"``) that pint should not be given: the bounds of
+    :func:`quantity`'s text (length, a power of a power, large powers, long numbers), and a
+    look-alike character (the micro, ohm and degree signs are not).
+
+    Raises
+    ------
+    UnitsError
+        Naming the limit, or the character.
+
+    Examples
+    --------
+    >>> check_unit_text("in**10**10", "units.x_max")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.UnitsError: units.x_max: "in**10**10" raises a power to a power. Write the unit with one power, as m**2 or s**-1.
+    """
+    _check_size(text, where)
+    better = lookalike_error(text.strip(), UnitsError, where=where)  # no unit pint knows is spelt with one
+    if better is not None:
+        raise better
 
 
 def _from_text(text: str, where: str, kind: Kind | None) -> pint.Quantity:
