@@ -345,3 +345,30 @@ class TestOutputUnits:
         )
         done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60, check=True)
         assert done.stdout.split() == ["refused"] * 3
+
+
+class TestDegreeBound:
+    """The degree of t is bounded once the forcing is multiplied out, and t**n itself needs no expansion, so
+    a forcing in bounds is derived and verified and one beyond is refused as too large, never as a defect."""
+
+    @pytest.mark.parametrize("order", [1, 2], ids=["x' = t**100", "x'' = t**100"])
+    def test_degree_100_derived_and_verified(self, order):
+        """Against sympy.integrate, once or twice (the particular solution with no constant terms)."""
+        coefficients = [1] + [0] * order
+        derivation = ck.LinearODE(coefficients).particular(T**100, t=T)
+        assert derivation.verified
+        expected = T**100
+        for _ in range(order):
+            expected = sp.integrate(expected, T)
+        assert sp.expand(derivation.solution - expected) == 0
+
+    @pytest.mark.parametrize(
+        "forcing, degree", [((T + 1) ** 100 * (T + 2) ** 100, 200), (T**10000, 10000)], ids=["product", "t**10000"]
+    )
+    def test_degree_beyond_refused(self, forcing, degree):
+        """(t+1)**100 (t+2)**100 has degree 200: sympy.Poly(...).degree() says so, outside the kit."""
+        assert sp.Poly(forcing, T).degree() == degree
+        with pytest.raises(ck.ForcingError) as caught:
+            ck.Oscillator(1, sp.Rational(1, 10), 4).particular(forcing, t=T)
+        assert f"it has degree {degree} in t once multiplied out, more than 100" in str(caught.value)
+        assert not isinstance(caught.value, ck.InternalError)
