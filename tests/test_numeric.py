@@ -445,3 +445,13 @@ class TestOverflow:
         """The frequency response keeps its inf at an undamped resonance (1/(k - m w^2) at w^2 = k/m)."""
         response = frequency_response(Oscillator(1, 0, 4), [2.0])
         assert np.isinf(np.abs(response.receptance[0]))
+
+    def test_compiled_forcing_names_the_overflow(self):
+        """compile_expr of the forcing itself: the exponential past the float range is named."""
+        with pytest.raises(ModelError, match=r"^evaluating the expression exp\(1000000\*t\): the expression "):
+            compile_expr(sp.exp(self.RATE * t), t)(np.linspace(0.0, 10.0, 11))
+
+    def test_compiled_division_by_zero_stays_quiet(self):
+        """1/(4 - w^2) at w = 2 is inf, as the module says (no exponential grows): given, not refused."""
+        w = sp.Symbol("w", positive=True)
+        assert np.isinf(compile_expr(1 / (4 - w**2), w)([2.0]))[0]
