@@ -8,6 +8,7 @@ time bound is the harness's (a child process with a timeout), never a timed asse
 
 from __future__ import annotations
 
+import json
 import math
 import subprocess
 import sys
@@ -372,3 +373,31 @@ class TestDegreeBound:
             ck.Oscillator(1, sp.Rational(1, 10), 4).particular(forcing, t=T)
         assert f"it has degree {degree} in t once multiplied out, more than 100" in str(caught.value)
         assert not isinstance(caught.value, ck.InternalError)
+
+
+class TestRecordsAsJson:
+    """A .json file given as a record, past Python's int-string or recursion limit (json.loads raises
+    ValueError / RecursionError there, Python docs of json and sys.get_int_max_str_digits): the kit's error."""
+
+    @pytest.mark.parametrize(
+        "text, why",
+        [
+            ('{"x": ' + "1" * 5000 + "}", "exceeds the limit (4300 digits) for integer string conversion"),
+            ("[" * 100_000 + "]" * 100_000, "nested deeper than Python reads"),
+        ],
+        ids=["long integer", "deep nesting"],
+    )
+    def test_read_record_and_diff(self, tmp_path, text, why):
+        from calckit.sheet import read_record
+        from calckit.workflow.diff import load_built_record
+
+        path = tmp_path / "sheet.json"
+        path.write_text(text, encoding="utf-8")
+        with pytest.raises((ValueError, RecursionError)):  # what json.loads alone does with it
+            json.loads(text)
+        with pytest.raises(ck.SheetError) as caught:
+            read_record(path)
+        assert str(caught.value).startswith(f"{path}: the file is not a sheet's record: {why}")
+        with pytest.raises(ck.InputsError) as caught:
+            load_built_record(path)
+        assert str(caught.value).lower().startswith(f"{path}: cannot read the record as json ({why}".lower())
