@@ -401,3 +401,45 @@ class TestRecordsAsJson:
         with pytest.raises(ck.InputsError) as caught:
             load_built_record(path)
         assert str(caught.value).lower().startswith(f"{path}: cannot read the record as json ({why}".lower())
+
+
+class TestCsvFiles:
+    """CSV files past the csv module's field limit (csv.field_size_limit(), 131072 by default, Python docs of
+    csv) or not UTF-8: the kit's InputsError, not csv.Error or UnicodeDecodeError."""
+
+    def test_field_limit_is_pythons(self, tmp_path):
+        import csv
+        import io
+
+        assert csv.field_size_limit() == 131072
+        with pytest.raises(csv.Error):
+            list(csv.reader(io.StringIO("t,x\n0," + "1" * 200_000 + "\n")))
+
+    def test_record_long_cell(self, tmp_path):
+        from calckit.physics.records import load_time_history
+
+        path = tmp_path / "long.csv"
+        path.write_text("time (s),force (N)\n0," + "1" * 200_000 + "\n", encoding="utf-8")
+        with pytest.raises(ck.InputsError) as caught:
+            load_time_history(path)
+        assert str(caught.value) == (
+            "long.csv: cannot read the file as CSV: field larger than field limit (131072). Give one time and "
+            "one value, plain numbers, on each row."
+        )
+
+    def test_record_not_utf8(self, tmp_path):
+        from calckit.physics.records import load_time_history
+
+        path = tmp_path / "latin.csv"
+        path.write_bytes(b"time (s),force (N)\n0,\xff\n")
+        with pytest.raises(ck.InputsError, match=r"^latin\.csv: the file is not UTF-8 text"):
+            load_time_history(path)
+
+    def test_cases_long_cell(self, tmp_path):
+        from calckit.workflow.cases import read_cases
+        from calckit.workflow.templates import load_template
+
+        path = tmp_path / "cases.csv"
+        path.write_text("case,mass\na," + "1" * 200_000 + "\n", encoding="utf-8")
+        with pytest.raises(ck.InputsError, match=r"cannot read the cases file as CSV: field larger than field limit"):
+            read_cases(path, load_template("single_mass_harmonic"))

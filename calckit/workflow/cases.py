@@ -111,7 +111,14 @@ def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
     cases: list[Case] = []
     seen: set[str] = set()
     if path.suffix.lower() == ".csv":
-        rows = list(csv.reader(io.StringIO(text)))
+        try:  # a cell past the csv module's field limit (131072 characters) is refused here, once
+            rows = list(csv.reader(io.StringIO(text)))
+        except csv.Error as exc:
+            raise InputsError(
+                f"cannot read the cases file as CSV: {exc}",
+                where=str(path),
+                do="Write case,<input>,<input>... then one row a case, each cell a value with its unit",
+            ) from None
         rows = [row for row in rows if any(cell.strip() for cell in row)]
         if not rows or [c.strip() for c in rows[0]][:1] != ["case"]:
             raise InputsError(
