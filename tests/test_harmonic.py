@@ -16,6 +16,7 @@ from scipy.optimize import brentq, minimize_scalar
 from calckit.errors import CalcError, ModelError
 from calckit.physics.harmonic import (
     HalfPowerPoints,
+    forced_amplitude,
     frequency_ratio,
     half_power_bandwidth,
     half_power_points,
@@ -112,8 +113,9 @@ class TestMagnification:
             ("magnification", lambda: magnification(1.0, 0.0)),
             ("transmissibility", lambda: transmissibility(1, 0)),
             ("peak_magnification", lambda: ck.peak_magnification(0)),
+            ("forced_amplitude", lambda: forced_amplitude(900.0, 1000.0, 0.0, 1e7, 100.0)),
         ],
-        ids=["magnification ints", "magnification floats", "transmissibility", "peak magnification"],
+        ids=["magnification ints", "magnification floats", "transmissibility", "peak magnification", "amplitude"],
     )
     def test_undamped_resonance_single_number_says_resonance(self, func, call):
         """A single number at r = 1, zeta = 0 is refused in words, not given as inf. That the amplitude

@@ -203,7 +203,9 @@ def forced_amplitude(F0, m, c, k, omega):
 
     Plain numbers and numpy arrays only (broadcast together), SI units; the same as
     ``F0 / k * magnification(r, zeta)``, written in the physical parameters so that a run-up's
-    envelope and an isolator's amplitude need no ratios. Undamped resonance gives ``inf``.
+    envelope and an isolator's amplitude need no ratios. Undamped resonance (``c = 0``,
+    ``k = m omega^2``) raises :class:`ModelError` saying so for single values, and gives
+    ``inf`` in an array (a run-up's envelope through resonance).
 
     References
     ----------
@@ -216,7 +218,7 @@ def forced_amplitude(F0, m, c, k, omega):
     """
     F0, m, c, k, w = (np.asarray(v, dtype=float) for v in (F0, m, c, k, omega))
     with np.errstate(divide="ignore"):
-        return _out(F0 / np.hypot(k - m * w * w, c * w))  # inf at undamped resonance: an envelope's peak
+        return _refuse_scalar_resonance(F0 / np.hypot(k - m * w * w, c * w), "forced_amplitude")
 
 
 def magnification(r, zeta):
