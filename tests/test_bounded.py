@@ -443,3 +443,24 @@ class TestCsvFiles:
         path.write_text("case,mass\na," + "1" * 200_000 + "\n", encoding="utf-8")
         with pytest.raises(ck.InputsError, match=r"cannot read the cases file as CSV: field larger than field limit"):
             read_cases(path, load_template("single_mass_harmonic"))
+
+
+class TestLookalikeNames:
+    def test_cases_column(self, tmp_path):
+        """A cases file's column spelt with a Cyrillic a (U+0430) for Latin a."""
+        from calckit.workflow.cases import read_cases
+        from calckit.workflow.templates import load_template
+
+        path = tmp_path / "cases.csv"
+        path.write_text("case,m\u0430ss\na,1850 kg\n", encoding="utf-8")
+        with pytest.raises(ck.InputsError) as caught:
+            read_cases(path, load_template("single_mass_harmonic"))
+        assert f'unknown input "m\u0430ss" ({lookalike_words(chr(0x430), 2, "a")})' in str(caught.value)
+
+    def test_template_name(self):
+        """A bundled template's name typed with a Greek omicron (U+03BF) for o."""
+        from calckit.workflow.templates import load_template
+
+        with pytest.raises(ck.BuildError) as caught:
+            load_template("peri\u03bfdic_load")
+        assert lookalike_words("\u03bf", 5, "o") in str(caught.value)

@@ -17,6 +17,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from calckit.core.characters import lookalike
 from calckit.errors import InputsError
 from calckit.workflow.templates import Template
 from calckit.workflow.toml_text import load_toml
@@ -218,8 +219,9 @@ def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, lin
             close = difflib.get_close_matches(name, list(known), n=1)
             hint = f'Did you mean "{close[0]}"? ' if close else ""
             line = line_of(name)
+            found = lookalike(name)
             raise InputsError(
-                f'unknown input "{name}"',
+                f'unknown input "{name}"' + (f" ({found})" if found else ""),
                 where=f"{path}, line {line}" if line else str(path),
                 do=f"{hint}The template's inputs are {', '.join(n for n in known if n not in OPTIONAL_TITLE_FIELDS)}",
             )
