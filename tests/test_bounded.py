@@ -464,3 +464,11 @@ class TestLookalikeNames:
         with pytest.raises(ck.BuildError) as caught:
             load_template("peri\u03bfdic_load")
         assert lookalike_words("\u03bf", 5, "o") in str(caught.value)
+
+
+def test_declared_greek_name_is_no_cause():
+    """With rho (U+03C1) declared, another mistake in the expression is named as itself, not as rho."""
+    rho = sp.Symbol("rho")
+    with pytest.raises(ck.InputsError) as caught:
+        ck.parse_expression("\u03c1^2*t", {"\u03c1": rho}, where="forcing", t=T)
+    assert 'the operator "^" is not a power' in str(caught.value) and "GREEK" not in str(caught.value)

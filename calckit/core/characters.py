@@ -52,10 +52,10 @@ def _resembles(char: str) -> str | None:
     return plain if plain.isascii() and plain.strip() else None
 
 
-def lookalike(text: str) -> str | None:
+def lookalike(text: str, allowed: str = "") -> str | None:
     """The first character of *text* drawn like an ASCII one, described; None if there is none.
 
-    Positions count from 1.
+    Positions count from 1; characters in *allowed* (those of declared names) are passed over.
 
     Examples
     --------
@@ -65,19 +65,22 @@ def lookalike(text: str) -> str | None:
     True
     """
     for position, char in enumerate(text, start=1):
-        plain = _resembles(char)
+        plain = None if char in allowed else _resembles(char)
         if plain is not None:
             name = unicodedata.name(char, "an unnamed character")
             return f"character {char!r} ({name}, U+{ord(char):04X}) at position {position} looks like {plain!r}"
     return None
 
 
-def lookalike_error(text: str, error: type[CalcError], *, where: str, subject: str = "") -> CalcError | None:
+def lookalike_error(
+    text: str, error: type[CalcError], *, where: str, subject: str = "", allowed: str = ""
+) -> CalcError | None:
     """The error to raise instead when *text*, refused, holds a look-alike character; else None.
 
     Callers ask only once they refuse the text, so that a name or unit that reads well
     with such a character (a declared Greek name) is never refused for it. *subject*
     says whose text it is (``'the expression "сos(t)"'``); the text in quotes by default.
+    Characters in *allowed* (those of the caller's declared names: a Greek ``ρ``) are no cause.
 
     Examples
     --------
@@ -85,7 +88,7 @@ def lookalike_error(text: str, error: type[CalcError], *, where: str, subject: s
     >>> print(lookalike_error("сos(t)", InputsError, where="forcing"))
     forcing: character 'с' (CYRILLIC SMALL LETTER ES, U+0441) at position 1 looks like 'c', in "сos(t)". Type it again with plain Latin letters and ASCII signs (- * / ' ").
     """
-    found = lookalike(text)
+    found = lookalike(text, allowed)
     if found is None:
         return None
     return error(

@@ -355,7 +355,8 @@ def parse_expression(
     try:
         return _parse(text, names, where=where, t=t, functions=functions)
     except InputsError as exc:  # a character drawn like a Latin one is likely the cause: say which
-        better = lookalike_error(text, InputsError, where=where) if isinstance(text, str) else None
+        declared = "".join(str(name) for name in [*names, *(functions or {})])  # a declared Greek name is no cause
+        better = lookalike_error(text, InputsError, where=where, allowed=declared) if isinstance(text, str) else None
         if better is None:
             raise
         raise better from exc
