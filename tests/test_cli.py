@@ -265,13 +265,34 @@ class TestExitCodes:
 
     @pytest.mark.parametrize("command", [[], ["build"], ["batch"], ["demo"], ["diff"], ["new"]])
     def test_help_says_the_exit_codes(self, capsys, command):
-        """The help of the command and of each sub-command states the exit codes."""
+        """The help of the command states all the exit codes; each sub-command's, those it can end with."""
         with pytest.raises(SystemExit):
             cli.main([*command, "--help"])
         out = " ".join(capsys.readouterr().out.split())
-        assert " ".join(cli.EXIT_CODES.split()) in out
-        assert "1 a template cell that failed on another error" in out
-        assert "a defect of calckit (an internal error" in out
+        said = cli.COMMAND_EXIT_CODES[command[0]] if command else cli.EXIT_CODES
+        assert " ".join(said.split()) in out
+        assert "a defect of calckit (an internal error" in out and "130 interrupted" in out
+        if command in ([], ["build"], ["demo"]):
+            assert "1 a template cell that failed on another error" in out
+            assert "a build past its time limit" in out
+
+    @pytest.mark.parametrize("command", ["build", "batch", "demo", "diff", "new"])
+    def test_help_offers_only_options_it_takes(self, capsys, command):
+        """Every --option a command's help names is one argparse accepts for that command."""
+        with pytest.raises(SystemExit):
+            cli.main([command, "--help"])
+        named = set(re.findall(r"(?<![\w-])--[a-z][a-z-]*[a-z]", capsys.readouterr().out))
+        sub = next(a for a in cli.parser()._actions if a.dest == "command").choices[command]
+        accepted = {option for action in sub._actions for option in action.option_strings}
+        assert named <= accepted, f"{command} --help names {sorted(named - accepted)}, which it does not take"
+
+    def test_new_says_nothing_of_what_it_lacks(self, capsys):
+        """new takes no --overwrite and builds nothing: its help speaks of neither."""
+        with pytest.raises(SystemExit):
+            cli.main(["new", "--help"])
+        out = " ".join(capsys.readouterr().out.split())
+        assert "overwrite" not in out and "check" not in out and "template cell" not in out
+        assert "new never replaces a file" in out
 
 
 class TestDemo:
@@ -502,6 +523,51 @@ class TestHelp:
             cli.main(["build", TEMPLATE])
         assert info.value.code == 2
         assert "the following arguments are required: --inputs, --out" in capsys.readouterr().err
+
+
+#: A child that holds the import of the command line's build module (a finder that says so on stdout,
+#: then sleeps), so that SIGINT lands while the command line is still being imported.
+_HELD_IMPORT = """
+import sys, time
+class Hold:
+    def find_spec(self, name, path=None, target=None):
+        if name == "calckit.workflow.build":
+            print("importing", flush=True)
+            time.sleep(60)
+        return None
+sys.meta_path.insert(0, Hold())
+sys.argv = ["calckit", "build", "x.ipynb", "--inputs", "x.toml", "--out", "out"]
+"""
+
+
+class TestInterruptWhileImporting:
+    @pytest.mark.parametrize(
+        "start",
+        [
+            "import runpy; runpy.run_module('calckit', run_name='__main__', alter_sys=True)",
+            "from importlib.metadata import entry_points; "
+            "sys.exit(entry_points(group='console_scripts')['calckit'].load()())",
+        ],
+        ids=["python -m calckit", "the calckit command's entry point"],
+    )
+    def test_ctrl_c_during_the_imports(self, tmp_path, start):
+        """SIGINT before main's handler is set: one line, exit 130, no traceback (the shell's word)."""
+        import signal
+
+        process = subprocess.Popen(
+            [sys.executable, "-c", _HELD_IMPORT + start],
+            cwd=tmp_path,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+        )
+        try:
+            assert process.stdout.readline() == "importing\n"
+            process.send_signal(signal.SIGINT)
+            stdout, stderr = process.communicate(timeout=30)
+        finally:
+            process.kill()
+        assert (process.returncode, stdout, stderr) == (130, "", "calckit: interrupted\n")
 
 
 class TestLightStart:

@@ -16,6 +16,7 @@ from scipy.optimize import brentq, minimize_scalar
 from calckit.errors import CalcError, ModelError
 from calckit.physics.harmonic import (
     HalfPowerPoints,
+    forced_amplitude,
     frequency_ratio,
     half_power_bandwidth,
     half_power_points,
@@ -32,6 +33,15 @@ from calckit.physics.harmonic import (
     zeta_from_log_decrement,
 )
 from tests.reference import harmonic_fit, last_periods, steady_state
+
+import calckit as ck
+
+#: The refusal of an undamped exact resonance, as the kit words it (pinned here, once).
+RESONANCE = (
+    "{func}: undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound: there is "
+    "no steady-state amplitude. Add damping (zeta > 0) or move the speed off the natural frequency; "
+    "Oscillator.response gives the growing resonant response."
+)
 
 r_sym, z_sym = sp.symbols("r zeta", positive=True)
 
@@ -91,13 +101,32 @@ class TestMagnification:
         assert magnification(np.array([0.0, 1.0]), 0.0)[1] == np.inf
 
     def test_undamped_resonance_exact_raises(self):
-        """Exact path refuses an infinite amplitude."""
+        """Exact path refuses an infinite amplitude, saying resonance."""
         with pytest.raises(ModelError) as info:
             magnification(sp.Integer(1), 0)
-        assert str(info.value) == (
-            "magnification: undamped resonance (r = 1, zeta = 0): the steady-state amplitude is unbounded. "
-            "Give some damping, or use Oscillator.response for the growing resonant response."
-        )
+        assert str(info.value) == RESONANCE.format(func="magnification")
+
+    @pytest.mark.parametrize(
+        "func, call",
+        [
+            ("magnification", lambda: magnification(1, 0)),
+            ("magnification", lambda: magnification(1.0, 0.0)),
+            ("transmissibility", lambda: transmissibility(1, 0)),
+            ("peak_magnification", lambda: ck.peak_magnification(0)),
+            ("forced_amplitude", lambda: forced_amplitude(900.0, 1000.0, 0.0, 1e7, 100.0)),
+        ],
+        ids=["magnification ints", "magnification floats", "transmissibility", "peak magnification", "amplitude"],
+    )
+    def test_undamped_resonance_single_number_says_resonance(self, func, call):
+        """A single number at r = 1, zeta = 0 is refused in words, not given as inf. That the amplitude
+        is unbounded there: sympy.limit of 1/sqrt((1 - r^2)^2) as r -> 1 is oo (Rao, Mechanical
+        Vibrations, 5th ed., eq. (3.30) with zeta = 0, from memory)."""
+        r = sp.Symbol("r", positive=True)
+        assert sp.limit(1 / sp.sqrt((1 - r**2) ** 2), r, 1) == sp.oo
+        with pytest.raises(ModelError) as info:
+            call()
+        assert str(info.value) == RESONANCE.format(func=func)
+        assert "resonance" in info.value.what and "report" not in str(info.value)
 
     def test_negative_r(self):
         """A negative frequency ratio is named in the message."""

@@ -12,11 +12,12 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pytest
 import sympy as sp
 
 import calckit as ck
-from calckit.errors import InputsError
+from calckit.errors import InputsError, ModelError
 from calckit.physics.criteria import (
     ISOLATION_RATIO_BASIS,
     LEAST_ISOLATION_RATIO,
@@ -155,7 +156,9 @@ class TestSmallForms:
         assert float(forced_amplitude(900.0, 1850.0, 3650.0, 720e3, 155.0)) == pytest.approx(
             abs(900.0 / (720e3 - 1850.0 * 155.0**2 + 1j * 3650.0 * 155.0)), rel=1e-14
         )
-        assert float(forced_amplitude(1.0, 1.0, 0.0, 4.0, 2.0)) == math.inf
+        with pytest.raises(ModelError, match="undamped at exact resonance"):  # a single value: said in words
+            forced_amplitude(1.0, 1.0, 0.0, 4.0, 2.0)
+        assert forced_amplitude(1.0, 1.0, 0.0, 4.0, np.array([1.0, 2.0]))[1] == math.inf  # a curve: inf
 
     def test_unbalance_force(self):
         """U Omega^2 equals m_u e omega^2 with U = m_u e (Rao sec. 3.7, from memory), exactly."""

@@ -400,3 +400,58 @@ class TestFrequencyResponse:
         assert str(info.value) == (
             "frequency_response: expected an Oscillator or LinearODE, got str. Pass the model, e.g. Oscillator(m, c, k)."
         )
+
+
+class TestOverflow:
+    """A forcing that grows past the float range is named as an overflow, never blamed on calckit."""
+
+    RATE = 10**6  # exp(1e6 t) over 10 s
+
+    def test_float_range_outside(self):
+        """The bound the message quotes: ln(sys.float_info.max) = 709.78... (IEEE 754 binary64), and
+        numpy's exp overflows past it."""
+        import sys
+
+        assert math.log(sys.float_info.max) == pytest.approx(709.782712893384)
+        with np.errstate(over="ignore"):
+            assert np.isinf(np.exp(710.0))
+
+    def test_evaluate_names_the_overflow(self):
+        res = Oscillator(1, sp.Rational(1, 10), 4).response(sp.exp(self.RATE * t), 0, 0, t=t)
+        with pytest.raises(ModelError) as caught:
+            res.evaluate(np.linspace(0.0, 10.0, 11))
+        onset = math.log(1.7976931348623157e308) / self.RATE  # from the float range above
+        assert str(caught.value) == (
+            "evaluating the response x(t): the response x(t) overflows: it passes the largest float (about "
+            f"1.8e308) by t = 1 s; exp(1000000*t) passes it once t > {onset:.3g} s. Shorten the time evaluated to "
+            "before it overflows, or check the forcing's growth rate (a motion that large is no vibration)."
+        )
+        assert "report" not in str(caught.value)
+
+    def test_finite_before_the_onset(self):
+        """Before ln(max float)/a the same response evaluates: the refusal is the overflow, not the forcing."""
+        res = Oscillator(1, sp.Rational(1, 10), 4).response(sp.exp(self.RATE * t), 0, 0, t=t)
+        assert np.all(np.isfinite(res.evaluate(np.linspace(0.0, 5e-4, 6))))
+
+    def test_independent_check_names_the_overflow(self):
+        """compare_peak refuses before scipy.integrate.solve_ivp fails on it."""
+        from calckit.engine.crosscheck import compare_peak
+
+        res = Oscillator(1, sp.Rational(1, 10), 4).response(sp.exp(self.RATE * t), 0, 0, t=t)
+        with pytest.raises(ModelError, match=r"^evaluating the derived response: the derived response overflows"):
+            compare_peak(res.solution, 1.0, 0.1, 4.0, sp.exp(self.RATE * t), t, duration=10.0, samples=101)
+
+    def test_receptance_at_resonance_still_quiet(self):
+        """The frequency response keeps its inf at an undamped resonance (1/(k - m w^2) at w^2 = k/m)."""
+        response = frequency_response(Oscillator(1, 0, 4), [2.0])
+        assert np.isinf(np.abs(response.receptance[0]))
+
+    def test_compiled_forcing_names_the_overflow(self):
+        """compile_expr of the forcing itself: the exponential past the float range is named."""
+        with pytest.raises(ModelError, match=r"^evaluating the expression exp\(1000000\*t\): the expression "):
+            compile_expr(sp.exp(self.RATE * t), t)(np.linspace(0.0, 10.0, 11))
+
+    def test_compiled_division_by_zero_stays_quiet(self):
+        """1/(4 - w^2) at w = 2 is inf, as the module says (no exponential grows): given, not refused."""
+        w = sp.Symbol("w", positive=True)
+        assert np.isinf(compile_expr(1 / (4 - w**2), w)([2.0]))[0]

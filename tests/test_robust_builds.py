@@ -146,6 +146,19 @@ def test_time_limit_of_a_build(tmp_path):
     assert not (tmp_path / "out").exists()
 
 
+def test_time_limit_exit_code(tmp_path):
+    """At the command line a build past its time limit exits 2, as the README's exit codes say (an input
+    or usage problem: the limit given, or a template that does not end), with one line naming the cell."""
+    inputs = _inputs(tmp_path / "in.toml", 120)
+    process = _calckit("build", str(SLEEPS), "--inputs", str(inputs), "--out", str(tmp_path / "out"), "--time-limit", "2")
+    stdout, stderr = process.communicate(timeout=120)
+    assert process.returncode == 2, stderr
+    assert stderr.startswith("calckit build: error: ") and stderr.count("\n") == 1
+    assert "ran past its time limit of 2 s, in cell 3 ('import os')" in stderr
+    readme = (Path(__file__).parents[1] / "README.md").read_text(encoding="utf-8")
+    assert "a build past its time limit (exit 2" in " ".join(readme.split())
+
+
 def test_time_limit_in_a_batch(tmp_path):
     """In a batch, a case that hangs fails on time and the case after it is built, in one worker (its
     kernel is replaced)."""

@@ -381,6 +381,33 @@ class TestArbitraryForcing:
         assert _results(record)["peak_displacement"] == pytest.approx(np.max(np.abs(ref)), rel=1e-3)
 
 
+class TestSingleMassHarmonic:
+    def test_undamped_exact_resonance_says_resonance(self, tmp_path):
+        """Undamped and driven exactly at omega_n = sqrt(k/m) = sqrt(1e7 N/m / 1000 kg) = 100 rad/s: the
+        steady amplitude F0 / |k - m omega^2| is unbounded (Rao, Mechanical Vibrations, 5th ed., sec. 3.3,
+        from memory; checked here by sympy.limit), and the build says "resonance", not a division by zero."""
+        w = sp.Symbol("w", positive=True)
+        assert sp.limit(900 / sp.Abs(10**7 - 1000 * w**2), w, 100) == sp.oo
+        text = (EXAMPLES / "harrow_creek_p101.toml").read_text(encoding="utf-8")
+        for name, value in (
+            ("mass", '"1000 kg"'),
+            ("stiffness", '"10000 kN/m"'),
+            ("forcing_frequency", '"100 rad/s"'),
+            ("damping_ratio", "0"),
+        ):
+            text = _changed(text, name, value)
+        path = tmp_path / "resonance.toml"
+        path.write_text(text, encoding="utf-8")
+        with pytest.raises(CellError) as caught:
+            build_sheet("single_mass_harmonic", path, tmp_path / "out")
+        assert caught.value.user_error and caught.value.ename == "ModelError"
+        message = str(caught.value)
+        assert "undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound" in message
+        assert "Add damping (zeta > 0) or move the speed off the natural frequency" in message
+        assert "zero in a denominator" not in message and "report" not in message
+        assert not (tmp_path / "out").exists()
+
+
 class TestPeriodicLoad:
     example = "harrow_creek_sp601_stroke.toml"
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import sys
 import pickle
 from fractions import Fraction
 
@@ -246,7 +247,18 @@ class TestQuantity:
             quantity("  ", "k", expect="stiffness")
         assert message(excinfo) == 'k: the value is empty. Give a number and a unit, for example "12 N/mm".'
 
-    @pytest.mark.parametrize("text", ["nan kg", "inf N", "-Infinity", "1e400 kg"])
+    def test_overflowing_number_named(self):
+        """1e400 is beyond the largest float (sys.float_info.max, about 1.797e308; IEEE 754 binary64):
+        refused as an overflow, naming the number, not as 'not finite'."""
+        assert math.isinf(float("1e400")) and sys.float_info.max < 1e309
+        with pytest.raises(UnitsError) as excinfo:
+            quantity("1e400 kg", "m")
+        assert message(excinfo) == (
+            "m: the number 1e400 is larger than a float holds (about 1.8e308): it overflows. Give the value in a "
+            "larger unit, or check it for a slip (an exponent typed twice)."
+        )
+
+    @pytest.mark.parametrize("text", ["nan kg", "inf N", "-Infinity"])
     def test_not_finite_text(self, text):
         """NaN and infinity in text are refused."""
         with pytest.raises(UnitsError) as excinfo:

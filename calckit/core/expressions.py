@@ -33,6 +33,7 @@ from typing import Any
 
 import sympy as sp
 
+from calckit.core.characters import lookalike_error, repr_text
 from calckit.core.exact import exact
 from calckit.errors import CalcError, InputsError
 
@@ -52,7 +53,11 @@ _COMPARISONS = {ast.Lt: sp.Lt, ast.LtE: sp.Le, ast.Gt: sp.Gt, ast.GtE: sp.Ge}
 _MAX_LENGTH = 2000
 _MAX_EXPONENT = 100  # largest power of a number in an expression
 _MAX_DECIMAL_EXPONENT = 300  # largest e-exponent in a number written
-_MAX_DIGITS = 10_000  # largest number of digits a power of a number may have
+_PARSER_NESTING = 200  # most parentheses Python's parser opens in one expression
+#: Most digits of a number in an expression, written or made by a power or a product: well under
+#: Python's limit on printing a whole number (``sys.get_int_max_str_digits()``, 4300 by default),
+#: so that the number, and what the engine makes of it, can be shown on a sheet.
+_MAX_DIGITS = 400
 _OPERATORS = {ast.Add: "+", ast.Sub: "-", ast.Mult: "*", ast.Div: "/", ast.Pow: "**"}
 _REFUSED_OPERATORS = {
     ast.Mod: "%",
@@ -279,7 +284,8 @@ class _Reader:
 
 
 def _digits(r: sp.Rational) -> int:
-    return len(str(abs(r.p))) + len(str(r.q))
+    """Decimal digits of numerator and denominator, counted without printing them."""
+    return sum(int(abs(n).bit_length() * math.log10(2)) + 1 for n in (r.p, r.q))
 
 
 def _declared(names: Mapping[str, Any], t: sp.Symbol, where: str) -> dict[str, sp.Basic]:
@@ -346,6 +352,17 @@ def parse_expression(
     ...
     calckit.errors.InputsError: forcing: the operator "^" is not a power in "t^2". Use ** for powers, for example t**2.
     """
+    try:
+        return _parse(text, names, where=where, t=t, functions=functions)
+    except InputsError as exc:  # a character drawn like a Latin one is likely the cause: say which
+        declared = "".join(str(name) for name in [*names, *(functions or {})])  # a declared Greek name is no cause
+        better = lookalike_error(text, InputsError, where=where, allowed=declared) if isinstance(text, str) else None
+        if better is None:
+            raise
+        raise better from exc
+
+
+def _parse(text, names, *, where, t, functions) -> sp.Expr:
     if not isinstance(text, str):
         raise InputsError(
             f"expected the expression as text, got {type(text).__name__} {text!r}",
@@ -373,6 +390,13 @@ def parse_expression(
     try:
         tree = ast.parse(text, mode="eval")
     except SyntaxError as exc:
+        if "too many nested parentheses" in str(exc.msg):  # Python's parser stops at 200 levels
+            raise InputsError(
+                f"the expression nests parentheses or calls more than {_PARSER_NESTING} deep "
+                f"(column {exc.offset}), the limit of Python's parser",
+                where=where,
+                do="Write a shorter, less nested expression",
+            ) from exc
         column = f" (column {exc.offset})" if exc.offset else ""
         raise InputsError(
             f'cannot read "{text}" as an expression{column}',
@@ -391,6 +415,13 @@ def parse_expression(
         raise InputsError(
             "the expression is nested too deeply", where=where, do="Write a shorter, less nested expression"
         ) from exc
+    big = next((r for r in result.atoms(sp.Rational) if _digits(r) > _MAX_DIGITS), None)
+    if big is not None:  # a product of many numbers, each in bounds
+        raise InputsError(
+            f"{repr_text(text)} makes a number of {_digits(big):,} digits",
+            where=where,
+            do=f"Keep numbers under {_MAX_DIGITS} digits",
+        )
     if result.has(sp.nan, sp.zoo, sp.oo, -sp.oo):
         raise InputsError(f'"{text}" is not finite', where=where, do="Check for division by zero")
     for power in result.atoms(sp.Pow):  # sympy merges (x**a)**b into x**(a*b): bound what it made

@@ -40,6 +40,7 @@ from __future__ import annotations
 import difflib
 import math
 import re
+import sys
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import cache
@@ -50,6 +51,7 @@ import numpy as np
 import pint
 import sympy as sp
 
+from calckit.core.characters import lookalike_error
 from calckit.core.exact import exact as _exact
 from calckit.core.rounding import rounded_decimal
 from calckit.errors import UnitsError
@@ -64,6 +66,7 @@ __all__ = [
     "to_si",
     "angular_frequency",
     "cyclic_frequency",
+    "check_unit_text",
     "fmt",
     "fmt_number",
 ]
@@ -246,6 +249,29 @@ def _check_size(text: str, where: str) -> None:
         )
 
 
+def check_unit_text(text: str, where: str) -> None:
+    """Refuse a unit's text (``"in"``, ``"N*s/m"``) that pint should not be given: the bounds of
+    :func:`quantity`'s text (length, a power of a power, large powers, long numbers), and a
+    look-alike character (the micro, ohm and degree signs are not).
+
+    Raises
+    ------
+    UnitsError
+        Naming the limit, or the character.
+
+    Examples
+    --------
+    >>> check_unit_text("in**10**10", "units.x_max")
+    Traceback (most recent call last):
+    ...
+    calckit.errors.UnitsError: units.x_max: "in**10**10" raises a power to a power. Write the unit with one power, as m**2 or s**-1.
+    """
+    _check_size(text, where)
+    better = lookalike_error(text.strip(), UnitsError, where=where)  # no unit pint knows is spelt with one
+    if better is not None:
+        raise better
+
+
 def _from_text(text: str, where: str, kind: Kind | None) -> pint.Quantity:
     _check_size(text, where)
     if not text.strip():
@@ -264,8 +290,8 @@ def _from_text(text: str, where: str, kind: Kind | None) -> pint.Quantity:
     number_text, unit_text = match.group(1), match.group(2).strip()
     if "e" in number_text.lower() or "." in number_text:
         magnitude: int | float = float(number_text)
-        if not math.isfinite(magnitude):
-            raise UnitsError(f'"{text}" is not a finite number', where=where, do="Give a finite number")
+        if not math.isfinite(magnitude):  # 1e999999 overflows to inf
+            raise UnitsError(_overflow(number_text), where=where, do=_OVERFLOW_DO)
     else:
         magnitude = int(number_text)
     if unit_text.startswith("/"):  # "1/s": the number is the numerator of the unit
@@ -291,9 +317,29 @@ def _example(kind: Kind | None) -> str:
     return kind.example if kind else "250 kg"
 
 
+#: The largest finite float, about 1.8e308: a number above it overflows.
+LARGEST_FLOAT = sys.float_info.max
+_OVERFLOW_DO = "Give the value in a larger unit, or check it for a slip (an exponent typed twice)"
+
+
+def _overflow(number: str) -> str:
+    shown = number if len(number) <= 40 else f"{number[:20]}... ({len(number):,} characters)"
+    return f"the number {shown} is larger than a float holds (about 1.8e308): it overflows"
+
+
+def _big_number(value: Any) -> str:
+    """How an overflowing number is named without printing all its digits."""
+    whole = int(value) if isinstance(value, int | sp.Integer) else None
+    if whole is not None:
+        return f"of about {int(whole.bit_length() * math.log10(2)) + 1:,} digits"
+    return f"given as {type(value).__name__}"
+
+
 def _check_finite(q: pint.Quantity, where: str, shown: str) -> None:
     try:
         ok = bool(np.all(np.isfinite(np.asarray(q.magnitude, dtype=float))))
+    except OverflowError as exc:  # a whole number beyond the largest float
+        raise UnitsError(_overflow(str(shown)), where=where, do=_OVERFLOW_DO) from exc
     except (TypeError, ValueError) as exc:
         raise UnitsError(
             f"cannot read the magnitude of {shown} as a number", where=where, do="Give a number"
@@ -349,14 +395,27 @@ def quantity(value: Any, where: str, *, expect: str | None = None) -> pint.Quant
         )
     if isinstance(value, str):
         shown = value.strip()
-        q = _from_text(value, where, kind)
+        try:
+            q = _from_text(value, where, kind)
+        except UnitsError as exc:  # a character drawn like a Latin one is likely the cause: say which
+            better = lookalike_error(value.strip(), UnitsError, where=where)
+            if better is None:
+                raise
+            raise better from exc
     elif isinstance(value, pint.Quantity):
         q = value if value._REGISTRY is ureg else Q_(value.magnitude, str(value.units))
         shown = fmt(q) if np.ndim(q.magnitude) == 0 else str(q)
     elif isinstance(value, int):
+        if abs(value) > LARGEST_FLOAT:  # before str(): its digits may pass Python's int-string limit
+            raise UnitsError(_overflow(_big_number(value)), where=where, do=_OVERFLOW_DO)
         q, shown = Q_(value), str(value)
     elif isinstance(value, float | Fraction) or (isinstance(value, sp.Basic) and value.is_number):
-        number = float(value)
+        try:
+            number = float(value)
+        except OverflowError as exc:
+            raise UnitsError(_overflow(_big_number(value)), where=where, do=_OVERFLOW_DO) from exc
+        if math.isinf(number) and not (isinstance(value, float) or value in (sp.oo, -sp.oo, sp.zoo)):
+            raise UnitsError(_overflow(_big_number(value)), where=where, do=_OVERFLOW_DO)
         q, shown = Q_(int(number) if isinstance(value, sp.Integer) else number), str(value)
     elif isinstance(value, Number):
         q, shown = Q_(float(value)), str(value)

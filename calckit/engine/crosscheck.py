@@ -32,6 +32,7 @@ from typing import Any
 import numpy as np
 import sympy as sp
 
+from calckit.engine.numeric import refuse_overflow
 from calckit.errors import ModelError
 
 __all__ = ["PeakComparison", "compare_peak", "integrate_motion", "INTEGRATION_METHOD"]
@@ -258,7 +259,12 @@ def compare_peak(
         )
     rows = list(solution) if isinstance(solution, (list, tuple, sp.MatrixBase)) else [solution]
     times = np.linspace(0.0, float(duration), samples)
-    derived = np.vstack([fn(times) for fn in _functions(rows, t, "derived response")])
+    with np.errstate(all="ignore"):  # inf and NaN named below, not warned of
+        derived = np.vstack([fn(times) for fn in _functions(rows, t, "derived response")])
+        refuse_overflow(derived, sum(rows, sp.Integer(0)), t, times, "derived response")
+        loads = list(forcing) if isinstance(forcing, (list, tuple, sp.MatrixBase)) else [forcing]
+        pushed = np.vstack([fn(times) for fn in _functions(loads, t, "forcing")])
+        refuse_overflow(pushed, sum(loads, sp.Integer(0)), t, times, "forcing f(t)")
     atol_used = atol if atol is not None else 1e-12 * max(1e-300, float(np.max(np.abs(derived))) or 1.0)
     integrated = integrate_motion(
         mass, damping, stiffness, forcing, t, x0, v0, times, breaks=breaks, rtol=rtol, atol=atol_used

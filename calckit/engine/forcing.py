@@ -310,6 +310,8 @@ def _qp(expr: sp.Expr, t: sp.Symbol) -> dict:
             if base.has(t):
                 raise _Refusal(expr, "both its base and its exponent depend on t", _NUMERIC)
             return _qp(sp.exp(expo * sp.log(base)), t)
+        if base == t and expo.is_Integer and expo >= 0:  # t**n is a basis function: nothing to expand
+            return {(sp.S.Zero, sp.S.Zero, COS, int(expo)): sp.S.One}
         if expo.is_Integer and expo > MAX_POWER and base.has(t):
             raise _TooLarge(expr, f"it is raised to the power {expo}, more than {MAX_POWER}", _SMALLER)
         if expo.is_Integer and expo >= 0:
@@ -486,6 +488,14 @@ def split_forcing(f, t: sp.Symbol | None = None) -> ForcingSplit:
                 do=refusal.do,
             ) from None
     acc = _sum(parts)
+    degree = max((n for (_a, _b, _kind, n), coef in acc.items() if coef != 0), default=0)
+    if degree > MAX_POWER:  # the trial form would need that many coefficients a group
+        raise ForcingError(
+            f"the forcing is too large to expand: it has degree {degree} in t once multiplied out, "
+            f"more than {MAX_POWER}",
+            where=f"forcing {expr}" if len(str(expr)) <= 200 else "forcing",
+            do=_SMALLER,
+        )
     grouped: dict[tuple, list[ForcingTerm]] = defaultdict(list)
     for (a, b, kind, n), coef in acc.items():
         coef = sp.expand(coef)

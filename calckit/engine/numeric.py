@@ -32,6 +32,8 @@ array([ 1., -1.])
 
 from __future__ import annotations
 
+import math
+import sys
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -49,6 +51,7 @@ __all__ = [
     "compile_expr",
     "float_matrix",
     "frequency_response",
+    "refuse_overflow",
     "time_history",
 ]
 
@@ -96,7 +99,18 @@ class Compiled:
         return tuple(p.name for p in self.parameters)
 
     def __call__(self, times, **values) -> np.ndarray:
-        """Evaluate at *times* (number, sequence or array; a pint time is taken in s)."""
+        """Evaluate at *times* (number, sequence or array; a pint time is taken in s).
+
+        An exponential of the expression growing past the float range is refused, naming it
+        (:func:`refuse_overflow`); an inf of a division by zero is given as it is.
+        """
+        out, args = self._values(times, values)
+        if all(np.all(np.isfinite(a)) for a in args):
+            refuse_overflow(out, self.expr, self.t, args[0], f"expression {sp.sstr(self.expr)[:60]}", growth_only=True)
+        return out
+
+    def _values(self, times, values: dict) -> tuple[np.ndarray, list]:
+        """The values at *times*, and the arrays they were computed from (times first)."""
         x = _times_array(times, self.t.name)
         args = [x]
         missing = [name for name in self.parameter_names if name not in values]
@@ -118,7 +132,7 @@ class Compiled:
             )
         for name in self.parameter_names:
             args.append(_value_array(values[name], name))
-        return _evaluate(self.function, args)
+        return _evaluate(self.function, args), args
 
 
 def _times_array(times, name: str) -> np.ndarray:
@@ -325,12 +339,63 @@ def time_history(response_or_derivation, times, *, part: str = "solution", **val
     """
     expr, t = _source(response_or_derivation, part)
     parameters = sorted(expr.free_symbols - {t}, key=lambda s: s.name)
+    label = {"solution": "response x(t)", "transient": "transient", "steady_state": "steady state"}[part]
     if isinstance(expr, sp.MatrixBase):  # a multi-mass model: one row per coordinate, shape (n, *times.shape)
-        rows = [compile_expr(row, t, parameters=parameters)(times, **values) for row in expr]
+        rows = [compile_expr(row, t, parameters=parameters)._values(times, values)[0] for row in expr]
         shape = np.broadcast_shapes(*(np.shape(row) for row in rows))
-        return np.stack([np.broadcast_to(row, shape) for row in rows])
-    compiled = compile_expr(expr, t, parameters=parameters)
-    return compiled(times, **values)
+        out = np.stack([np.broadcast_to(row, shape) for row in rows])
+    else:
+        out = compile_expr(expr, t, parameters=parameters)._values(times, values)[0]
+    moments = _times_array(times, t.name)
+    if all(np.all(np.isfinite(_value_array(v, "x"))) for v in (moments, *values.values())):
+        refuse_overflow(out, expr, t, moments, label)  # finite in, not finite out: the float range passed
+    return out
+
+
+#: ln of the largest float (sys.float_info.max, about 1.8e308): exp(x) overflows for x above it.
+LN_LARGEST_FLOAT = math.log(sys.float_info.max)
+
+
+def refuse_overflow(
+    values: np.ndarray, expr: Any, t: sp.Symbol, times: np.ndarray, label: str, *, growth_only: bool = False
+) -> None:
+    """Raise :class:`ModelError` naming the overflow if *values* of *expr* at finite *times* passed the float range.
+
+    A time history of the kit's forcings (quasi-polynomials, switched) is finite at every
+    finite time; an inf there, or a NaN where an exponential of *expr* passes the largest
+    float within *times* (``inf - inf``), means the float range was passed (``exp(a t)``
+    with a large ``a``). The message names the fastest growing exponential and the time it
+    overflows. A NaN of another cause (a formula's 0/0 at the values given) is left as it is;
+    with *growth_only* an inf is too unless such an exponential explains it (a compiled
+    receptance is infinite at an undamped resonance, quietly).
+    """
+    finite = np.isfinite(values)
+    if finite.all():
+        return
+    times = np.asarray(times, dtype=float)
+    rates = []
+    for term in sp.sympify(expr).atoms(sp.exp):
+        rate = sp.diff(term.args[0], t)
+        if rate.is_number and sp.re(rate).is_positive:
+            rates.append((float(sp.re(rate)), term))
+    fastest = max(rates, key=lambda pair: pair[0], default=None)
+    passes = fastest is not None and times.size and fastest[0] * float(np.max(times)) > LN_LARGEST_FLOAT
+    if not (passes or (np.isinf(values).any() and not growth_only)):
+        return
+    try:  # the first time at which any coordinate is not finite
+        mask = (~finite).reshape(-1, *times.shape).any(axis=0)
+        at = f" by t = {float(times[mask].min()):.4g} s"
+    except ValueError:  # values broadcast beyond the times: no one time to name
+        at = ""
+    what = f"the {label} overflows: it passes the largest float (about 1.8e308){at}"
+    if fastest is not None:
+        what += f"; {sp.sstr(fastest[1])[:60]} passes it once t > {LN_LARGEST_FLOAT / fastest[0]:.3g} s"
+    raise ModelError(
+        what,
+        where=f"evaluating the {label}",
+        do="Shorten the time evaluated to before it overflows, or check the forcing's growth rate "
+        "(a motion that large is no vibration)",
+    )
 
 
 @dataclass(frozen=True, kw_only=True)

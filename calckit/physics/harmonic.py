@@ -11,8 +11,10 @@ Two paths, chosen by the type of the inputs:
   resonance) raises :class:`~calckit.errors.ModelError`, because a calculation sheet
   must not carry an infinite amplitude.
 * **numeric**: ints, floats and numpy arrays are broadcast together and the result
-  is a numpy float (all inputs scalar) or array. Undamped resonance gives ``inf`` so
-  that frequency-response curves can be drawn straight through ``r = 1``.
+  is a numpy float (all inputs scalar) or array. A single value at undamped
+  resonance (``r = 1, zeta = 0``) raises :class:`~calckit.errors.ModelError` saying
+  "resonance", as the exact path does; in an array it gives ``inf``, so that
+  frequency-response curves can be drawn straight through ``r = 1``.
 
 Bad values (negative, NaN, infinite, not a number) raise
 :class:`~calckit.errors.ModelError` naming the function and the argument.
@@ -153,8 +155,22 @@ def _finite(expr: sp.Expr, func: str, what: str, do: str) -> sp.Expr:
     return expr
 
 
-_RESONANCE = "undamped resonance (r = 1, zeta = 0): the steady-state amplitude is unbounded"
-_RESONANCE_DO = "Give some damping, or use Oscillator.response for the growing resonant response"
+_RESONANCE = (
+    "undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound: "
+    "there is no steady-state amplitude"
+)
+_RESONANCE_DO = (
+    "Add damping (zeta > 0) or move the speed off the natural frequency; "
+    "Oscillator.response gives the growing resonant response"
+)
+
+
+def _refuse_scalar_resonance(result, func: str):
+    """A single value at undamped resonance is refused in words; an array keeps its ``inf`` (curves)."""
+    out = _out(result)
+    if np.ndim(out) == 0 and np.isinf(out):
+        raise ModelError(_RESONANCE, where=func, do=_RESONANCE_DO)
+    return out
 
 
 # --------------------------------------------------------------------------- closed forms
@@ -188,7 +204,9 @@ def forced_amplitude(F0, m, c, k, omega):
 
     Plain numbers and numpy arrays only (broadcast together), SI units; the same as
     ``F0 / k * magnification(r, zeta)``, written in the physical parameters so that a run-up's
-    envelope and an isolator's amplitude need no ratios. Undamped resonance gives ``inf``.
+    envelope and an isolator's amplitude need no ratios. Undamped resonance (``c = 0``,
+    ``k = m omega^2``) raises :class:`ModelError` saying so for single values, and gives
+    ``inf`` in an array (a run-up's envelope through resonance).
 
     References
     ----------
@@ -201,7 +219,7 @@ def forced_amplitude(F0, m, c, k, omega):
     """
     F0, m, c, k, w = (np.asarray(v, dtype=float) for v in (F0, m, c, k, omega))
     with np.errstate(divide="ignore"):
-        return _out(F0 / np.hypot(k - m * w * w, c * w))
+        return _refuse_scalar_resonance(F0 / np.hypot(k - m * w * w, c * w), "forced_amplitude")
 
 
 def magnification(r, zeta):
@@ -220,8 +238,8 @@ def magnification(r, zeta):
     -------
     sympy.Expr or numpy float/array
         Steady-state amplitude over the deflection under the force amplitude applied statically, ``F0 / k``
-        (not the static deflection under the weight, ``m g / k``). Numeric path:
-        ``inf`` at ``r = 1, zeta = 0``; exact path: :class:`ModelError` there.
+        (not the static deflection under the weight, ``m g / k``). At ``r = 1, zeta = 0``
+        (undamped resonance) :class:`ModelError` for a single value; ``inf`` in an array of values.
 
     References
     ----------
@@ -239,7 +257,7 @@ def magnification(r, zeta):
         m = 1 / sp.sqrt((1 - r**2) ** 2 + (2 * z * r) ** 2)
         return _finite(m, "magnification", _RESONANCE, _RESONANCE_DO)
     with np.errstate(divide="ignore"):
-        return _out(1.0 / np.sqrt((1.0 - r * r) ** 2 + (2.0 * z * r) ** 2))
+        return _refuse_scalar_resonance(1.0 / np.sqrt((1.0 - r * r) ** 2 + (2.0 * z * r) ** 2), "magnification")
 
 
 def phase_angle(r, zeta):
@@ -302,7 +320,7 @@ def transmissibility(r, zeta):
         return _finite(tr, "transmissibility", _RESONANCE, _RESONANCE_DO)
     q = (2.0 * z * r) ** 2
     with np.errstate(divide="ignore"):
-        return _out(np.sqrt((1.0 + q) / ((1.0 - r * r) ** 2 + q)))
+        return _refuse_scalar_resonance(np.sqrt((1.0 + q) / ((1.0 - r * r) ** 2 + q)), "transmissibility")
 
 
 def transmissibility_phase(r, zeta):
@@ -416,7 +434,8 @@ def peak_magnification(zeta):
 
     .. math:: M_{max} = \frac{1}{2 \zeta \sqrt{1 - \zeta^2}}, \qquad 0 \le \zeta < 1/\sqrt{2}
 
-    Numeric path: ``inf`` for ``zeta = 0``; exact path raises there.
+    ``zeta = 0`` (undamped: the peak is a resonance without bound) raises for a single
+    value, exact or not; an array gives ``inf`` there.
 
     References
     ----------
@@ -433,7 +452,7 @@ def peak_magnification(zeta):
         m = 1 / (2 * z * sp.sqrt(1 - z**2))
         return _finite(m, "peak_magnification", "zeta = 0: the resonant peak is unbounded", "Give zeta > 0")
     with np.errstate(divide="ignore"):
-        return _out(1.0 / (2.0 * z * np.sqrt(1.0 - z * z)))
+        return _refuse_scalar_resonance(1.0 / (2.0 * z * np.sqrt(1.0 - z * z)), "peak_magnification")
 
 
 def quality_factor(zeta):

@@ -296,6 +296,22 @@ def load_time_history(
             where=where,
             do="Split the record into parts, or resample it coarser",
         )
+    try:
+        return _read_rows(path, where, time_unit, value_unit, step_tolerance)
+    except UnicodeDecodeError as exc:
+        raise InputsError(
+            f"the file is not UTF-8 text (byte {exc.start + 1})", where=where, do="Save it as UTF-8 CSV"
+        ) from None
+    except csv.Error as exc:  # a cell past the csv module's field limit (131072 characters), a broken quote
+        raise InputsError(
+            f"cannot read the file as CSV: {exc}",
+            where=where,
+            do="Give one time and one value, plain numbers, on each row",
+        ) from None
+
+
+def _read_rows(path: Path, where: str, time_unit, value_unit, step_tolerance) -> TimeHistory:
+    """The rows of :func:`load_time_history`'s file, read and checked."""
     with path.open(newline="", encoding="utf-8-sig") as handle:
         reader = csv.reader(handle)
         header, header_line = None, 0

@@ -50,7 +50,7 @@ from typing import Any
 
 import pint
 
-from calckit.core.units import Q_, ureg
+from calckit.core.units import Q_, check_unit_text, ureg
 from calckit.errors import UnitsError
 
 __all__ = ["SYSTEMS", "OutputUnits", "system_of"]
@@ -144,6 +144,8 @@ class OutputUnits:
         checked = []
         for name, unit in (results or {}).items():
             where = wheres.get(name, f"units.{name}")
+            if isinstance(unit, str):
+                check_unit_text(unit, where)  # bounded before pint parses it
             try:
                 if not isinstance(unit, str) or not unit.strip():
                     raise ValueError

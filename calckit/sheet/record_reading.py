@@ -102,6 +102,13 @@ def read_record(path_or_text: str | os.PathLike, *, where: str | None = None) ->
             where=where,
             do="Give the .json record of a sheet, as Sheet.save writes it",
         ) from None
+    except (ValueError, RecursionError) as exc:  # Python's int-string and recursion limits: no record has them
+        why = "nested deeper than Python reads" if isinstance(exc, RecursionError) else str(exc).split(";")[0]
+        raise SheetError(
+            f"the file is not a sheet's record: {why[:1].lower()}{why[1:]}",
+            where=where,
+            do="Give the .json record of a sheet, as Sheet.save writes it",
+        ) from None
     return record_from_dict(data, where)
 
 

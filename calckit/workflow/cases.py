@@ -12,14 +12,15 @@ import io
 import math
 import os
 import re
-import tomllib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
+from calckit.core.characters import lookalike
 from calckit.errors import InputsError
 from calckit.workflow.templates import Template
+from calckit.workflow.toml_text import load_toml
 
 __all__ = ["Case", "read_cases"]
 
@@ -111,7 +112,14 @@ def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
     cases: list[Case] = []
     seen: set[str] = set()
     if path.suffix.lower() == ".csv":
-        rows = list(csv.reader(io.StringIO(text)))
+        try:  # a cell past the csv module's field limit (131072 characters) is refused here, once
+            rows = list(csv.reader(io.StringIO(text)))
+        except csv.Error as exc:
+            raise InputsError(
+                f"cannot read the cases file as CSV: {exc}",
+                where=str(path),
+                do="Write case,<input>,<input>... then one row a case, each cell a value with its unit",
+            ) from None
         rows = [row for row in rows if any(cell.strip() for cell in row)]
         if not rows or [c.strip() for c in rows[0]][:1] != ["case"]:
             raise InputsError(
@@ -140,12 +148,7 @@ def read_cases(path: str | os.PathLike, template: Template) -> tuple[Case, ...]:
                     wheres[key] = place
             cases.append(Case(name, values, wheres))
     elif path.suffix.lower() == ".toml":
-        try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise InputsError(
-                f"the cases file is not valid TOML: {exc}", where=str(path), do="Check the line named"
-            ) from None
+        data = load_toml(text, path, "cases file")
         tables = data.get("case")
         if set(data) - {"case"} or not isinstance(tables, list):
             raise InputsError(
@@ -216,8 +219,9 @@ def _check_names(names: Sequence[str], known: Mapping[str, Any], path: Path, lin
             close = difflib.get_close_matches(name, list(known), n=1)
             hint = f'Did you mean "{close[0]}"? ' if close else ""
             line = line_of(name)
+            found = lookalike(name)
             raise InputsError(
-                f'unknown input "{name}"',
+                f'unknown input "{name}"' + (f" ({found})" if found else ""),
                 where=f"{path}, line {line}" if line else str(path),
                 do=f"{hint}The template's inputs are {', '.join(n for n in known if n not in OPTIONAL_TITLE_FIELDS)}",
             )

@@ -26,11 +26,13 @@ Exit codes
     on purpose (its inputs file says why), to show what such a sheet looks like.
 2
     Bad input: the message names the file, the key and the line where known; a
-    refused overwrite; or a template cell that failed on one of calckit's errors
-    about the input (``CellError.user_error``).
+    refused overwrite; a build that ran past its time limit (``--time-limit``; the
+    message names the cell that ran); or a template cell that failed on one of
+    calckit's errors about the input (``CellError.user_error``).
 1
     A template cell that failed on another error (the template's own), a batch
-    in which some case failed (the summary is written), or a defect of calckit:
+    in which some case failed (a case past its time limit among them; the summary
+    is written), or a defect of calckit:
     an :class:`~calckit.errors.InternalError`, raised directly or in a template's
     cell, or any other unexpected error. The message then says so and carries a
     line to report.
@@ -61,7 +63,7 @@ from calckit.core.files import write_text
 from calckit.errors import CalcError, CellError, InternalError, OverwriteError
 from calckit.workflow import batch, build, starter
 
-__all__ = ["CHECKS_NOT_MET", "EXIT_CODES", "main", "parser"]
+__all__ = ["CHECKS_NOT_MET", "COMMAND_EXIT_CODES", "EXIT_CODES", "main", "parser"]
 
 
 def _summary(func: Callable) -> str:
@@ -121,14 +123,40 @@ def _documented(module: str, name: str) -> Callable | types.SimpleNamespace:
 #: The exit code of a command whose sheets were all built but a check on one is not met.
 CHECKS_NOT_MET = 3
 
-#: The exit codes, as the help of every command shows them.
+#: The exit codes of all the commands, as the top-level help shows them.
 EXIT_CODES = (
     "Exit codes: 0 done, every check met; 3 built, but a check is not met (the sheet says which; "
-    "the SP-601 demo has one on purpose); 2 bad input, a refused overwrite, or a template cell that failed on one of "
-    "calckit's errors about the input; 1 a template cell that failed on another error, a batch in which "
-    "some case failed (the summary is written), or a defect of calckit (an internal error, also one raised "
-    "in a template cell: the message carries a line to report); 130 interrupted."
+    "the SP-601 demo has one on purpose); 2 bad input, a refused overwrite, a build past its time limit, "
+    "or a template cell that failed on one of calckit's errors about the input; 1 a template cell that "
+    "failed on another error, a batch in which some case failed (a case past its time limit among them; the "
+    "summary is written), or a defect of calckit (an internal error, also one raised in a template cell: the "
+    "message carries a line to report); 130 interrupted."
 )
+
+_DEFECT = "1 a defect of calckit (an internal error: the message carries a line to report); 130 interrupted."
+_BUILT = (
+    "Exit codes: 0 done, every check met; 3 built, but a check is not met (the sheet says which{demo}); "
+    "2 bad input, a refused overwrite (without --overwrite), a build past its time limit (--time-limit), or a "
+    "template cell that failed on one of calckit's errors about the input; 1 a template cell that failed on "
+    "another error{batch}, or a defect of calckit (an internal error, also one raised in a template cell: "
+    "the message carries a line to report); 130 interrupted."
+)
+
+#: The exit codes each command can end with, as its help shows them: only what it does and takes.
+COMMAND_EXIT_CODES = {
+    "demo": _BUILT.format(demo="; the SP-601 demo has one on purpose", batch="").replace(
+        " (--time-limit)", ""
+    ),
+    "build": _BUILT.format(demo="", batch=""),
+    "batch": "Exit codes: 0 every case built, every check met; 3 every case built, but a check on one is not "
+    "met; 2 bad input (the cases file, the base inputs file, an option) or a refused overwrite (without "
+    "--overwrite); 1 a batch in which some case failed, on its inputs, in a template cell or past its time limit "
+    "(--time-limit; the summary is written and says which), or " + _DEFECT[2:],
+    "diff": "Exit codes: 0 compared; 2 bad input (a file that is not a sheet's record, a record edited after it "
+    "was built) or a refused report file (without --overwrite); " + _DEFECT,
+    "new": "Exit codes: 0 written; 2 bad input (no such template) or a file that exists already (new never "
+    "replaces a file: give another name); " + _DEFECT,
+}
 
 #: What building a template means for the user's machine: said in the help of every command that runs one.
 TRUST = (
@@ -138,15 +166,20 @@ TRUST = (
 )
 
 
+def _fill(text: str) -> str:
+    """*text* in lines of 78, never breaking an option such as --time-limit at its hyphen."""
+    return textwrap.fill(text, 78, break_on_hyphens=False)
+
+
 def parser() -> argparse.ArgumentParser:
     """The argument parser of the ``calckit`` command."""
     top = argparse.ArgumentParser(
         prog="calckit",
         description="Build, compare and batch-run forced-vibration calculation sheets from template notebooks.",
         epilog="Run 'calckit COMMAND --help' for a command's options. Start with: calckit demo --out demo\n\n"
-        + textwrap.fill(TRUST, 78)
+        + _fill(TRUST)
         + "\n\n"
-        + textwrap.fill(EXIT_CODES, 78),
+        + _fill(EXIT_CODES),
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     top.add_argument("--version", action="version", version=f"calckit {__version__}")
@@ -158,7 +191,7 @@ def parser() -> argparse.ArgumentParser:
             name,
             help=_summary(func),
             description=_description(func),
-            epilog="\n\n".join(textwrap.fill(text, 78) for text in [*said, EXIT_CODES]),
+            epilog="\n\n".join(_fill(text) for text in [*said, COMMAND_EXIT_CODES[name]]),
             formatter_class=argparse.RawDescriptionHelpFormatter,
         )
 

@@ -390,7 +390,7 @@ def _record_path(path: Path) -> Path:
 def _is_record(path: Path) -> bool:
     try:
         data = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, ValueError):
+    except (OSError, ValueError, RecursionError):
         return False
     return isinstance(data, dict) and "fingerprint" in data
 
@@ -409,9 +409,10 @@ def load_built_record(path: str | os.PathLike) -> dict:
         data = json.loads(record_path.read_text(encoding="utf-8"))
     except FileNotFoundError:
         raise InputsError("no such file", where=str(record_path), do="Check the path") from None
-    except (OSError, UnicodeDecodeError, ValueError) as exc:
+    except (OSError, UnicodeDecodeError, ValueError, RecursionError) as exc:
+        why = "nested deeper than Python reads" if isinstance(exc, RecursionError) else str(exc).split(";")[0]
         raise InputsError(
-            f"cannot read the record as JSON ({exc})",
+            f"cannot read the record as JSON ({why})",
             where=str(record_path),
             do="Give a record written by calckit",
         ) from None

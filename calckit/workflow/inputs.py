@@ -64,14 +64,15 @@ import difflib
 import keyword
 import math
 import re
-import tomllib
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any
 
+from calckit.core.characters import lookalike
 from calckit.errors import InputsError
+from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
 
 __all__ = [
@@ -195,9 +196,6 @@ def _find_line(text: str, table: str, key: str) -> int | None:
     return None
 
 
-_TOML_POSITION = re.compile(r"\s*\(at line (\d+), column (\d+)\)$")
-
-
 def read_inputs(path: str | Path) -> InputsFile:
     """Read an inputs file (TOML; format in the module notes).
 
@@ -237,18 +235,7 @@ def read_inputs(path: str | Path) -> InputsFile:
         raise InputsError(
             f"cannot read the inputs file ({exc.strerror})", where=str(path), do="Check the path"
         ) from exc
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        message = str(exc)
-        position = _TOML_POSITION.search(message)
-        where = f"{path}, line {position.group(1)}, column {position.group(2)}" if position else str(path)
-        what = _TOML_POSITION.sub("", message)
-        raise InputsError(
-            f"the inputs file is not valid TOML: {what[:1].lower()}{what[1:]}",
-            where=where,
-            do='Check that line: text needs quotes (mass = "250 kg") and each key is set once',
-        ) from exc
+    data = load_toml(text, path, "inputs file")
     values: dict[str, Any] = {}
     groups: dict[str, str] = {}
     sources: dict[str, str] = {}
@@ -466,6 +453,8 @@ def check_keys(
         at = f" on line {line}" if line else ""
         close = difflib.get_close_matches(name, list(expected), n=1)
         hint = f' (did you mean "{close[0]}"?)' if close else ""
+        found = lookalike(name)
+        hint += f" ({found})" if found else ""
         problems.append(f'unknown input "{name}"{at}{hint}')
     missing = [
         name for name in expected if name not in given and name not in in_sheet and name not in optional

@@ -82,6 +82,7 @@ from pathlib import Path
 from typing import Any
 
 from calckit import errors
+from calckit.core.characters import lookalike
 from calckit.errors import BuildError, CellError, InputsError
 
 __all__ = [
@@ -195,8 +196,9 @@ def find_template(spec: str | os.PathLike) -> Path:
     if str(spec) in (name, f"{name}.ipynb") and name in bundled:
         return bundled[name]
     known = ", ".join(bundled) or "none"
+    found = lookalike(str(spec))
     raise BuildError(
-        "no such template: it is neither a notebook file nor a bundled template",
+        "no such template: it is neither a notebook file nor a bundled template" + (f" ({found})" if found else ""),
         where=str(spec),
         do=f"Give the path of a .ipynb file or a bundled template's name ({known})",
     )
