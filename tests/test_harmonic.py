@@ -13,6 +13,7 @@ from hypothesis import strategies as st
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq, minimize_scalar
 
+import calckit as ck
 from calckit.errors import CalcError, ModelError
 from calckit.physics.harmonic import (
     HalfPowerPoints,
@@ -33,8 +34,6 @@ from calckit.physics.harmonic import (
     zeta_from_log_decrement,
 )
 from tests.reference import harmonic_fit, last_periods, steady_state
-
-import calckit as ck
 
 #: The refusal of an undamped exact resonance, as the kit words it (pinned here, once).
 RESONANCE = (

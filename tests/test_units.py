@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import math
-import sys
 import pickle
+import sys
 from fractions import Fraction
 
 import pint

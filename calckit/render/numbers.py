@@ -29,8 +29,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from types import MappingProxyType
 from decimal import ROUND_HALF_UP, Decimal
+from types import MappingProxyType
 
 import numpy as np
 import pint
