@@ -50,7 +50,8 @@ from typing import Any
 
 import pint
 
-from calckit.core.units import Q_, check_unit_text, ureg
+from calckit.core.unit_text import check_unit_text
+from calckit.core.units import Q_, ureg
 from calckit.errors import UnitsError
 
 __all__ = ["SYSTEMS", "OutputUnits", "system_of"]
