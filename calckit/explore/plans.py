@@ -9,7 +9,9 @@ it refuses, the rows of its results table, and which plots fit it. The
 =======================  ====================================================
 template                 entry
 =======================  ====================================================
-``single_mass_harmonic`` force given (``force_amplitude``); results exactly;
+``single_mass_harmonic`` force given (``force_amplitude``); results through
+                         :func:`calckit.physics.single_mass.single_mass_results`,
+                         carried at four significant figures;
                          checks: amplitude against ``amplitude_limit``, speed
                          separation; amplitude curve, steady state and the
                          response from rest
@@ -206,7 +208,7 @@ PLANS: Mapping[str, Plan] = MappingProxyType(
                 ),
                 force=_r._given_force,
                 results=_r._single_mass_results,
-                carry=None,
+                carry=4,
                 checks=(_r._amplitude_check, _r._separation_check),
                 refuse=None,
                 rows=_r._single_mass_rows,

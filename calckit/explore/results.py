@@ -25,6 +25,7 @@ from calckit.physics.criteria import ISOLATION_RATIO_BASIS, LEAST_ISOLATION_RATI
 from calckit.physics.excitation import eccentricity_from_grade, unbalance_force_amplitude
 from calckit.physics.isolation import isolator_refusal, isolator_results, isolator_run_up
 from calckit.physics.runup import RunUp
+from calckit.physics.single_mass import single_mass_results
 from calckit.sheet import Check, check_margin
 
 Row = tuple[str, str, str, str]  # (name, label, shown value, SI value as text)
@@ -69,20 +70,26 @@ def _unbalance_force(values: Mapping[str, float]) -> float:
 
 
 def _single_mass_results(mv: _Move) -> tuple[dict[str, float], None]:
-    """The single-mass results, exactly (nothing carried rounded)."""
-    names = (
-        "damping_coefficient",
-        "natural_frequency",
-        "natural_frequency_hz",
-        "frequency_ratio",
-        "magnification",
-        "static_deflection",
-        "amplitude",
-        "phase_lag",
-        "transmissibility",
-        "transmitted_force",
-    )
-    return {name: mv.base[name] for name in names}, None
+    """The single-mass results: through :func:`calckit.physics.single_mass.single_mass_results`, the
+    chain its template writes out, carrying what the plan says (``Plan.carry``); the
+    transmissibility and the force into the support (not on that sheet) exactly."""
+    results = {name: mv.base[name] for name in ("transmissibility", "transmitted_force")}
+    if mv.plan.carry:
+        results.update(
+            single_mass_results(
+                mv.base["mass"],
+                mv.base["stiffness"],
+                mv.base["damping_ratio"],
+                mv.base["force_amplitude"],
+                mv.base["forcing_frequency"],
+                carry=mv.plan.carry,
+            )
+        )
+    else:
+        names = ("damping_coefficient", "natural_frequency", "natural_frequency_hz", "frequency_ratio",
+                 "magnification", "static_deflection", "amplitude", "phase_lag")  # fmt: skip
+        results.update({name: mv.base[name] for name in names})
+    return results, None
 
 
 def _isolator_results(mv: _Move) -> tuple[dict[str, float], RunUp]:
@@ -133,7 +140,7 @@ def _amplitude_check(mv: _Move, results: Mapping[str, float]) -> Check | None:
     limit = mv.quantities.get("amplitude_limit")
     if limit is None:
         return None
-    amplitude = mv.base["amplitude"]
+    amplitude = results.get("amplitude", mv.base["amplitude"])
     value = Q_(amplitude, "m").to(limit.units).magnitude if math.isfinite(amplitude) else math.inf
     lim = float(limit.magnitude)
     basis = mv.texts.get("amplitude_limit_basis", "")
@@ -297,9 +304,14 @@ def _isolator_rows(results: WhatIf, inputs: Mapping[str, _Input]) -> list[Row]:
     ]
 
 
+_SHEET_ROWS = ("natural_frequency", "natural_frequency_hz", "frequency_ratio", "amplitude", "magnification", "phase_lag")
+
+
 def _single_mass_rows(results: WhatIf, inputs: Mapping[str, _Input]) -> list[Row]:
-    """The single-mass results, shown in the units of the inputs."""
-    r = results
+    """The single-mass results, shown in the units of the inputs: the numbers the sheet prints
+    (its carried chain) where the sheet has them; the transmissibility and the force into the
+    support (not on that sheet) exactly."""
+    r = replace(results, **{k: v for k, v in results.sheet.items() if k in _SHEET_ROWS})
     freq = inputs["forcing_frequency"]
     force_unit = inputs["force_amplitude"].unit or "N"
     amp_unit = _amplitude_unit(inputs)
