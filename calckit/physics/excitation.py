@@ -27,7 +27,7 @@ import sympy as sp
 from calckit.engine.forcing import split_forcing
 from calckit.errors import InputsError
 from calckit.physics import harmonic as _h
-from calckit.physics.harmonic import _args, _out
+from calckit.physics.harmonic_values import _args, _out
 
 __all__ = [
     "BALANCE_QUALITY_GRADES",

@@ -36,7 +36,7 @@ import numpy as np
 import sympy as sp
 
 from calckit.errors import ModelError
-from calckit.physics.harmonic import _RESONANCE_DO, _args, _atan2_lag, _finite, _out
+from calckit.physics.harmonic_values import _RESONANCE_DO, _args, _atan2_lag, _finite, _out
 
 __all__ = [
     "DAMPING_MODELS",
