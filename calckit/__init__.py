@@ -26,7 +26,7 @@ _PUBLIC = {
     "calckit.core": ("units",),  # modules exported by name (``ck.units.fmt``)
     "calckit.core.units": ("angular_frequency", "cyclic_frequency", "fmt", "Q_", "quantity", "to_si", "ureg"),
     "calckit.engine": (
-        "compare_peak", "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
+        "compare_peak", "compare_sampled_peak", "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
         "frequency_response", "FrequencyResponse", "LinearODE", "PeakComparison", "Response", "split_forcing", "time_history",
     ),
     "calckit.physics": (

@@ -59,6 +59,13 @@ CASES = {
         "separation",
         ("not met", "met"),
     ),
+    # the slam 25 % harder on an undamped support (the moved build also meets the undamped closed form)
+    "shock_pulse": (
+        "harrow_creek_ps516_slam.toml",
+        {"pulse_amplitude": '"15 kN"', "damping_ratio": "0"},
+        "displacement",
+        ("met", "not met"),
+    ),
     # mounts twice as stiff put the skid's natural frequency (11.3 Hz) on the floor's ringing (11.5 Hz)
     "measured_load": (
         "harrow_creek_b402_trip.toml",
@@ -541,3 +548,86 @@ class TestMeasuredLoad:
             build_sheet("measured_load", bad, tmp_path / "out")
         assert "force.csv holds a force, and this template takes a base acceleration" in str(caught.value)
         assert "record_file" in str(caught.value)
+
+
+class TestShockPulse:
+    example = "harrow_creek_ps516_slam.toml"
+
+    def _reference(self, shape="half_sine", amplitude=None, zeta=None, td=None):
+        """x(t) and the support force k x + c x' by scipy.integrate.solve_ivp (DOP853), during and after the pulse
+        integrated separately from the state at its end; the pulse written here from its textbook definition."""
+        from scipy.integrate import solve_ivp
+
+        v = _inputs(self.example)
+        m, k = _si(v, "mass"), _si(v, "stiffness")
+        zeta = v["damping_ratio"] if zeta is None else zeta
+        c = 2 * zeta * math.sqrt(k * m)
+        F0 = _si(v, "pulse_amplitude") if amplitude is None else amplitude
+        td = _si(v, "pulse_duration") if td is None else td
+        shapes = {"half_sine": lambda tt: F0 * math.sin(math.pi * tt / td), "rectangular": lambda tt: F0}
+        t_end = _si(v, "duration")
+        out = []
+        state = [0.0, 0.0]
+        for (a, b), load in (((0.0, td), shapes[shape]), ((td, t_end), lambda tt: 0.0)):
+            times = np.linspace(a, b, 20001)
+            sol = solve_ivp(lambda tt, y: [y[1], (load(tt) - c * y[1] - k * y[0]) / m], (a, b), state,
+                            t_eval=times, method="DOP853", rtol=1e-11, atol=1e-15)  # fmt: skip
+            state = sol.y[:, -1]
+            out.append((sol.y[0], k * sol.y[0] + c * sol.y[1]))
+        return k, F0, td, out
+
+    def test_peaks_against_solve_ivp(self, built):
+        """Primary, residual and maximax displacement and the support force against solve_ivp of the same pulse."""
+        res = _results(built["shock_pulse"][0])
+        k, F0, td, ((x_in, f_in), (x_out, f_out)) = self._reference()
+        assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(np.max(np.abs(x_out)), rel=1e-6)
+        peak = max(np.max(np.abs(x_in)), np.max(np.abs(x_out)))
+        assert res["peak_displacement"] == pytest.approx(peak, rel=1e-3)  # printed to 4 figures
+        assert res["peak_support_force"] == pytest.approx(max(np.max(np.abs(f_in)), np.max(np.abs(f_out))), rel=1e-6)
+        assert res["static_deflection"] == pytest.approx(F0 / k, rel=1e-9)
+        assert res["shock_response_factor"] == pytest.approx(peak / (F0 / k), rel=2e-3)
+
+    def test_undamped_half_sine_closed_form(self, built):
+        """Undamped, a half-sine shorter than half the natural period leaves its largest motion after the pulse:
+        x_r / x_st = (T_n/t_d) |cos(pi t_d/T_n)| / |(T_n/(2 t_d))^2 - 1|
+        (A. K. Chopra, Dynamics of Structures, 4th ed., sec. 4.8, half-cycle sine pulse, from memory)."""
+        res = _results(built["shock_pulse"][1])
+        v = _inputs(self.example)
+        m, k, td = _si(v, "mass"), _si(v, "stiffness"), _si(v, "pulse_duration")
+        Tn = 2 * math.pi / math.sqrt(k / m)
+        assert td / Tn < 0.5
+        factor = (Tn / td) * abs(math.cos(math.pi * td / Tn)) / abs((Tn / (2 * td)) ** 2 - 1)
+        x_st = 15e3 / k
+        assert res["residual_displacement"] == pytest.approx(factor * x_st, rel=1e-6)
+        assert res["primary_displacement"] < res["residual_displacement"]
+        assert res["shock_response_factor"] == pytest.approx(factor, rel=1e-3)
+
+    def test_long_rectangular_pulse_twice_static(self, tmp_path):
+        """A rectangular pulse longer than half the natural period on an undamped support: the largest motion
+        during it is twice the static deflection, after it 2 |sin(pi t_d/T_n)| x_st
+        (Chopra, Dynamics of Structures, 4th ed., sec. 4.7, rectangular pulse, from memory)."""
+        text = (EXAMPLES / self.example).read_text(encoding="utf-8")
+        for name, value in {"pulse_shape": '"rectangular"', "pulse_duration": '"200 ms"', "damping_ratio": "0"}.items():
+            text = _changed(text, name, value)
+        inputs = tmp_path / "long.toml"
+        inputs.write_text(text, encoding="utf-8")
+        res = _results(build_sheet("shock_pulse", inputs, tmp_path / "out").record)
+        v = _inputs(self.example)
+        m, k, F0 = _si(v, "mass"), _si(v, "stiffness"), _si(v, "pulse_amplitude")
+        Tn = 2 * math.pi / math.sqrt(k / m)
+        assert res["primary_displacement"] == pytest.approx(2 * F0 / k, rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(2 * abs(math.sin(math.pi * 0.2 / Tn)) * F0 / k, rel=1e-6)
+        *_, ((x_in, _f), _after) = self._reference("rectangular", zeta=0.0, td=0.2)
+        assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+
+    def test_unknown_shape_refused(self, tmp_path):
+        """A pulse shape the template does not know is refused at pulse_shape, with the shapes it knows."""
+        text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "pulse_shape", '"square"')
+        bad = tmp_path / "bad.toml"
+        bad.write_text(text, encoding="utf-8")
+        with pytest.raises(CellError) as caught:
+            build_sheet("shock_pulse", bad, tmp_path / "out")
+        message = str(caught.value)
+        assert '"square" is not a pulse this template knows' in message and "pulse_shape" in message
+        assert "half_sine, versed_sine, triangle" in message
