@@ -46,7 +46,12 @@ def record() -> tuple[np.ndarray, np.ndarray]:
         after = s >= 0
         for f, zeta, amplitude in MODES:
             w = 2 * math.pi * f
-            a[after] += size * amplitude * np.exp(-zeta * w * s[after]) * np.sin(w * math.sqrt(1 - zeta**2) * s[after])
+            a[after] += (
+                size
+                * amplitude
+                * np.exp(-zeta * w * s[after])
+                * np.sin(w * math.sqrt(1 - zeta**2) * s[after])
+            )
     a += NOISE * np.random.default_rng(SEED).standard_normal(t.size)
     return t, a
 
@@ -59,7 +64,9 @@ def main() -> None:
         "time (s),acceleration (g_n)",
     ]
     lines += [f"{ti:.3f},{ai:.5f}" for ti, ai in zip(t, a, strict=True)]
-    Path(__file__).with_name("harrow_creek_b402_trip.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
+    Path(__file__).with_name("harrow_creek_b402_trip.csv").write_text(
+        "\n".join(lines) + "\n", encoding="utf-8"
+    )
 
 
 if __name__ == "__main__":

@@ -938,7 +938,9 @@ class TestDataFiles:
         import nbformat
 
         nb = nbformat.v4.new_notebook()
-        cell = nbformat.v4.new_code_cell('subject = "x"\nmass = "1 kg"\nrecord_file = "r.csv"  # file: the record\n')
+        cell = nbformat.v4.new_code_cell(
+            'subject = "x"\nmass = "1 kg"\nrecord_file = "r.csv"  # file: the record\n'
+        )
         cell.metadata["tags"] = ["parameters"]
         nb.cells = [cell]
         path = folder / "t.ipynb"

@@ -495,10 +495,11 @@ def _integrated_base_response(times, accel, wn, zeta):
     for k in range(times.size - 1):
         t0, t1, a0 = times[k], times[k + 1], accel[k]
         slope = (accel[k + 1] - a0) / (t1 - t0)
-        sol = solve_ivp(
-            lambda tt, y: [y[1], -(a0 + slope * (tt - t0)) - 2 * zeta * wn * y[1] - wn**2 * y[0]],
-            (t0, t1), state, method="DOP853", rtol=1e-10, atol=1e-15,
-        )  # fmt: skip
+
+        def rhs(tt, y, t0=t0, a0=a0, slope=slope):
+            return [y[1], -(a0 + slope * (tt - t0)) - 2 * zeta * wn * y[1] - wn**2 * y[0]]
+
+        sol = solve_ivp(rhs, (t0, t1), state, method="DOP853", rtol=1e-10, atol=1e-15)
         state = sol.y[:, -1]
         out[:, k + 1] = state
     return out
@@ -540,7 +541,9 @@ class TestMeasuredLoad:
 
     def test_force_record_refused(self, tmp_path):
         """A record of a force is refused at record_file, saying what the template takes."""
-        (tmp_path / "force.csv").write_text("time (s),force (kN)\n0,0\n0.001,1\n0.002,0\n0.003,0\n", encoding="utf-8")
+        (tmp_path / "force.csv").write_text(
+            "time (s),force (kN)\n0,0\n0.001,1\n0.002,0\n0.003,0\n", encoding="utf-8"
+        )
         text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "record_file", '"force.csv"')
         bad = tmp_path / "bad.toml"
         bad.write_text(text, encoding="utf-8")
@@ -570,8 +573,11 @@ class TestShockPulse:
         state = [0.0, 0.0]
         for (a, b), load in (((0.0, td), shapes[shape]), ((td, t_end), lambda tt: 0.0)):
             times = np.linspace(a, b, 20001)
-            sol = solve_ivp(lambda tt, y: [y[1], (load(tt) - c * y[1] - k * y[0]) / m], (a, b), state,
-                            t_eval=times, method="DOP853", rtol=1e-11, atol=1e-15)  # fmt: skip
+
+            def rhs(tt, y, load=load):
+                return [y[1], (load(tt) - c * y[1] - k * y[0]) / m]
+
+            sol = solve_ivp(rhs, (a, b), state, t_eval=times, method="DOP853", rtol=1e-11, atol=1e-15)
             state = sol.y[:, -1]
             out.append((sol.y[0], k * sol.y[0] + c * sol.y[1]))
         return k, F0, td, out
@@ -584,7 +590,9 @@ class TestShockPulse:
         assert res["residual_displacement"] == pytest.approx(np.max(np.abs(x_out)), rel=1e-6)
         peak = max(np.max(np.abs(x_in)), np.max(np.abs(x_out)))
         assert res["peak_displacement"] == pytest.approx(peak, rel=1e-3)  # printed to 4 figures
-        assert res["peak_support_force"] == pytest.approx(max(np.max(np.abs(f_in)), np.max(np.abs(f_out))), rel=1e-6)
+        assert res["peak_support_force"] == pytest.approx(
+            max(np.max(np.abs(f_in)), np.max(np.abs(f_out))), rel=1e-6
+        )
         assert res["static_deflection"] == pytest.approx(F0 / k, rel=1e-9)
         assert res["shock_response_factor"] == pytest.approx(peak / (F0 / k), rel=2e-3)
 
@@ -608,7 +616,11 @@ class TestShockPulse:
         during it is twice the static deflection, after it 2 |sin(pi t_d/T_n)| x_st
         (Chopra, Dynamics of Structures, 4th ed., sec. 4.7, rectangular pulse, from memory)."""
         text = (EXAMPLES / self.example).read_text(encoding="utf-8")
-        for name, value in {"pulse_shape": '"rectangular"', "pulse_duration": '"200 ms"', "damping_ratio": "0"}.items():
+        for name, value in {
+            "pulse_shape": '"rectangular"',
+            "pulse_duration": '"200 ms"',
+            "damping_ratio": "0",
+        }.items():
             text = _changed(text, name, value)
         inputs = tmp_path / "long.toml"
         inputs.write_text(text, encoding="utf-8")
@@ -617,7 +629,9 @@ class TestShockPulse:
         m, k, F0 = _si(v, "mass"), _si(v, "stiffness"), _si(v, "pulse_amplitude")
         Tn = 2 * math.pi / math.sqrt(k / m)
         assert res["primary_displacement"] == pytest.approx(2 * F0 / k, rel=1e-6)
-        assert res["residual_displacement"] == pytest.approx(2 * abs(math.sin(math.pi * 0.2 / Tn)) * F0 / k, rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(
+            2 * abs(math.sin(math.pi * 0.2 / Tn)) * F0 / k, rel=1e-6
+        )
         *_, ((x_in, _f), _after) = self._reference("rectangular", zeta=0.0, td=0.2)
         assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
 
