@@ -567,7 +567,11 @@ class TestShockPulse:
         c = 2 * zeta * math.sqrt(k * m)
         F0 = _si(v, "pulse_amplitude") if amplitude is None else amplitude
         td = _si(v, "pulse_duration") if td is None else td
-        shapes = {"half_sine": lambda tt: F0 * math.sin(math.pi * tt / td), "rectangular": lambda tt: F0}
+        shapes = {
+            "half_sine": lambda tt: F0 * math.sin(math.pi * tt / td),
+            "rectangular": lambda tt: F0,
+            "triangle": lambda tt: F0 * (1 - abs(2 * tt / td - 1)),  # continuous: one piece for the solver
+        }
         t_end = _si(v, "duration")
         out = []
         state = [0.0, 0.0]
@@ -634,6 +638,19 @@ class TestShockPulse:
         )
         *_, ((x_in, _f), _after) = self._reference("rectangular", zeta=0.0, td=0.2)
         assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+
+    def test_triangle_against_solve_ivp(self, tmp_path):
+        """A symmetric triangle switches twice (at t_d/2 and t_d): its peaks against solve_ivp."""
+        text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "pulse_shape", '"triangle"')
+        inputs = tmp_path / "triangle.toml"
+        inputs.write_text(text, encoding="utf-8")
+        res = _results(build_sheet("shock_pulse", inputs, tmp_path / "out").record)
+        *_, ((x_in, f_in), (x_out, f_out)) = self._reference("triangle")
+        assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(np.max(np.abs(x_out)), rel=1e-6)
+        assert res["peak_support_force"] == pytest.approx(
+            max(np.max(np.abs(f_in)), np.max(np.abs(f_out))), rel=1e-6
+        )
 
     def test_unknown_shape_refused(self, tmp_path):
         """A pulse shape the template does not know is refused at pulse_shape, with the shapes it knows."""
