@@ -62,7 +62,9 @@ _BISECTIONS = 60
 def _time_symbol(pulse: sp.Expr, t) -> sp.Symbol:
     if t is not None:
         if not isinstance(t, sp.Symbol):
-            raise ModelError(f"t = {t!r} is not a sympy Symbol", where="pulse_spectrum(t)", do="Give the time symbol")
+            raise ModelError(
+                f"t = {t!r} is not a sympy Symbol", where="pulse_spectrum(t)", do="Give the time symbol"
+            )
         return t
     named = [s for s in pulse.free_symbols if s.name == "t"]
     if not named:
@@ -75,7 +77,9 @@ def _check_pulse(pulse, t) -> tuple[sp.Expr, sp.Symbol]:
     try:
         pulse = sp.sympify(pulse)
     except (sp.SympifyError, TypeError):
-        raise ModelError(f"cannot read the pulse {pulse!r}", where=where, do="Give a sympy expression in t") from None
+        raise ModelError(
+            f"cannot read the pulse {pulse!r}", where=where, do="Give a sympy expression in t"
+        ) from None
     t = _time_symbol(pulse, t)
     if pulse.has(sp.floor):
         raise ModelError(
@@ -106,7 +110,9 @@ def _numeric(expr, symbols):
 
     def call(*args):
         out = np.asarray(f(*args), dtype=float)
-        return np.broadcast_to(out, np.broadcast(*args).shape) if out.shape != np.broadcast(*args).shape else out
+        return (
+            np.broadcast_to(out, np.broadcast(*args).shape) if out.shape != np.broadcast(*args).shape else out
+        )
 
     return call
 
@@ -228,7 +234,9 @@ def _scale(excitation: str, mass):
 
         m = float(quantity(mass, "mass", expect="mass").to("kg").magnitude)
     if not math.isfinite(m) or m <= 0:
-        raise ModelError(f"the mass {mass!r} is not positive", where="pulse_spectrum(mass)", do="Give the mass in kg")
+        raise ModelError(
+            f"the mass {mass!r} is not positive", where="pulse_spectrum(mass)", do="Give the mass in kg"
+        )
     return 1 / sp.nsimplify(m, rational=True)
 
 
@@ -322,7 +330,10 @@ def pulse_spectrum(
         if np.any(close):
             special.append((root, close))
             near |= close
-    values = {kind: {r: np.empty(w.size) for r in ("relative_displacement", "absolute_acceleration")} for kind in SPECTRUM_KINDS}
+    values = {
+        kind: {r: np.empty(w.size) for r in ("relative_displacement", "absolute_acceleration")}
+        for kind in SPECTRUM_KINDS
+    }
     verified = all(part.verified for part in general)
     if np.any(~near):
         _fill(values, ~near, w, general, zeta)
@@ -352,7 +363,8 @@ def pulse_spectrum(
     notes = []
     if special:
         notes.append(
-            "At " + ", ".join(f"omega_n = {sp.sstr(root)} rad/s" for root, _ in special)
+            "At "
+            + ", ".join(f"omega_n = {sp.sstr(root)} rad/s" for root, _ in special)
             + " the general solution does not hold (resonance with the pulse); the response was derived there again."
         )
     if force:
