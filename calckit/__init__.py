@@ -51,6 +51,7 @@ _PUBLIC = {
         "trapezoid", "triangle", "versed_sine",
     ),
     "calckit.render.display": ("show",),
+    "calckit.render.spectrum_plot": ("spectrum_figure",),
     "calckit.render.numbers": ("put_through", "Substitution"),
     "calckit.sheet": (
         "Check", "DEFAULT_CAUTION", "OutputUnits", "read_record", "RECORD_VERSION", "Sheet", "SheetRecord",
