@@ -44,12 +44,14 @@ _PUBLIC = {
     "calckit.physics.absorber": ("equal_peak_tuning",),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
+    "calckit.physics.pulse_spectrum": ("pulse_spectrum",),
     "calckit.physics.spectrum": ("log_frequencies", "ShockSpectrum"),
     "calckit.physics.pulses": (
         "half_sine", "initial_peak_sawtooth", "ramp_and_hold", "rectangular", "repeated", "terminal_peak_sawtooth",
         "trapezoid", "triangle", "versed_sine",
     ),
     "calckit.render.display": ("show",),
+    "calckit.render.spectrum_plot": ("spectrum_figure",),
     "calckit.render.numbers": ("put_through", "Substitution"),
     "calckit.sheet": (
         "Check", "DEFAULT_CAUTION", "OutputUnits", "read_record", "RECORD_VERSION", "Sheet", "SheetRecord",
