@@ -603,6 +603,7 @@ class TestShockPulse:
         )
         assert res["static_deflection"] == pytest.approx(F0 / k, rel=1e-9)
         assert res["shock_response_factor"] == pytest.approx(peak / (F0 / k), rel=2e-3)
+        assert res["spectrum_point"] == pytest.approx(peak, rel=1e-5)  # the pulse's spectrum at this omega_n
 
     def test_undamped_half_sine_closed_form(self, built):
         """Undamped, a half-sine shorter than half the natural period leaves its largest motion after the pulse:
