@@ -26,7 +26,7 @@ _PUBLIC = {
     "calckit.core": ("units",),  # modules exported by name (``ck.units.fmt``)
     "calckit.core.units": ("angular_frequency", "cyclic_frequency", "fmt", "Q_", "quantity", "to_si", "ureg"),
     "calckit.engine": (
-        "compare_peak", "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
+        "compare_peak", "compare_sampled_peak", "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
         "frequency_response", "FrequencyResponse", "LinearODE", "PeakComparison", "Response", "split_forcing", "time_history",
     ),
     "calckit.physics": (
@@ -46,12 +46,14 @@ _PUBLIC = {
     "calckit.physics.absorber": ("equal_peak_tuning",),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
+    "calckit.physics.pulse_spectrum": ("pulse_spectrum",),
     "calckit.physics.spectrum": ("log_frequencies", "ShockSpectrum"),
     "calckit.physics.pulses": (
         "half_sine", "initial_peak_sawtooth", "ramp_and_hold", "rectangular", "repeated", "terminal_peak_sawtooth",
         "trapezoid", "triangle", "versed_sine",
     ),
     "calckit.render.display": ("show",),
+    "calckit.render.spectrum_plot": ("spectrum_figure",),
     "calckit.render.numbers": ("put_through", "Substitution"),
     "calckit.sheet.working": ("conversion_formula",),
     "calckit.sheet": (

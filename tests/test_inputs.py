@@ -929,3 +929,50 @@ def test_title_fields_match_title_block():
 def test_inputs_file_line_of_without_text():
     """line_of gives None when the text is not kept."""
     assert InputsFile(Path("x.toml"), {"mass": "1 kg"}).line_of("mass") is None
+
+
+class TestDataFiles:
+    """A parameter marked ``# file`` names a data file next to the inputs file (calckit.workflow.build)."""
+
+    def _template(self, folder: Path) -> Path:
+        import nbformat
+
+        nb = nbformat.v4.new_notebook()
+        cell = nbformat.v4.new_code_cell(
+            'subject = "x"\nmass = "1 kg"\nrecord_file = "r.csv"  # file: the record\n'
+        )
+        cell.metadata["tags"] = ["parameters"]
+        nb.cells = [cell]
+        path = folder / "t.ipynb"
+        nbformat.write(nb, path)
+        return path
+
+    def test_resolved_next_to_the_inputs_file(self, tmp_path):
+        from calckit.workflow.build import prepared_values
+        from calckit.workflow.inputs import read_inputs
+        from calckit.workflow.templates import load_template
+
+        tmpl = load_template(self._template(tmp_path))
+        assert tmpl.files == {"record_file"}
+        (tmp_path / "data").mkdir()
+        (tmp_path / "data" / "b.csv").write_text("time (s),force (N)\n0,0\n", encoding="utf-8")
+        inputs = tmp_path / "data" / "in.toml"
+        inputs.write_text('subject = "x"\nmass = "2 kg"\nrecord_file = "b.csv"\n', encoding="utf-8")
+        values = prepared_values(tmpl, read_inputs(inputs))
+        assert values["record_file"] == str((tmp_path / "data" / "b.csv").resolve())
+        assert values["mass"] == "2 kg"
+
+    def test_missing_file_at_its_line(self, tmp_path):
+        from calckit.workflow.build import prepared_values
+        from calckit.workflow.inputs import read_inputs
+        from calckit.workflow.templates import load_template
+
+        tmpl = load_template(self._template(tmp_path))
+        inputs = tmp_path / "in.toml"
+        inputs.write_text('subject = "x"\nmass = "2 kg"\nrecord_file = "gone.csv"\n', encoding="utf-8")
+        with pytest.raises(InputsError) as caught:
+            prepared_values(tmpl, read_inputs(inputs))
+        assert str(caught.value) == (
+            f'{inputs}, line 3, record_file: the file "gone.csv" is not in {tmp_path.resolve()}. '
+            "Put the file next to the inputs file, or give its path relative to the inputs file."
+        )

@@ -60,6 +60,20 @@ CASES = {
         "separation",
         ("not met", "met"),
     ),
+    # the slam 25 % harder on an undamped support (the moved build also meets the undamped closed form)
+    "shock_pulse": (
+        "harrow_creek_ps516_slam.toml",
+        {"pulse_amplitude": '"15 kN"', "damping_ratio": "0"},
+        "displacement",
+        ("met", "not met"),
+    ),
+    # mounts twice as stiff put the skid's natural frequency (11.3 Hz) on the floor's ringing (11.5 Hz)
+    "measured_load": (
+        "harrow_creek_b402_trip.toml",
+        {"mount_stiffness": '"7 MN/m"'},
+        "equipment acceleration",
+        ("met", "not met"),
+    ),
 }
 
 #: template -> (example inputs, the input holding the running or forcing frequency in rpm)
@@ -80,18 +94,28 @@ def _changed(text: str, name: str, value: str) -> str:
 def built(tmp_path_factory):
     """Each template built from its example, and again with one input changed: {template: (base, moved)}."""
     root = tmp_path_factory.mktemp("templates")
-    out = {}
-    for template, (example, changes, *_rest) in CASES.items():
-        source = EXAMPLES / example
-        text = source.read_text(encoding="utf-8")
-        for name, value in changes.items():
-            text = _changed(text, name, value)
-        moved_inputs = root / f"{template}_moved.toml"
-        moved_inputs.write_text(text, encoding="utf-8")
-        base = build_sheet(template, source, root / template)
-        moved = build_sheet(template, moved_inputs, root / f"{template}_moved")
-        out[template] = (base.record, moved.record)
-    return out
+
+    class Built(dict):
+        """Built on first use, so a run of one template's tests builds that template alone."""
+
+        def __missing__(self, template):
+            example, changes, *_rest = CASES[template]
+            source = EXAMPLES / example
+            # an inputs file names its data files relative to its folder: the moved one sits beside it
+            moved_inputs = root / f"{template}_moved.toml"
+            text = source.read_text(encoding="utf-8")
+            for name, value in changes.items():
+                text = _changed(text, name, value)
+            moved_inputs.write_text(text, encoding="utf-8")
+            for data in EXAMPLES.glob("*.csv"):
+                if not (root / data.name).exists():
+                    (root / data.name).write_bytes(data.read_bytes())
+            base = build_sheet(template, source, root / template)
+            moved = build_sheet(template, moved_inputs, root / f"{template}_moved")
+            self[template] = (base.record, moved.record)
+            return self[template]
+
+    return Built()
 
 
 def _inputs(example: str) -> dict:
@@ -238,7 +262,7 @@ class TestMachineOnIsolators:
         """omega_n = sqrt(k/m) and delta_st = m g / k, computed here from the inputs."""
         v, res = _inputs(self.example), _results(built["machine_on_isolators"][0])
         m, k = _si(v, "machine_mass"), _si(v, "isolator_stiffness")
-        assert res["omega_n"] == pytest.approx(math.sqrt(k / m), rel=1e-3)
+        assert res["natural_frequency"] == pytest.approx(math.sqrt(k / m), rel=1e-3)
         assert res["delta_st"] == pytest.approx(m * G_N / k, rel=1e-3)
 
     def test_unbalance_force_from_grade(self, built):
@@ -291,7 +315,7 @@ class TestEquipmentOnVibratingFloor:
         wn = math.sqrt(k / m)
         Y = _si(v, "floor_velocity") / w
         T = _book_transmissibility(w / wn, zeta)
-        assert res["omega_n"] == pytest.approx(wn, rel=1e-3)
+        assert res["natural_frequency"] == pytest.approx(wn, rel=1e-3)
         assert res["T"] == pytest.approx(T, rel=2e-3)
         assert res["V"] == pytest.approx(w * T * Y, rel=2e-3)
         assert res["A"] == pytest.approx(w**2 * T * Y, rel=2e-3)
@@ -537,3 +561,194 @@ class TestPeriodicLoad:
         assert "4001" in by_name["peak_displacement"]["working"]["text"]
         check = _check(record, "independent check")
         assert check["verdict"] == "met"
+
+def _b402_record() -> tuple[np.ndarray, np.ndarray]:
+    """The B-402 record read with numpy alone: times in s, acceleration in m/s^2 (the header says g_n)."""
+    path = EXAMPLES / "harrow_creek_b402_trip.csv"
+    lines = [line for line in path.read_text(encoding="utf-8").splitlines() if not line.startswith("#")]
+    assert lines[0] == "time (s),acceleration (g_n)"
+    data = np.array([[float(x) for x in line.split(",")] for line in lines[1:]])
+    return data[:, 0], data[:, 1] * G_N
+
+
+def _integrated_base_response(times, accel, wn, zeta):
+    """z and z' at the samples of z'' + 2 zeta wn z' + wn^2 z = -a_g, from rest, a_g straight between samples:
+    scipy.integrate.solve_ivp (DOP853) one interval at a time, so no step crosses a kink of the load."""
+    from scipy.integrate import solve_ivp
+
+    state, out = np.zeros(2), np.zeros((2, times.size))
+    for k in range(times.size - 1):
+        t0, t1, a0 = times[k], times[k + 1], accel[k]
+        slope = (accel[k + 1] - a0) / (t1 - t0)
+
+        def rhs(tt, y, t0=t0, a0=a0, slope=slope):
+            return [y[1], -(a0 + slope * (tt - t0)) - 2 * zeta * wn * y[1] - wn**2 * y[0]]
+
+        sol = solve_ivp(rhs, (t0, t1), state, method="DOP853", rtol=1e-10, atol=1e-15)
+        state = sol.y[:, -1]
+        out[:, k + 1] = state
+    return out
+
+
+class TestMeasuredLoad:
+    example = "harrow_creek_b402_trip.toml"
+
+    def _reference(self, stiffness=None):
+        v = _inputs(self.example)
+        m = _si(v, "equipment_mass")
+        k = _si(v, "mount_stiffness") if stiffness is None else stiffness
+        wn, zeta = math.sqrt(k / m), v["damping_ratio"]
+        times, accel = _b402_record()
+        z, dz = _integrated_base_response(times, accel, wn, zeta)
+        self.velocity = dz
+        return m, wn, zeta, z, -(2 * zeta * wn * dz + wn**2 * z)
+
+    def test_peaks_against_solve_ivp(self, built):
+        """Largest deflection and absolute acceleration against solve_ivp of the record; the sheet's peaks are
+        refined between samples (and include the free vibration after the record), so they are at least the
+        sampled ones and only a little above them at 126 samples a period."""
+        res = _results(built["measured_load"][0])
+        m, wn, zeta, z, accel = self._reference()
+        assert res["natural_frequency"] == pytest.approx(wn, rel=1e-3)
+        z_ref, a_ref = np.max(np.abs(z)), np.max(np.abs(accel))
+        assert z_ref * (1 - 1e-9) <= res["peak_deflection"] <= z_ref * 1.002
+        assert a_ref * (1 - 1e-9) <= res["peak_acceleration"] <= a_ref * 1.002
+        # through spring and damper, k z + c z' with c = 2 zeta sqrt(k m), from the solve_ivp motion
+        k = wn**2 * m
+        force = k * z + 2 * zeta * math.sqrt(k * m) * self.velocity
+        assert res["peak_mount_force"] == pytest.approx(np.max(np.abs(force)), rel=2e-3)
+        assert res["peak_spring_force"] == pytest.approx(k * z_ref, rel=2e-3)  # the spring alone, k z
+        assert res["z_integrated"] == pytest.approx(z_ref, rel=1e-8)
+
+    def test_moved_case_near_the_floor_mode(self, built):
+        """Stiffer mounts put the skid near the floor's ringing: the acceleration against solve_ivp again."""
+        moved = _results(built["measured_load"][1])
+        *_, accel = self._reference(stiffness=7e6)
+        a_ref = np.max(np.abs(accel))
+        assert a_ref * (1 - 1e-9) <= moved["peak_acceleration"] <= a_ref * 1.002
+        assert a_ref > 0.5 * G_N  # the limit of the example, from the solve_ivp reference alone
+
+    def test_force_record_refused(self, tmp_path):
+        """A record of a force is refused at record_file, saying what the template takes."""
+        (tmp_path / "force.csv").write_text(
+            "time (s),force (kN)\n0,0\n0.001,1\n0.002,0\n0.003,0\n", encoding="utf-8"
+        )
+        text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "record_file", '"force.csv"')
+        bad = tmp_path / "bad.toml"
+        bad.write_text(text, encoding="utf-8")
+        with pytest.raises(CellError) as caught:
+            build_sheet("measured_load", bad, tmp_path / "out")
+        assert "force.csv holds a force, and this template takes a base acceleration" in str(caught.value)
+        assert "record_file" in str(caught.value)
+
+
+class TestShockPulse:
+    example = "harrow_creek_ps516_slam.toml"
+
+    def _reference(self, shape="half_sine", amplitude=None, zeta=None, td=None):
+        """x(t) and the support force k x + c x' by scipy.integrate.solve_ivp (DOP853), during and after the pulse
+        integrated separately from the state at its end; the pulse written here from its textbook definition."""
+        from scipy.integrate import solve_ivp
+
+        v = _inputs(self.example)
+        m, k = _si(v, "mass"), _si(v, "stiffness")
+        zeta = v["damping_ratio"] if zeta is None else zeta
+        c = 2 * zeta * math.sqrt(k * m)
+        F0 = _si(v, "pulse_amplitude") if amplitude is None else amplitude
+        td = _si(v, "pulse_duration") if td is None else td
+        shapes = {
+            "half_sine": lambda tt: F0 * math.sin(math.pi * tt / td),
+            "rectangular": lambda tt: F0,
+            "triangle": lambda tt: F0 * (1 - abs(2 * tt / td - 1)),  # continuous: one piece for the solver
+        }
+        t_end = _si(v, "duration")
+        out = []
+        state = [0.0, 0.0]
+        for (a, b), load in (((0.0, td), shapes[shape]), ((td, t_end), lambda tt: 0.0)):
+            times = np.linspace(a, b, 20001)
+
+            def rhs(tt, y, load=load):
+                return [y[1], (load(tt) - c * y[1] - k * y[0]) / m]
+
+            sol = solve_ivp(rhs, (a, b), state, t_eval=times, method="DOP853", rtol=1e-11, atol=1e-15)
+            state = sol.y[:, -1]
+            out.append((sol.y[0], k * sol.y[0] + c * sol.y[1]))
+        return k, F0, td, out
+
+    def test_peaks_against_solve_ivp(self, built):
+        """Primary, residual and maximax displacement and the support force against solve_ivp of the same pulse."""
+        res = _results(built["shock_pulse"][0])
+        k, F0, td, ((x_in, f_in), (x_out, f_out)) = self._reference()
+        assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(np.max(np.abs(x_out)), rel=1e-6)
+        peak = max(np.max(np.abs(x_in)), np.max(np.abs(x_out)))
+        assert res["peak_displacement"] == pytest.approx(peak, rel=1e-3)  # printed to 4 figures
+        assert res["peak_support_force"] == pytest.approx(
+            max(np.max(np.abs(f_in)), np.max(np.abs(f_out))), rel=1e-6
+        )
+        assert res["static_deflection"] == pytest.approx(F0 / k, rel=1e-9)
+        assert res["shock_response_factor"] == pytest.approx(peak / (F0 / k), rel=2e-3)
+        assert res["spectrum_point"] == pytest.approx(peak, rel=1e-5)  # the pulse's spectrum at this omega_n
+
+    def test_undamped_half_sine_closed_form(self, built):
+        """Undamped, a half-sine shorter than half the natural period leaves its largest motion after the pulse:
+        x_r / x_st = (T_n/t_d) |cos(pi t_d/T_n)| / |(T_n/(2 t_d))^2 - 1|
+        (A. K. Chopra, Dynamics of Structures, 4th ed., sec. 4.8, half-cycle sine pulse, from memory)."""
+        res = _results(built["shock_pulse"][1])
+        v = _inputs(self.example)
+        m, k, td = _si(v, "mass"), _si(v, "stiffness"), _si(v, "pulse_duration")
+        Tn = 2 * math.pi / math.sqrt(k / m)
+        assert td / Tn < 0.5
+        factor = (Tn / td) * abs(math.cos(math.pi * td / Tn)) / abs((Tn / (2 * td)) ** 2 - 1)
+        x_st = 15e3 / k
+        assert res["residual_displacement"] == pytest.approx(factor * x_st, rel=1e-6)
+        assert res["primary_displacement"] < res["residual_displacement"]
+        assert res["shock_response_factor"] == pytest.approx(factor, rel=1e-3)
+
+    def test_long_rectangular_pulse_twice_static(self, tmp_path):
+        """A rectangular pulse longer than half the natural period on an undamped support: the largest motion
+        during it is twice the static deflection, after it 2 |sin(pi t_d/T_n)| x_st
+        (Chopra, Dynamics of Structures, 4th ed., sec. 4.7, rectangular pulse, from memory)."""
+        text = (EXAMPLES / self.example).read_text(encoding="utf-8")
+        for name, value in {
+            "pulse_shape": '"rectangular"',
+            "pulse_duration": '"200 ms"',
+            "damping_ratio": "0",
+        }.items():
+            text = _changed(text, name, value)
+        inputs = tmp_path / "long.toml"
+        inputs.write_text(text, encoding="utf-8")
+        res = _results(build_sheet("shock_pulse", inputs, tmp_path / "out").record)
+        v = _inputs(self.example)
+        m, k, F0 = _si(v, "mass"), _si(v, "stiffness"), _si(v, "pulse_amplitude")
+        Tn = 2 * math.pi / math.sqrt(k / m)
+        assert res["primary_displacement"] == pytest.approx(2 * F0 / k, rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(
+            2 * abs(math.sin(math.pi * 0.2 / Tn)) * F0 / k, rel=1e-6
+        )
+        *_, ((x_in, _f), _after) = self._reference("rectangular", zeta=0.0, td=0.2)
+        assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+
+    def test_triangle_against_solve_ivp(self, tmp_path):
+        """A symmetric triangle switches twice (at t_d/2 and t_d): its peaks against solve_ivp."""
+        text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "pulse_shape", '"triangle"')
+        inputs = tmp_path / "triangle.toml"
+        inputs.write_text(text, encoding="utf-8")
+        res = _results(build_sheet("shock_pulse", inputs, tmp_path / "out").record)
+        *_, ((x_in, f_in), (x_out, f_out)) = self._reference("triangle")
+        assert res["primary_displacement"] == pytest.approx(np.max(np.abs(x_in)), rel=1e-6)
+        assert res["residual_displacement"] == pytest.approx(np.max(np.abs(x_out)), rel=1e-6)
+        assert res["peak_support_force"] == pytest.approx(
+            max(np.max(np.abs(f_in)), np.max(np.abs(f_out))), rel=1e-6
+        )
+
+    def test_unknown_shape_refused(self, tmp_path):
+        """A pulse shape the template does not know is refused at pulse_shape, with the shapes it knows."""
+        text = _changed((EXAMPLES / self.example).read_text(encoding="utf-8"), "pulse_shape", '"square"')
+        bad = tmp_path / "bad.toml"
+        bad.write_text(text, encoding="utf-8")
+        with pytest.raises(CellError) as caught:
+            build_sheet("shock_pulse", bad, tmp_path / "out")
+        message = str(caught.value)
+        assert '"square" is not a pulse this template knows' in message and "pulse_shape" in message
+        assert "half_sine, versed_sine, triangle" in message

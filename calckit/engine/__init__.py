@@ -10,7 +10,7 @@ equations to this layer.
 """
 
 from calckit.engine.algebra import LAMBDA, is_zero, plain, real_imag, tidy
-from calckit.engine.crosscheck import PeakComparison, compare_peak
+from calckit.engine.crosscheck import PeakComparison, compare_peak, compare_sampled_peak
 from calckit.engine.derivation import Derivation, LinearOperator, ScalarOperator
 from calckit.engine.forcing import ExponentGroup, ForcingSplit, ForcingTerm, resolve_time, split_forcing
 from calckit.engine.method import GroupSolution, Strategy, derive, particular_step
@@ -62,6 +62,7 @@ __all__ = [
     "VectorGroup",
     "VectorStrategy",
     "compare_peak",
+    "compare_sampled_peak",
     "compile_expr",
     "derive",
     "float_matrix",

@@ -30,10 +30,10 @@ which obeys the first-order equation ``u' = s_1 u + p``. With ``x = s_1 h``, ``E
 
 and ``z = Im(u)/omega_d``, ``z' = Re(u) - zeta omega_n z``. The transition ``E`` and the two
 load coefficients are computed once per natural frequency (series for small ``|x|``, so
-nothing cancels); the recursion over the samples runs in numpy, many frequencies at
-once, in blocks: inside a block ``u_j = E^j (u_0 + sum_i E^{-i-1} c_i)`` is one cumulative
-sum, and the blocks are short enough that ``|E|^{-j}`` stays far from overflow. The cost
-is ``O(N)`` per natural frequency for ``N`` samples.
+nothing cancels); the recursion over the samples is a first-order complex filter run in
+compiled code (``scipy.signal.lfilter`` with the coefficients above, so the rule stays
+exact: the filter only performs the multiply-and-add of the recursion). The cost is
+``O(N)`` per natural frequency for ``N`` samples.
 
 Refusals (an :class:`~calckit.errors.InputsError` naming the row): times that do not
 increase, uneven steps (beyond a relative tolerance), gaps, NaN or empty values, fewer
@@ -174,16 +174,22 @@ class TimeHistory:
                 do="Give one value for every time",
             )
         rows = np.arange(1, t.size + 1)
-        return _checked(t * time_factor, v * value_factor, kind, value_unit, source, rows, "sample", step_tolerance)
+        return _checked(
+            t * time_factor, v * value_factor, kind, value_unit, source, rows, "sample", step_tolerance
+        )
 
 
 def _numbers(seq, where: str) -> np.ndarray:
     try:
         arr = np.asarray(seq, dtype=float)
     except (TypeError, ValueError) as exc:
-        raise InputsError("cannot read the samples as numbers", where=where, do="Give a list of numbers") from exc
+        raise InputsError(
+            "cannot read the samples as numbers", where=where, do="Give a list of numbers"
+        ) from exc
     if arr.ndim != 1:
-        raise InputsError(f"expected a flat list of numbers, got shape {arr.shape}", where=where, do="Give a list")
+        raise InputsError(
+            f"expected a flat list of numbers, got shape {arr.shape}", where=where, do="Give a list"
+        )
     if arr.size > MOST_SAMPLES:
         raise InputsError(
             f"{arr.size:,} samples, more than {MOST_SAMPLES:,}",
@@ -258,7 +264,11 @@ def _checked(t, v, kind, given_unit, source, rows, row_word, step_tolerance) -> 
 
 
 def load_time_history(
-    path, *, time_unit: str | None = None, value_unit: str | None = None, step_tolerance: float = STEP_TOLERANCE
+    path,
+    *,
+    time_unit: str | None = None,
+    value_unit: str | None = None,
+    step_tolerance: float = STEP_TOLERANCE,
 ) -> TimeHistory:
     """Read a record from a CSV file: two columns, time and value, units in the header.
 
@@ -357,7 +367,9 @@ def _read_rows(path: Path, where: str, time_unit, value_unit, step_tolerance) ->
     while lines and lines[-1] in blank:  # blank lines at the end of the file are no samples
         lines.pop(), times.pop(), values.pop()
     if header is None:
-        raise InputsError("the file has no header", where=where, do='Start with a header such as "time (s),force (kN)"')
+        raise InputsError(
+            "the file has no header", where=where, do='Start with a header such as "time (s),force (kN)"'
+        )
     if len(header) != 2:
         raise InputsError(
             f"row {header_line}: the header has {len(header)} columns, expected 2",
@@ -455,7 +467,9 @@ def check_damping(zeta, where: str) -> float:
     try:
         z = float(zeta)
     except (TypeError, ValueError):
-        raise ModelError(f"cannot read the damping ratio {zeta!r}", where=where, do="Give a number, e.g. 0.05") from None
+        raise ModelError(
+            f"cannot read the damping ratio {zeta!r}", where=where, do="Give a number, e.g. 0.05"
+        ) from None
     if not math.isfinite(z) or not 0 <= z < 1:
         raise ModelError(
             f"a damping ratio of {zeta!r} is outside 0 <= zeta < 1",
@@ -509,7 +523,7 @@ def load_per_mass(history: TimeHistory, mass, where: str) -> np.ndarray:
 def modal_states(p: np.ndarray, interval: Interval, *, chunk_elements: int = 1_000_000) -> np.ndarray:
     """``u_k`` at every sample for every natural frequency, from rest: complex, shape ``(n, N)``.
 
-    The recursion ``u_{k+1} = E u_k + c_k`` in blocks, frequencies in chunks of about
+    The recursion ``u_{k+1} = E u_k + c_k``, frequencies in chunks of about
     *chunk_elements* numbers (bounded memory).
     """
     w = interval.omega
@@ -523,30 +537,17 @@ def modal_states(p: np.ndarray, interval: Interval, *, chunk_elements: int = 1_0
 
 
 def _states_chunk(p: np.ndarray, interval: Interval) -> np.ndarray:
+    """The recursion ``u_{k+1} = E u_k + c_k`` from ``u_0 = 0``, one first-order complex
+    filter per natural frequency (``scipy.signal.lfilter``, which runs it in compiled code)."""
+    from scipy.signal import lfilter
+
     E, g0, g1 = interval.coefficients()
-    c = g0[:, None] * p[None, :-1] + g1[:, None] * p[None, 1:]  # (n, N-1)
-    n, steps = c.shape
-    decay = float(np.max(interval.zeta * interval.omega * interval.step))
-    block = steps if decay == 0 else int(max(1, min(steps, 300.0 // decay)))
-    blocks = -(-steps // block)
-    padded = np.zeros((n, blocks * block), dtype=complex)
-    padded[:, :steps] = c
-    padded = padded.reshape(n, blocks, block)
-    x = interval.root * interval.step  # (n,)
-    j = np.arange(block)
-    grow = np.exp(-x[:, None] * (j + 1))  # E^{-(i+1)}
-    fall = np.exp(x[:, None] * (j + 1))  # E^{j+1}
-    local = fall[:, None, :] * np.cumsum(padded * grow[:, None, :], axis=-1)  # from 0 at each block's start
-    starts = np.zeros((n, blocks), dtype=complex)
-    carry = np.zeros(n, dtype=complex)
-    whole = np.exp(x * block)
-    for b in range(blocks):
-        starts[:, b] = carry
-        carry = whole * carry + local[:, b, -1]
-    u = local + fall[:, None, :] * starts[:, :, None]
-    out = np.empty((n, steps + 1), dtype=complex)
+    n, N = E.size, p.size
+    out = np.empty((n, N), dtype=complex)
     out[:, 0] = 0
-    out[:, 1:] = u.reshape(n, -1)[:, :steps]
+    for i in range(n):
+        c = g0[i] * p[:-1] + g1[i] * p[1:]
+        out[i, 1:] = lfilter(np.ones(1), np.array([1.0, -E[i]]), c)
     return out
 
 
@@ -594,7 +595,9 @@ def history_response(history: TimeHistory, natural_frequency, damping_ratio, *, 
     zeta = check_damping(damping_ratio, f"{where}(damping_ratio)")
     w = check_frequencies(natural_frequency, history, f"{where}(natural_frequency)")
     if w.size != 1:
-        raise ModelError("history_response takes one natural frequency", where=where, do="Use record_spectrum for many")
+        raise ModelError(
+            "history_response takes one natural frequency", where=where, do="Use record_spectrum for many"
+        )
     p = load_per_mass(history, mass, where)
     interval = Interval(w, zeta, history.step)
     u = modal_states(p, interval)[0]

@@ -6,7 +6,8 @@ from rest is carried through the record by the interval rule of
 :mod:`calckit.physics.records` (exact for a load that is straight between samples), then
 
 * **primary** (during the record): the largest absolute sample, refined inside the two
-  intervals beside each of the :data:`REFINED_PEAKS` largest samples, where the response
+  intervals beside the largest sample of each of the :data:`REFINED_PEAKS` blocks of
+  :data:`PEAK_BLOCK` samples with the largest tops, where the response
   is known exactly at any time (the same closed form over part of an interval,
   :data:`POINTS_PER_INTERVAL` points an interval): a peak between samples is not missed;
 * **residual** (after it, the load being zero from the last sample on): the motion is the
@@ -40,10 +41,19 @@ from calckit.physics.records import (
 )
 from calckit.physics.spectrum import RESPONSES, SPECTRUM_KINDS, ShockSpectrum, log_frequencies
 
-__all__ = ["POINTS_PER_INTERVAL", "REFINED_PEAKS", "default_frequencies", "record_spectrum", "residual_peak"]
+__all__ = [
+    "PEAK_BLOCK",
+    "POINTS_PER_INTERVAL",
+    "REFINED_PEAKS",
+    "default_frequencies",
+    "record_spectrum",
+    "residual_peak",
+]
 
 #: Largest samples whose neighbouring intervals are searched for the peak between samples.
 REFINED_PEAKS = 8
+#: Samples a block when the largest peaks are picked (one peak a block).
+PEAK_BLOCK = 32
 #: Points inside an interval where the exact response is evaluated when refining a peak.
 POINTS_PER_INTERVAL = 64
 
@@ -87,6 +97,23 @@ def _vertex_max(y: np.ndarray) -> np.ndarray:
     lift = np.where(peak, (y2 - y0) ** 2 / (8 * np.where(peak, curve, 1.0)), 0.0)
     top = y1 + lift
     return np.maximum(top, y.max(axis=-1))
+
+
+def _largest_in_blocks(size: np.ndarray) -> np.ndarray:
+    """Indices (along the last axis) of the largest sample of each of the :data:`REFINED_PEAKS`
+    blocks of :data:`PEAK_BLOCK` samples whose largest samples are the largest: the tops of
+    separate peaks, not the neighbours of one (and a partial sort of a few hundred block
+    maxima, not of every sample)."""
+    m, N = size.shape
+    blocks = -(-N // PEAK_BLOCK)
+    padded = np.zeros((m, blocks * PEAK_BLOCK))
+    padded[:, :N] = size
+    padded = padded.reshape(m, blocks, PEAK_BLOCK)
+    where = np.argmax(padded, axis=-1)  # (m, blocks)
+    tops = np.take_along_axis(padded, where[..., None], axis=-1)[..., 0]
+    k = min(REFINED_PEAKS, blocks)
+    chosen = np.argpartition(tops, blocks - k, axis=1)[:, blocks - k :]  # (m, k)
+    return np.minimum(chosen * PEAK_BLOCK + np.take_along_axis(where, chosen, axis=1), N - 1)
 
 
 def _responses(u, p, wn, zeta, wd, force: bool):
@@ -159,9 +186,9 @@ def record_spectrum(
         z, a = _responses(u, p[None, :], wn_c, zeta, wd_c, force)
         E, g0, g1 = sub.coefficients(theta)  # (m, P): over the part theta of an interval
         for name, series in (("relative_displacement", z), ("absolute_acceleration", a)):
-            peak = np.max(np.abs(series), axis=1)
-            k = min(REFINED_PEAKS, N)
-            top = np.argpartition(np.abs(series), N - k, axis=1)[:, N - k :]  # (m, k)
+            size = np.abs(series)
+            peak = np.max(size, axis=1)
+            top = _largest_in_blocks(size)  # (m, k)
             starts = np.concatenate([top - 1, top], axis=1).clip(0, N - 2)  # (m, 2k) interval starts
             rows = np.arange(series.shape[0])[:, None]
             u0 = u[rows, starts][:, :, None]  # (m, 2k, 1)

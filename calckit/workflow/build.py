@@ -496,13 +496,45 @@ async def _build_alone(
 def prepared_values(
     template: Template, inputs: InputsFile | None, overrides: Mapping[str, Any] | None = None
 ) -> dict[str, Any]:
-    """The values the build assigns: the inputs file's for the template's parameters, then *overrides*."""
+    """The values the build assigns: the inputs file's for the template's parameters, then *overrides*.
+
+    A parameter the template marks ``# file`` becomes the absolute path of the file it
+    names, read relative to the inputs file's folder (see :mod:`calckit.workflow.templates`).
+
+    Raises
+    ------
+    InputsError
+        A file named by a ``# file`` parameter is not there.
+    """
     values: dict[str, Any] = {}
     if inputs is not None:
         values.update(inputs.assignments(template.parameters))
     if overrides:
         values.update(overrides)
+    if inputs is not None:
+        for name in sorted(template.files & set(values)):
+            values[name] = _data_file(values[name], inputs, name)
     return values
+
+
+def _data_file(value: Any, inputs: InputsFile, name: str) -> str:
+    """The absolute path of the data file *value* names, relative to the inputs file's folder."""
+    if not isinstance(value, str) or not value.strip():
+        raise InputsError(
+            f"{value!r} is not the name of a file",
+            where=inputs.where(name),
+            do="Give the file's name as text, relative to the inputs file's folder",
+        )
+    path = Path(value)
+    if not path.is_absolute():
+        path = inputs.path.parent / path
+    if not path.is_file():
+        raise InputsError(
+            f'the file "{value}" is not in {inputs.path.parent.resolve()}',
+            where=inputs.where(name),
+            do="Put the file next to the inputs file, or give its path relative to the inputs file",
+        )
+    return str(path.resolve())
 
 
 def build_sheet(

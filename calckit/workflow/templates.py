@@ -13,7 +13,12 @@ A template is a Jupyter notebook that builds one calculation sheet.
    ``checker`` and ``date`` may be declared there too; an inputs file sets
    them from its ``[sheet]`` table (or at its top level); ``subject`` it must
    give, the others keep the template's values when left out. Run as it is,
-   the template uses these values.
+   the template uses these values. A parameter whose line ends in a comment
+   starting ``# file`` (``record_file = "../examples/b402.csv"  # file: the record``)
+   names a data file: the build reads the inputs file's value as a path relative to
+   the inputs file's folder, refuses a file that is not there (at its line), and
+   hands the template the absolute path; the template's own value is a path from
+   the templates folder, for runs by hand.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
    fingerprint covers the template, with ``sources=input_sources`` and
@@ -138,6 +143,7 @@ class Template:
     parameters_cell: int
     digest: str
     optional: frozenset[str] = frozenset()
+    files: frozenset[str] = frozenset()
 
     @property
     def inputs(self) -> list[str]:
@@ -277,11 +283,16 @@ def load_template(template: str | os.PathLike) -> Template:
         for match in _OPTIONAL_LINE.finditer(cell_source(cell))
         if match.group(1) in parameters
     )
-    return Template(path, path.stem, notebook, parameters, tagged[0], _digest(notebook), optional)
+    files = frozenset(
+        match.group(1) for match in _FILE_LINE.finditer(cell_source(cell)) if match.group(1) in parameters
+    )
+    return Template(path, path.stem, notebook, parameters, tagged[0], _digest(notebook), optional, files)
 
 
 #: A parameter line marked optional: ``name = value  # optional: why``
 _OPTIONAL_LINE = re.compile(r"^([A-Za-z_]\w*)\s*=[^#\n]*#\s*optional\b", re.M)
+#: A parameter line naming a data file: ``name = "record.csv"  # file: what it holds``
+_FILE_LINE = re.compile(r"^([A-Za-z_]\w*)\s*=[^#\n]*#\s*file\b", re.M)
 
 
 def inputs_cell_source(
