@@ -178,7 +178,9 @@ def _order(times: list[tuple[sp.Expr, sp.Basic]], t: sp.Symbol) -> tuple[list[sp
                 raise ForcingError(
                     f"the order of the switching times {other} and {time} cannot be told from the "
                     "symbols' assumptions",
-                    where=f"forcing term {where}" if where == other_where else f"forcing terms {other_where} and {where}",
+                    where=f"forcing term {where}"
+                    if where == other_where
+                    else f"forcing terms {other_where} and {where}",
                     do="Declare durations positive (sympy.Symbol('d', positive=True)) and write later times as "
                     "an earlier one plus a duration, e.g. Heaviside(t - a - d)",
                 )
@@ -216,6 +218,20 @@ def _truth(rate: sp.Expr, time: sp.Expr, rel: sp.Basic, index: int, times: list,
     return positive if greater else not positive
 
 
+def _refuse_endless(entries: list, t: sp.Symbol) -> None:
+    """A load repeated without end (``floor(t/T)``, as ``pulses.repeated`` writes it without a count)."""
+    for entry in entries:
+        for atom in entry.atoms(sp.floor, sp.ceiling, sp.frac):
+            if atom.has(t):
+                raise ForcingError(
+                    f"the load repeats without end ({atom} of t): it switches infinitely often, so its response "
+                    "from rest would need an infinite series of intervals",
+                    where=f"forcing term {entry}",
+                    do="Give repeated(pulse, period, count=n) for n copies solved exactly from rest, or take the "
+                    "periodic load through its Fourier series for the steady state",
+                )
+
+
 def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
     """Cut a switching forcing (or forcing column) into intervals with a quasi-polynomial piece each.
 
@@ -224,7 +240,8 @@ def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
     ForcingError
         A switch not linear in t; switching times whose order cannot be told; a
         ``Piecewise`` piece that is never used (its condition comes after an earlier
-        one that covers it); a ``Piecewise`` undefined on an interval.
+        one that covers it); a ``Piecewise`` undefined on an interval; a load repeated
+        without end (``floor`` of t, as ``repeated`` without a count writes it).
 
     Examples
     --------
@@ -235,6 +252,7 @@ def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
     """
     vector = isinstance(f, sp.MatrixBase)
     entries = [_rewrite_min_max(sp.sympify(e), t) for e in _entries(f)]
+    _refuse_endless(entries, t)
     switches: dict = {}
     for entry in entries:
         switches.update(_switches(entry, t))
@@ -253,8 +271,10 @@ def split_switching(f, t: sp.Symbol) -> SwitchedForcing:
         mapping = {}
         for rel, (rate, time, where) in switches.items():
             truth = _truth(rate, time, rel, index, times, t, where)
-            mapping[rel] = sp.S.One if isinstance(rel, sp.Heaviside) and truth else (
-                sp.S.Zero if isinstance(rel, sp.Heaviside) else sp.true if truth else sp.false
+            mapping[rel] = (
+                sp.S.One
+                if isinstance(rel, sp.Heaviside) and truth
+                else (sp.S.Zero if isinstance(rel, sp.Heaviside) else sp.true if truth else sp.false)
             )
         row = []
         for entry in entries:
