@@ -265,7 +265,7 @@ class TestBuildSheet:
     def test_pdf_print_dates_do_not_count(self, tmp_path):
         """Two prints of one sheet differ only in their dates and count as the same file; a signed PDF
         (bytes appended) does not."""
-        from calckit.workflow.build import same_file as _same_file
+        from calckit.workflow.held import same_file as _same_file
 
         head = b"%PDF-1.4\n1 0 obj\n<</Producer (Skia/PDF m156)\n"
         first, second, signed = tmp_path / "a.pdf", tmp_path / "b.pdf", tmp_path / "c.pdf"

@@ -412,9 +412,9 @@ def piecewise_response(
     count = len(switched.pieces)
     head = SwitchingTimesStep(
         "Switching times and the pieces of the load",
-        f"The load switches at {len(switched.times)} time(s) after t = 0"
-        + (", assuming " + ", ".join(map(str, switched.conditions)) if switched.conditions else "")
-        + f"; between switches it is one quasi-polynomial, so each of the {count} interval(s) is solved "
+        f"The load switches {_times(len(switched.times))} after $t = 0$"
+        + (", assuming " + ", ".join(f"${sp.latex(c)}$" for c in switched.conditions) if switched.conditions else "")
+        + f"; between switches it is one quasi-polynomial, so each of the {count} intervals is solved "
         "by undetermined coefficients, starting from the state the interval before ended in.",
         switched.forcing,
         t,
@@ -438,17 +438,20 @@ def piecewise_response(
         else:
             local = sp.expand(local)
         origin = (
-            "rest (the particular solution of a load that starts at t = 0 is taken as the response from rest)"
+            "rest (the particular solution of a load that starts at $t = 0$ is taken as the response from rest)"
             if i == 0 and from_rest
             else "the initial state"
             if i == 0
             else f"the state at the end of interval {i}"
         )
-        span = f"{start} <= t < {end}" if end is not None else f"t >= {start}"
+        span = (
+            f"${sp.latex(start)} \\le t < {sp.latex(end)}$" if end is not None else f"$t \\ge {sp.latex(start)}$"
+        )
+        local_time = f"${sp.latex(tau)} = t$" if start == 0 else f"${sp.latex(tau)} = t - {sp.latex(start)}$"
         steps.append(
             IntervalStep(
                 f"Interval {i + 1}: {span}",
-                f"In the local time {tau} = t - {start} the load is one quasi-polynomial; the interval starts "
+                f"In the local time {local_time} the load is one quasi-polynomial; the interval starts "
                 f"from {origin}.",
                 i + 1,
                 start,
@@ -567,3 +570,8 @@ def scalar_solver(respond: Callable, order: int) -> IntervalSolver:
         return tuple(out)
 
     return IntervalSolver(respond, state_of, (sp.S.Zero,) * order)
+
+
+def _times(n: int) -> str:
+    """``once``, ``twice``, ``3 times``."""
+    return {1: "once", 2: "twice"}.get(n, f"{n} times")

@@ -148,6 +148,8 @@ class ScalarStrategy(Strategy):
 
 def _split_sentence(split: ForcingSplit) -> str:
     n = len(split.groups)
+    if n == 0:
+        return "The forcing is zero here: there is no group of terms, and the particular solution is 0."
     if n == 1:
         return (
             "The forcing is one group of terms sharing the exponent $\\lambda = a + i b$, "

@@ -106,10 +106,24 @@ def chunk_signed(parts: Sequence[tuple[bool, Tex]], room: int, first: bool = Tru
     return lines
 
 
+def _negative(term: sp.Expr) -> bool:
+    """Whether *term* is shown with a minus: its sign, or that of its numeric factor when that is a
+    sum such as ``4000000 - 12800000 pi^2/9`` (negative, though written with a plus first)."""
+    if term.could_extract_minus_sign():
+        return True
+    number = term.as_independent(*term.free_symbols, as_Add=False)[0] if term.free_symbols else term
+    if number.is_number and number.is_Add:
+        try:
+            return bool(number.evalf(30) < 0)
+        except TypeError:  # complex
+            return False
+    return False
+
+
 def _signed_terms(terms: Sequence[sp.Expr], nt: Notation) -> list[tuple[bool, Tex]]:
     out = []
     for term in terms:
-        negative = term.could_extract_minus_sign()
+        negative = _negative(term)
         out.append((negative, _e(-term if negative else term, nt)))
     return out
 

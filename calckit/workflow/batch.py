@@ -45,12 +45,11 @@ from calckit.workflow.build import (
     CASE_TIME_LIMIT_S,
     CELL_TIMEOUT_S,
     build_in_kernel,
-    check_out_folder,
     check_time_limit,
-    held_fingerprint,
     prepared_values,
 )
 from calckit.workflow.cases import read_cases
+from calckit.workflow.held import check_out_folder, held_fingerprint
 from calckit.workflow.kernels import die_with_parent, loop_running, run_in_kept_kernel, run_sync
 from calckit.workflow.outfolder import FolderLock
 from calckit.workflow.templates import Template, load_template

@@ -45,16 +45,24 @@ from __future__ import annotations
 import asyncio
 import contextlib
 import os
-import re
 import shutil
 import time
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from calckit.core.files import write_text
-from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
+from calckit.errors import BuildError, CalcError, InputsError
+from calckit.workflow.held import (
+    SHEET_SUFFIXES,
+    check_not_template,
+    check_out_folder,
+    held_fingerprint,
+    refuse_changed,
+    refuse_other_sheet,
+    same_file,
+)
 from calckit.workflow.kernels import Kernel, run_sync, start_kernel
 from calckit.workflow.outfolder import FolderLock, move_in, stage_folder
 from calckit.workflow.templates import (
@@ -90,7 +98,6 @@ CELL_TIMEOUT_S = 600
 #: Seconds the template's cells (and the save) may run in all, for one sheet: a build or a batch case.
 CASE_TIME_LIMIT_S = 300
 #: The files of a built sheet, by suffix.
-SHEET_SUFFIXES = (".ipynb", ".html", ".json", ".pdf")
 
 
 @dataclass(frozen=True)
@@ -204,80 +211,6 @@ def _dead_kernel(kernel: Kernel, template: Template) -> BuildError:
     )
 
 
-def check_out_folder(out: Path) -> None:
-    """Refuse an output path that is a file (a folder, or nothing yet, is fine)."""
-    if out.exists() and not out.is_dir():
-        raise BuildError(
-            "the output path is a file, not a folder",
-            where=str(out),
-            do="Give a folder for --out (it is created if missing)",
-        )
-
-
-def _check_not_template(out: Path, template: Path) -> None:
-    target = out / f"{template.stem}.ipynb"
-    if target.exists() and target.resolve() == template.resolve():
-        raise BuildError(
-            "the output folder is the template's own folder: the executed notebook would replace the template",
-            where=str(target),
-            do="Give another folder for --out",
-        )
-
-
-def held_fingerprint(out: Path, stem: str) -> tuple[bool, str | None]:
-    """Whether the folder holds files of a sheet called *stem*, and their fingerprint (None if unreadable)."""
-    present = [out / f"{stem}{suffix}" for suffix in SHEET_SUFFIXES if (out / f"{stem}{suffix}").exists()]
-    if not present:
-        return False, None
-    from calckit.sheet import existing_fingerprint
-
-    for suffix in (".json", ".html"):
-        found = existing_fingerprint(out / f"{stem}{suffix}")
-        if found:
-            return True, found
-    return True, None
-
-
-def _refuse(out: Path, stem: str, held: str | None) -> OverwriteError:
-    what = (
-        f"a sheet with fingerprint {held[:12]}"
-        if held
-        else "files of a sheet whose fingerprint cannot be read"
-    )
-    return OverwriteError(
-        f"the output folder already holds {what}, built from other inputs",
-        where=str(out / f"{stem}.json"),
-        do="Build into another folder, or pass overwrite=True (--overwrite) to replace it",
-    )
-
-
-def _refuse_changed(out: Path, names: Sequence[str]) -> OverwriteError:
-    one = len(names) == 1
-    return OverwriteError(
-        f"the output folder holds this sheet (same fingerprint), but {', '.join(names)} "
-        f"{'differs' if one else 'differ'} from what this build writes (edited since it was built?)",
-        where=str(out),
-        do=f"Keep a copy elsewhere, build into another folder, or pass overwrite=True (--overwrite) "
-        f"to replace {'it' if one else 'them'}",
-    )
-
-
-_PDF_DATES = re.compile(rb"/(CreationDate|ModDate) ?\(D:[0-9Z+'-]*\)")
-
-
-def same_file(held: Path, written: Path) -> bool:
-    """Whether a file in the output folder holds what the build wrote: the same bytes (a PDF's dates aside)."""
-    try:
-        old, new = held.read_bytes(), written.read_bytes()
-    except OSError:
-        return False
-    if old == new:
-        return True
-    if written.suffix == ".pdf":  # Chromium stamps each print with its time
-        return _PDF_DATES.sub(rb"/\1 ()", old) == _PDF_DATES.sub(rb"/\1 ()", new)
-    return False
-
-
 async def build_in_kernel(
     kernel: Kernel,
     template: Template,
@@ -313,10 +246,10 @@ async def build_in_kernel(
     import nbformat
 
     stem = template.name
-    _check_not_template(out, template.path)
+    check_not_template(out, template.path)
     held_any, held_print = held
     if held_any and held_print is None and not overwrite:
-        raise _refuse(out, stem, held_print)
+        raise refuse_other_sheet(out, stem, held_print)
 
     notebook = copy.deepcopy(template.notebook)
     injected = nbformat.v4.new_code_cell(
@@ -363,7 +296,7 @@ async def build_in_kernel(
             _check_sources(template, record, sources, wheres)
         fingerprint = record["fingerprint"]
         if held_any and not overwrite and held_print != fingerprint:
-            raise _refuse(out, stem, held_print)
+            raise refuse_other_sheet(out, stem, held_print)
         produced = [s for s in (".ipynb", ".pdf", ".html", ".json") if (work / f"{stem}{s}").exists()]
         present = {s for s in produced if (out / f"{stem}{s}").exists()}
         if not overwrite:  # the same fingerprint: replace only files that hold what this build wrote
@@ -373,7 +306,7 @@ async def build_in_kernel(
                 if s in present and not same_file(out / f"{stem}{s}", work / f"{stem}{s}")
             ]
             if changed:
-                raise _refuse_changed(out, changed)
+                raise refuse_changed(out, changed)
         # stale files of the replaced sheet (a PDF not asked for now) go with the move
         stale = [
             f"{stem}{s}"
@@ -601,7 +534,7 @@ def build_sheet(
     path = find_template(template)
     out = Path(out)
     check_out_folder(out)
-    _check_not_template(out, path)
+    check_not_template(out, path)
     check_time_limit(time_limit)
     with FolderLock(out):  # the whole build: what the folder holds is read and checked under it
         return run_sync(
