@@ -208,7 +208,7 @@ def total_response(
             reproduce=_reproducer(ode, der.forcing, values, t),
         ) from exc
     found = tuple(
-        (c, v.evalf(ROOT_DIGITS) if numerical else tidy(sp.simplify(v) if sp.count_ops(v) < 200 else v))
+        (c, v.evalf(ROOT_DIGITS) if numerical else tidy(_simpler(v)))
         for c, v in zip(constants, solved, strict=True)
     )
     mapping = dict(found)
@@ -253,3 +253,12 @@ def _reproducer(ode: ScalarOperator, forcing, values, t: sp.Symbol) -> str:
         f"import calckit as ck; from sympy import *; t = {sp.srepr(t)}; "
         f"ck.LinearODE([{coefficients}]).response({sp.srepr(sp.sympify(forcing))}, [{initial}], t=t)"
     )
+
+
+def _simpler(value: sp.Expr) -> sp.Expr:
+    """A fitted constant in a readable form: ``simplify`` for a small symbolic one; a number stays
+    exact as it came (``sympy.simplify`` of a number with ``sin(3/200 sqrt(...))`` in it can run for
+    minutes in trigsimp's factoring, and a numeric sheet shows it in decimals anyway)."""
+    if value.free_symbols and sp.count_ops(value) < 200:
+        return sp.simplify(value)
+    return sp.cancel(value) if value.is_number and not value.has(sp.Function) else value

@@ -161,6 +161,13 @@ def long_rows(
         return _matrix_rows(lhs, expr, nt, relation, note)
     expr = sp.sympify(expr)
     room = max(LINE_TEXT - tex_width(lhs) - 2, LINE_TEXT // 2)
+    if isinstance(expr, sp.Piecewise) and not _fits(expr, nt, room):
+        # a piecewise result too wide for one brace: each piece on rows of its own, its interval beside it
+        return tuple(
+            row
+            for piece, condition in expr.args
+            for row in long_rows(lhs, piece, nt, relation=relation, note=(_condition(condition, nt),), _depth=_depth)
+        )
     if note and not _fits(expr, nt, room - tex_width(note) - 3):
         # the note on a row of its own above the formula, so that it adds no width
         return (Row((), (), note), *long_rows(lhs, expr, nt, relation=relation, _depth=_depth))
@@ -174,6 +181,15 @@ def long_rows(
         if named is not None:
             return named
     return (Row(lhs, (relation, _e(expr, nt)), note),)
+
+
+def _condition(condition, nt: Notation) -> Tex:
+    """``for t < 0.015`` (to the sheet's figures), or ``otherwise``."""
+    if condition is sp.true:
+        return Tex(r"\text{otherwise}", "otherwise")
+    numbers = condition.atoms(sp.Number)
+    shown = condition.xreplace({n: shown_decimals(n, nt.sig) for n in numbers}) if nt.sig else condition
+    return Tex(rf"\text{{for }} {sp.latex(shown)}", f"for {sp.sstr(shown)}")
 
 
 def _named_rows(lhs, expr, nt: Notation, relation, note, depth: int) -> tuple[Row, ...] | None:
