@@ -33,6 +33,7 @@ from calckit.engine.piecewise import (
     scalar_solver,
     split_switching,
 )
+from calckit.engine.periodic import PeriodicSteadyState, periodic_steady_state
 from calckit.engine.response import Response, homogeneous_basis, total_response
 from calckit.engine.scalar import ScalarStrategy
 from calckit.engine.vector import VectorStrategy
@@ -51,6 +52,7 @@ __all__ = [
     "IntervalSolver",
     "LinearODE",
     "PeakComparison",
+    "PeriodicSteadyState",
     "LinearOperator",
     "PiecewiseDerivation",
     "Response",
@@ -71,6 +73,7 @@ __all__ = [
     "is_switching",
     "is_zero",
     "particular_step",
+    "periodic_steady_state",
     "piecewise_particular",
     "piecewise_response",
     "plain",
