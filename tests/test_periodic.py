@@ -72,12 +72,19 @@ def test_oscillator_trapezoid_against_solve_ivp():
     m, k, zeta, T = 2, 800, R(1, 20), R(1, 2)
     c = 2 * zeta * sp.sqrt(k * m)
     P, t1, t2, t3 = 100, R(1, 10), R(1, 10), R(1, 20)
-    load = sp.Piecewise((P * t / t1, t < t1), (P, t < t1 + t2), (P * (t1 + t2 + t3 - t) / t3, t < t1 + t2 + t3), (0, True))
+    load = sp.Piecewise(
+        (P * t / t1, t < t1), (P, t < t1 + t2), (P * (t1 + t2 + t3 - t) / t3, t < t1 + t2 + t3), (0, True)
+    )
     osc = ck.Oscillator(m, c, k)
     per = osc.periodic_steady_state(load, T, t=t)
     assert per.verified and per.residual < 1e-25
     f1, f2, f3 = float(t1), float(t1 + t2), float(t1 + t2 + t3)
-    pieces = [(0.0, f1, lambda s: P * s / f1), (f1, f2, lambda s: P), (f2, f3, lambda s: P * (f3 - s) / float(t3)), (f3, float(T), lambda s: 0.0)]
+    pieces = [
+        (0.0, f1, lambda s: P * s / f1),
+        (f1, f2, lambda s: P),
+        (f2, f3, lambda s: P * (f3 - s) / float(t3)),
+        (f3, float(T), lambda s: 0.0),
+    ]
     times, ref = _integrate_periods([m, float(c), k], pieces, float(T), 40, 2001)
     x = per.evaluate(times)
     assert np.max(np.abs(x - ref)) <= 1e-8 * np.max(np.abs(ref))
@@ -90,7 +97,9 @@ def test_third_order_against_solve_ivp():
     ode = LinearODE([1, 3, 3, 1])
     per = ode.periodic_steady_state(sp.Piecewise((2, t < 1), (0, True)), 3, t=t)
     assert per.verified
-    times, ref = _integrate_periods([1, 3, 3, 1], [(0.0, 1.0, lambda s: 2.0), (1.0, 3.0, lambda s: 0.0)], 3.0, 60, 901)
+    times, ref = _integrate_periods(
+        [1, 3, 3, 1], [(0.0, 1.0, lambda s: 2.0), (1.0, 3.0, lambda s: 0.0)], 3.0, 60, 901
+    )
     assert np.max(np.abs(per.evaluate(times) - ref)) <= 1e-8 * np.max(np.abs(ref))
 
 
@@ -133,6 +142,11 @@ def test_sp601_stroke_in_a_subprocess_with_time_limit():
     got = json.loads(done.stdout.strip().splitlines()[-1])
     assert got["verified"]
     c = 2 * 0.03 * math.sqrt(9500000 * 3200)
-    pieces = [(0.0, 0.3, lambda s: 45000 * s / 0.3), (0.3, 0.7, lambda s: 45000.0), (0.7, 0.8, lambda s: 45000 * (0.8 - s) / 0.1), (0.8, 1.5, lambda s: 0.0)]
+    pieces = [
+        (0.0, 0.3, lambda s: 45000 * s / 0.3),
+        (0.3, 0.7, lambda s: 45000.0),
+        (0.7, 0.8, lambda s: 45000 * (0.8 - s) / 0.1),
+        (0.8, 1.5, lambda s: 0.0),
+    ]
     times, ref = _integrate_periods([3200, c, 9500000], pieces, 1.5, 30, 3000)
     assert np.max(np.abs(np.array(got["x"]) - ref)) <= 1e-7 * np.max(np.abs(ref))

@@ -162,7 +162,9 @@ def _numeric_model(operator, f, t: sp.Symbol) -> None:
         )
 
 
-def periodic_steady_state(operator, f, period, solver: IntervalSolver, *, t: sp.Symbol) -> PeriodicSteadyState:
+def periodic_steady_state(
+    operator, f, period, solver: IntervalSolver, *, t: sp.Symbol
+) -> PeriodicSteadyState:
     """The periodic response to *f* repeated with *period*, exact on ``[0, period)``.
 
     Parameters
@@ -197,7 +199,9 @@ def periodic_steady_state(operator, f, period, solver: IntervalSolver, *, t: sp.
     """
     T = _number(period, "period")
     if not T.is_positive:
-        raise ModelError(f"the period {period!r} is not positive", where="period", do="Give a period above 0, e.g. 1.5")
+        raise ModelError(
+            f"the period {period!r} is not positive", where="period", do="Give a period above 0, e.g. 1.5"
+        )
     _numeric_model(operator, f, t)
     n = len(solver.rest)
     if n > MAX_ORDER:
@@ -231,7 +235,9 @@ def periodic_steady_state(operator, f, period, solver: IntervalSolver, *, t: sp.
     import mpmath
 
     with mpmath.workdps(_DIGITS + 10):
-        system = mpmath.matrix([[mpmath.mpf(str(_digits((1 if i == j else 0) - phi[i, j]))) for j in range(n)] for i in range(n)])
+        system = mpmath.matrix(
+            [[mpmath.mpf(str(_digits((1 if i == j else 0) - phi[i, j]))) for j in range(n)] for i in range(n)]
+        )
         rhs = mpmath.matrix([mpmath.mpf(str(_digits(v))) for v in r])
         size = max(mpmath.mpf(1), max(abs(v) for v in system))
         if abs(mpmath.det(system)) <= mpmath.mpf("1e-20") * size**n:
@@ -247,7 +253,8 @@ def periodic_steady_state(operator, f, period, solver: IntervalSolver, *, t: sp.
         state = tuple(sp.Rational(mpmath.nstr(solved[i], _DIGITS, strip_zeros=False)) for i in range(n))
     free_motion = sp.Add(*(s * h.xreplace({local: t}) for s, h in zip(state, free, strict=True)))
     pieces = tuple(
-        res.solution.xreplace({res.t: t - start}) + free_motion for res, start in zip(intervals, starts, strict=False)
+        res.solution.xreplace({res.t: t - start}) + free_motion
+        for res, start in zip(intervals, starts, strict=False)
     )
     ends = (*starts[1:], T)
     solution = sp.Piecewise(*((p, sp.Lt(t, end)) for p, end in zip(pieces, ends, strict=True)))
