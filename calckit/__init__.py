@@ -26,8 +26,9 @@ _PUBLIC = {
     "calckit.core": ("units",),  # modules exported by name (``ck.units.fmt``)
     "calckit.core.units": ("angular_frequency", "cyclic_frequency", "fmt", "Q_", "quantity", "to_si", "ureg"),
     "calckit.engine": (
-        "compare_peak", "compare_sampled_peak", "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit", "ForcingTerm",
-        "frequency_response", "FrequencyResponse", "LinearODE", "PeakComparison", "Response", "split_forcing", "time_history",
+        "compare_peak", "compare_sampled_peak", "Compiled", "compile_expr", "Derivation", "ExponentGroup", "ForcingSplit",
+        "ForcingTerm", "frequency_response", "FrequencyResponse", "LinearODE", "PeakComparison", "PeriodicSteadyState",
+        "periodic_steady_state", "Response", "split_forcing", "time_history",
     ),
     "calckit.physics": (
         "base_excitation", "eccentricity_from_grade", "fourier_series", "fourier_series_from_samples",

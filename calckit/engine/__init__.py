@@ -23,6 +23,7 @@ from calckit.engine.numeric import (
     time_history,
 )
 from calckit.engine.operator import LinearODE
+from calckit.engine.periodic import PeriodicSteadyState, periodic_steady_state
 from calckit.engine.piecewise import (
     IntervalSolver,
     PiecewiseDerivation,
@@ -51,6 +52,7 @@ __all__ = [
     "IntervalSolver",
     "LinearODE",
     "PeakComparison",
+    "PeriodicSteadyState",
     "LinearOperator",
     "PiecewiseDerivation",
     "Response",
@@ -72,6 +74,7 @@ __all__ = [
     "is_switching",
     "is_zero",
     "particular_step",
+    "periodic_steady_state",
     "piecewise_particular",
     "piecewise_response",
     "plain",

@@ -16,6 +16,7 @@ from calckit.engine.algebra import FIELD_ERRORS, LAMBDA, FreeField, complex_tayl
 from calckit.engine.derivation import Derivation
 from calckit.engine.forcing import resolve_time
 from calckit.engine.method import derive
+from calckit.engine.periodic import periodic_steady_state
 from calckit.engine.piecewise import (
     IntervalSolver,
     is_switching,
@@ -180,6 +181,13 @@ class LinearODE:
                 return total_response(self, 0, values, t=t)  # its refusal names the count
             return piecewise_response(self, f, tuple(values), self.interval_solver(), t=t)
         return total_response(self, f, initial_values, t=t)
+
+    def periodic_steady_state(self, f, period, *, t: sp.Symbol | None = None):
+        """The exact periodic response to *f* (one period on ``[0, period)``) repeated with *period*.
+
+        See :func:`calckit.engine.periodic.periodic_steady_state`.
+        """
+        return periodic_steady_state(self, f, period, self.interval_solver(), t=resolve_time(f, t))
 
     def interval_solver(self, regime: str = "") -> IntervalSolver:
         """How one interval of a switching forcing is solved (:mod:`calckit.engine.piecewise`)."""

@@ -30,6 +30,7 @@ from calckit.engine import (
     Response,
     frequency_response,
     is_switching,
+    periodic_steady_state,
     piecewise_response,
     resolve_time,
     scalar_solver,
@@ -318,6 +319,20 @@ class Oscillator(LinearODE):
             return piecewise_response(self, f, tuple(values), self.interval_solver(regime), t=resolve_time(f, t))
         t = split_forcing(f, t).t
         return total_response(self, f, values, t=t, basis=self.transient_basis(t), regime=regime)
+
+    def periodic_steady_state(self, f, period, *, t: sp.Symbol | None = None):
+        """The exact periodic response to *f* (one period on ``[0, period)``) repeated with *period*.
+
+        A :class:`calckit.engine.periodic.PeriodicSteadyState`; *period* a number in s or a
+        pint time. The model needs numbers for m, c and k.
+        """
+        if _is_quantity(period):
+            from calckit.core.units import quantity, to_si
+
+            period = to_si(quantity(period, "period", expect="time"), "period").magnitude
+        f = self._forcing_si(f)
+        regime = self.regime if (self.m != 0 and self.k != 0) else ""
+        return periodic_steady_state(self, f, period, self.interval_solver(regime), t=resolve_time(f, t))
 
     def interval_solver(self, regime: str = "") -> IntervalSolver:
         """One interval of a switching forcing, with the textbook basis of the free motion."""
