@@ -8,7 +8,7 @@ import time
 import numpy as np
 import pytest
 import sympy as sp
-from hypothesis import given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from scipy.integrate import solve_ivp
 from scipy.optimize import brentq, minimize_scalar
@@ -222,7 +222,9 @@ class TestTransmissibility:
     @settings(max_examples=100, deadline=None)
     @given(st.floats(0, 1.4), st.floats(0, 2), st.floats(0.01, 2))
     def test_damping_helps_below_root_two(self, r, zeta, extra):
-        """Below r = sqrt(2) more damping lowers T (or leaves it at 1 at r = 0)."""
+        """Below r = sqrt(2) more damping lowers T (or leaves it at 1 at r = 0); undamped at r = 1 there
+        is no steady state to compare (refused as resonance: test_undamped_resonance_single_number_says_resonance)."""
+        assume(not (r == 1.0 and zeta == 0.0))
         assert transmissibility(r, zeta + extra) <= transmissibility(r, zeta)
 
     @pytest.mark.parametrize("r, zeta", [(0.5, 0.1), (2.0, 0.3), (3.0, 0.15)])
