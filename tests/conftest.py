@@ -28,3 +28,30 @@ def pytest_collection_modifyitems(config: pytest.Config, items: list[pytest.Item
         path = Path(str(item.path))
         if path.suffix == ".ipynb" or path.name in KERNEL_MODULES or item.get_closest_marker("slow"):
             item.add_marker(pytest.mark.kernel)
+
+
+@pytest.fixture(scope="session")
+def shared_demo(tmp_path_factory, worker_id):
+    """``calckit demo --out demo`` run once for the whole run (across xdist workers, under a file lock):
+    ``(folder it ran in, its CompletedProcess)``. The CLI test reads what it printed, the print-fit
+    test prints its sheets; neither writes into it."""
+    import fcntl
+    import json
+    import subprocess
+    import sys
+
+    base = tmp_path_factory.getbasetemp()
+    root = base.parent if worker_id != "master" else base  # one folder for this run, shared by its workers
+    where = root / "shared-demo"
+    with open(root / "shared-demo.lock", "w") as lock:
+        fcntl.flock(lock, fcntl.LOCK_EX)
+        done = root / "shared-demo.json"
+        if not done.exists():
+            where.mkdir(exist_ok=True)
+            run = subprocess.run(
+                [sys.executable, "-m", "calckit", "demo", "--out", "demo"],
+                capture_output=True, text=True, timeout=900, cwd=where, check=False,
+            )  # fmt: skip
+            done.write_text(json.dumps([run.returncode, run.stdout, run.stderr]), encoding="utf-8")
+        code, out, err = json.loads(done.read_text(encoding="utf-8"))
+    return where, subprocess.CompletedProcess(["calckit", "demo", "--out", "demo"], code, out, err)

@@ -117,9 +117,12 @@ BAD_INPUTS = {
 
 
 @pytest.fixture(scope="module")
-def runs(tmp_path_factory):
-    """Every command that needs a kernel, run once, two at a time; results by name."""
+def runs(tmp_path_factory, shared_demo):
+    """Every command that needs a kernel, run once, two at a time; results by name (the demo is the
+    run's one shared build, linked in as demo/)."""
     root = tmp_path_factory.mktemp("cli")
+    demo_root, demo_run = shared_demo
+    (root / "demo").symlink_to(demo_root / "demo", target_is_directory=True)
     jobs = {}
     for name, (old, new, _) in BAD_INPUTS.items():
         (root / f"{name}.toml").write_text(_example_with(old, new), encoding="utf-8")
@@ -128,7 +131,6 @@ def runs(tmp_path_factory):
     (root / "slow.toml").write_text(
         _example_with('forcing_frequency = "1480 rpm"', 'forcing_frequency = "600 rpm"'), encoding="utf-8"
     )
-    jobs["demo"] = ("demo", "--out", "demo")
     jobs["slow"] = ("build", TEMPLATE, "--inputs", "slow.toml", "--out", "slow")
     (root / "internal.toml").write_text('subject = "x"\n', encoding="utf-8")
     jobs["internal_in_cell"] = (
@@ -146,6 +148,7 @@ def runs(tmp_path_factory):
     with cf.ThreadPoolExecutor(max_workers=2) as pool:
         futures = {name: pool.submit(calckit, *args, cwd=root) for name, args in jobs.items()}
         done = {name: future.result() for name, future in futures.items()}
+    done["demo"] = demo_run
     # these need the demo's folder
     done["refused"] = calckit("build", TEMPLATE, "--inputs", "slow.toml", "--out", "demo/p101", cwd=root)
     done["batch"] = calckit(

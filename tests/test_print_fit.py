@@ -24,7 +24,6 @@ import html
 import re
 import shutil
 import subprocess
-import sys
 from pathlib import Path
 
 import pytest
@@ -41,18 +40,11 @@ FACTORS = ("sin", "cos", "=")
 
 
 @pytest.fixture(scope="module")
-def demo_sheets(tmp_path_factory) -> dict[str, Path]:
-    out = tmp_path_factory.mktemp("demo")
-    run = subprocess.run(
-        [sys.executable, "-m", "calckit", "demo", "--out", str(out / "sheets")],
-        capture_output=True,
-        text=True,
-        timeout=600,
-        cwd=out,
-    )
+def demo_sheets(shared_demo) -> dict[str, Path]:
+    root, run = shared_demo  # the run's one demo build (tests/conftest.py)
     # 3: built, with a check not met (the SP-601 demo's separation check is not met on purpose)
     assert run.returncode in (0, 3), run.stderr[-3000:]
-    sheets = {p.parent.name: p for p in sorted((out / "sheets").glob("*/*.html"))}
+    sheets = {p.parent.name: p for p in sorted((root / "demo").glob("*/*.html"))}
     assert len(sheets) >= 6, sorted(sheets)
     return sheets
 
