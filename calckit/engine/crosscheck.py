@@ -106,7 +106,7 @@ class PeakComparison:
         """The numerical procedure and its settings, in one line a checker can repeat."""
         return (
             f"scipy.integrate.solve_ivp, method {INTEGRATION_METHOD}, rtol {self.rtol:g}, atol {self.atol:.3g}, "
-            f"from the same initial state over 0 <= t <= {self.duration:g} s{self.route}; both routes sampled at "
+            f"from the same initial state over $0 \\le t \\le {self.duration:g}$ s{self.route}; both routes sampled at "
             f"{self.samples} equally spaced times"
         )
 

@@ -106,9 +106,10 @@ class PeriodicSteadyState:
         n = len(self.initial_state)
         return (
             f"exact periodic solution: the response from rest over one period, solved interval by interval "
-            f"({len(self.starts)} interval(s), undetermined coefficients, the state continuous at each switch), "
+            f"({len(self.starts)} {'interval' if len(self.starts) == 1 else 'intervals'}, undetermined coefficients, the state continuous at each switch), "
             f"plus the free motions from the {n} unit states, weighted by the initial state that solves "
-            f"(I - Phi(T)) s(0) = s_rest(T) (40-digit LU, the state kept to 30 digits); s(T) = s(0) to {self.residual:.1e}"
+            f"$(I - \\Phi(T))\\,s(0) = s_{{rest}}(T)$ (40-digit LU, the state kept to 30 digits); $s(T) = s(0)$ to "
+            f"{self.residual:.1e}"
         )
 
     def evaluate(self, times, derivative: int = 0) -> np.ndarray:

@@ -355,8 +355,9 @@ def pulse_spectrum(
                     do="Report this pulse; meanwhile sample it and use record_spectrum",
                 )
     method = (
-        f"piecewise solution from rest: each of the {len(general)} interval(s) of the pulse solved by undetermined "
-        f"coefficients with omega_n and the starting state as symbols, the state carried across each switch, maxima during the pulse at the interval ends and "
+        f"piecewise solution from rest: {_intervals(len(general))} of the pulse solved by undetermined "
+        f"coefficients with $\\omega_n$ and the starting state as symbols, the state carried across each switch, "
+        f"maxima during the pulse at the interval ends and "
         f"at the roots of the exact derivative (bracketed on {POINTS_PER_CYCLE} points a cycle, refined by "
         f"bisection), residual from the free vibration after the pulse in closed form"
     )
@@ -364,7 +365,7 @@ def pulse_spectrum(
     if special:
         notes.append(
             "At "
-            + ", ".join(f"omega_n = {sp.sstr(root)} rad/s" for root, _ in special)
+            + ", ".join(f"$\\omega_n = {sp.latex(root)}$ rad/s" for root, _ in special)
             + " the general solution does not hold (resonance with the pulse); the response was derived there again."
         )
     if force:
@@ -409,3 +410,8 @@ def _fill(values, mask, w, parts: list[_Piece], zeta: float):
 def _points(part: _Piece, omega: float, rate: float) -> int:
     cycles_rate = omega + part.frequencies
     return LEAST_POINTS + int(math.ceil(rate * cycles_rate * part.length))
+
+
+def _intervals(n: int) -> str:
+    """``its one interval``, ``each of its 3 intervals``."""
+    return "its one interval" if n == 1 else f"each of its {n} intervals"

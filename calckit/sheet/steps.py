@@ -217,7 +217,7 @@ class Steps:
             (
                 "derived",
                 derived,
-                f"largest |{symbol}(t)| of the derived x(t) at the sample times of the integration",
+                f"largest $|{symbol}(t)|$ of the derived $x(t)$ at the sample times of the integration",
             ),
             ("integrated", integrated, comparison.procedure),
         ):
