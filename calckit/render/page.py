@@ -86,16 +86,18 @@ th, td { border: 0.5pt solid #000; padding: 0.25em 0.5em; text-align: left; vert
 th { font-weight: bold; background: #f2f2f2; }
 td.number, th.number { text-align: right; font-variant-numeric: tabular-nums; }
 /* values, limits and margins stay on one line */
-table.inputs td:nth-child(3), table.checks td:nth-child(3), table.checks td:nth-child(4) { white-space: nowrap; }
+table.inputs td:nth-child(3) { white-space: nowrap; }
 /* the checks table has fixed columns, so the basis keeps a readable width and a long name in it
    (scipy.integrate.solve_ivp) wraps rather than push the table off the page */
 table.checks { table-layout: fixed; }
 table.checks th { font-size: 0.85em; }
-table.checks th:nth-child(1) { width: 16%; } table.checks th:nth-child(2) { width: 10%; }
-table.checks th:nth-child(3) { width: 11%; } table.checks th:nth-child(4) { width: 8%; }
+table.checks th:nth-child(1) { width: 15.5%; } table.checks th:nth-child(2) { width: 10%; }
+table.checks th:nth-child(3) { width: 12.5%; } table.checks th:nth-child(4) { width: 8%; }
 table.checks th:nth-child(5) { width: 10%; } table.checks th:nth-child(6) { width: 12%; }
-table.checks th:nth-child(7) { width: 8%; } table.checks th:nth-child(8) { width: 25%; }
+table.checks th:nth-child(7) { width: 8%; } table.checks th:nth-child(8) { width: 24%; }
 table.checks td { overflow-wrap: anywhere; }
+/* a value, limit, margin or utilisation wraps only between its number and its unit, never inside a number */
+table.checks td:nth-child(n+3):nth-child(-n+6) { overflow-wrap: normal; }
 thead { display: table-header-group; }
 /* a batch summary: the cases a few a table, long labels and messages wrapped to the page */
 table.summary-cases, table.summary-wide { table-layout: fixed; }
