@@ -94,3 +94,23 @@ def test_closed_form_roots_stay_exact_and_mixed_factors_are_marked_one_by_one():
 def test_a_numeric_quadratic_keeps_its_closed_form():
     text = derivation_text(ck.Oscillator(250, 400, 180000).particular(sp.cos(20 * t), t=t), sig=4)
     assert "numerical" not in text.split("Characteristic polynomial", 1)[1].split("\n4. ", 1)[0]
+
+
+def test_multi_mass_roots_shown_numerically_against_numpy():
+    """A two-mass model whose det Z(lambda) (a quartic) has no readable closed form: the characteristic
+    step carries its roots as numbers, which agree with numpy.roots of the same polynomial."""
+    import numpy as np
+    import sympy as sp
+
+    import calckit as ck
+
+    t = sp.Symbol("t", real=True)
+    model = ck.MultiMass([[2400, 0], [0, 120]], [[12210, -4748], [-4748, 4748]], [[60630000, -2630000], [-2630000, 2630000]])
+    der = model.particular([1200 * sp.cos(155 * t), 0], t=t)
+    (step,) = [s for s in der.steps if type(s).__name__ == "CharacteristicStep"]
+    ours = sorted((complex(root) for root, _ in step.roots), key=lambda z: (z.real, z.imag))
+    lam = sp.Symbol("lambda")
+    M, C, K = (sp.Matrix(a) for a in ([[2400, 0], [0, 120]], [[12210, -4748], [-4748, 4748]], [[60630000, -2630000], [-2630000, 2630000]]))
+    det = (lam**2 * M + lam * C + K).det()
+    theirs = sorted((complex(r) for r in np.roots([float(c) for c in sp.Poly(det, lam).all_coeffs()])), key=lambda z: (z.real, z.imag))
+    assert np.allclose(ours, theirs, rtol=1e-10)

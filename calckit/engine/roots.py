@@ -24,6 +24,7 @@ import sympy as sp
 from calckit.engine.algebra import LAMBDA
 
 __all__ = [
+    "numeric_roots",
     "NROOTS_DIGITS",
     "ROOT_DIGITS",
     "distinct_roots_condition",
@@ -50,7 +51,13 @@ def roots_for_response(ode) -> tuple[tuple[tuple[sp.Expr, int], ...] | None, boo
         return roots, False
     if ode.parameters:
         return None, False
-    poly = sp.Poly(ode.characteristic_polynomial(), LAMBDA)
+    return numeric_roots(ode.characteristic_polynomial()), True
+
+
+def numeric_roots(polynomial) -> tuple[tuple[sp.Expr, int], ...]:
+    """Roots of a polynomial in ``lambda`` with numeric coefficients, with multiplicities: each exact
+    irreducible factor's roots in closed form up to degree 2, numerically (``Poly.nroots``) above."""
+    poly = sp.Poly(polynomial, LAMBDA)
     found: list[tuple[sp.Expr, int]] = []
     _, factors = sp.factor_list(poly)
     for factor, mult in factors:
@@ -60,7 +67,7 @@ def roots_for_response(ode) -> tuple[tuple[tuple[sp.Expr, int], ...] | None, boo
             continue
         for root in factor.nroots(n=NROOTS_DIGITS, maxsteps=200):
             found.append((_rounded(root), mult))
-    return tuple(found), True
+    return tuple(found)
 
 
 def _rounded(root: sp.Expr) -> sp.Expr:

@@ -39,8 +39,10 @@ from calckit.engine.algebra import LAMBDA, is_zero, real_imag, tidy
 from calckit.engine.forcing import COS, SIN
 from calckit.engine.method import GroupSolution, Strategy
 from calckit.engine.operator import LinearODE
+from calckit.engine.roots import numeric_roots
 from calckit.engine.steps import (
     CharacteristicStep,
+    Deferred,
     DerivativesStep,
     MatrixEquationStep,
     ModeExcitationStep,
@@ -126,6 +128,8 @@ class VectorStrategy(Strategy):
             found = sp.roots(sp.Poly(det, LAMBDA), cubics=False, quartics=False)
             if sum(found.values()) == 2 * model.size:
                 roots = tuple(sorted(found.items(), key=lambda item: sp.default_sort_key(item[0])))
+            else:  # numeric model: the roots of det Z numerically, as the scalar step shows them
+                roots = Deferred(lambda: numeric_roots(det))
         return CharacteristicStep(
             "Characteristic polynomial",
             "Substituting $x = \\phi e^{\\lambda t}$ into the free equations gives $Z(\\lambda) \\phi = 0$ with "

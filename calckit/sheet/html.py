@@ -134,7 +134,7 @@ def block_html(block: Any, number: str = "") -> Html:
         )
         verdict = "agree" if c.agrees else "DISAGREE"
         text = (
-            f'<p class="step-working"><em>Procedure:</em> {escape(c.procedure)}. Relative difference '
+            f'<p class="step-working"><em>Procedure:</em> {prose(c.procedure)}. Relative difference '
             f"{c.agreement:.2g}, tolerance {c.tolerance:g}: the two routes "
             f'<span class="verdict {"verdict-met" if c.agrees else "verdict-not-met"}">{verdict}</span>.</p>'
         )
