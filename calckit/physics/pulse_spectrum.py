@@ -39,7 +39,7 @@ import sympy as sp
 
 from calckit.engine import is_switching, split_switching
 from calckit.errors import CalcError, ModelError
-from calckit.physics.records import check_damping
+from calckit.physics.record_inputs import check_damping, mass_in_kg
 from calckit.physics.shock import residual_peak
 from calckit.physics.spectrum import RESPONSES, SPECTRUM_KINDS, ShockSpectrum, log_frequencies
 
@@ -221,22 +221,7 @@ def _scale(excitation: str, mass):
     """The factor that makes the pulse the load per unit mass ``p``."""
     if excitation == "base acceleration":
         return sp.S.NegativeOne
-    if mass is None:
-        raise ModelError(
-            "a force pulse needs the mass it acts on",
-            where="pulse_spectrum(mass)",
-            do="Give mass= in kg (the spectrum of a force is taken per unit mass, p = f/m)",
-        )
-    if isinstance(mass, int | float) and not isinstance(mass, bool):
-        m = float(mass)
-    else:
-        from calckit.core.units import quantity
-
-        m = float(quantity(mass, "mass", expect="mass").to("kg").magnitude)
-    if not math.isfinite(m) or m <= 0:
-        raise ModelError(
-            f"the mass {mass!r} is not positive", where="pulse_spectrum(mass)", do="Give the mass in kg"
-        )
+    m = mass_in_kg(mass, "a force pulse", "pulse_spectrum(mass)")
     return 1 / sp.nsimplify(m, rational=True)
 
 

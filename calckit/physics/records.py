@@ -53,6 +53,13 @@ import numpy as np
 
 from calckit.core.units import fmt_number, kind_of, quantity
 from calckit.errors import InputsError, ModelError, UnitsError
+from calckit.physics.record_inputs import (  # noqa: F401 - names of this module's contract
+    STEPS_PER_PERIOD,
+    check_damping,
+    check_frequencies,
+    load_per_mass,
+    mass_in_kg,
+)
 
 __all__ = [
     "FEWEST_SAMPLES",
@@ -64,6 +71,7 @@ __all__ = [
     "load_time_history",
 ]
 
+
 #: Fewest samples a record may have (two intervals).
 FEWEST_SAMPLES = 3
 #: Most samples read from one record (about 32 MB a natural frequency while it is solved).
@@ -74,9 +82,6 @@ LARGEST_FILE = 200_000_000
 STEP_TOLERANCE = 1e-4
 #: A step longer than this many times the record's step is called a gap.
 GAP_FACTOR = 1.5
-#: Shortest natural period asked for, in time steps (common practice, no source: ten
-#: samples a period keep the peak read from the samples within about 5 % before refining).
-STEPS_PER_PERIOD = 10
 
 # what each kind of record drives, and its SI unit
 _EXCITATION = {"force": "force", "acceleration": "base acceleration"}
@@ -460,64 +465,6 @@ class Interval:
         g1 = tau * frac * phi2
         g0 = tau * phi1 - g1
         return np.exp(x), g0, g1
-
-
-def check_damping(zeta, where: str) -> float:
-    """The damping ratio as a float in ``[0, 1)``, or a ModelError."""
-    try:
-        z = float(zeta)
-    except (TypeError, ValueError):
-        raise ModelError(
-            f"cannot read the damping ratio {zeta!r}", where=where, do="Give a number, e.g. 0.05"
-        ) from None
-    if not math.isfinite(z) or not 0 <= z < 1:
-        raise ModelError(
-            f"a damping ratio of {zeta!r} is outside 0 <= zeta < 1",
-            where=where,
-            do="Give the damping ratio of an underdamped oscillator (spectra are usually for 0.05, that is Q = 10)",
-        )
-    return z
-
-
-def check_frequencies(omega, history: TimeHistory, where: str) -> np.ndarray:
-    """Natural frequencies as a positive increasing array, the record's step short enough for the highest."""
-    w = np.atleast_1d(np.asarray(omega, dtype=float))
-    if w.ndim != 1 or w.size == 0 or not np.all(np.isfinite(w)) or np.any(w <= 0):
-        raise ModelError(
-            "natural frequencies must be positive finite numbers (rad/s)",
-            where=where,
-            do="Give omega_n > 0 in rad/s (calckit.physics.spectrum.log_frequencies makes a range)",
-        )
-    shortest = 2 * math.pi / float(w.max())
-    if history.step > shortest / STEPS_PER_PERIOD * (1 + 1e-9):
-        fastest = 2 * math.pi / (STEPS_PER_PERIOD * history.step)
-        raise InputsError(
-            f"the record's time step {fmt_number(history.step * 1000)} ms is longer than a tenth of the shortest "
-            f"natural period asked for ({fmt_number(shortest * 1000)} ms, at {fmt_number(w.max() / (2 * math.pi))} Hz)",
-            where=f"{history.source}: {where}",
-            do=f"Give a record sampled at {fmt_number(shortest / STEPS_PER_PERIOD * 1000)} ms or finer, or ask for "
-            f"natural frequencies up to {fmt_number(fastest / (2 * math.pi))} Hz",
-        )
-    return w
-
-
-def load_per_mass(history: TimeHistory, mass, where: str) -> np.ndarray:
-    """``p`` of the interval rule: ``f/m`` for a force, ``-a_g`` for a base acceleration (SI)."""
-    if history.kind == "force":
-        if mass is None:
-            raise ModelError(
-                "a force record needs the mass it acts on",
-                where=where,
-                do="Give mass= in kg (the spectrum of a force is taken per unit mass, p = f/m)",
-            )
-        if isinstance(mass, int | float) and not isinstance(mass, bool):
-            m = float(mass)
-        else:
-            m = float(quantity(mass, "mass", expect="mass").to("kg").magnitude)
-        if not math.isfinite(m) or m <= 0:
-            raise ModelError(f"the mass {mass!r} is not positive", where=where, do="Give the mass in kg")
-        return np.asarray(history.values, dtype=float) / m
-    return -np.asarray(history.values, dtype=float)
 
 
 def modal_states(p: np.ndarray, interval: Interval, *, chunk_elements: int = 1_000_000) -> np.ndarray:

@@ -30,15 +30,8 @@ import math
 import numpy as np
 
 from calckit.errors import ModelError
-from calckit.physics.records import (
-    STEPS_PER_PERIOD,
-    Interval,
-    TimeHistory,
-    check_damping,
-    check_frequencies,
-    load_per_mass,
-    modal_states,
-)
+from calckit.physics.record_inputs import STEPS_PER_PERIOD, check_damping, check_frequencies, load_per_mass
+from calckit.physics.records import Interval, TimeHistory, modal_states
 from calckit.physics.spectrum import RESPONSES, SPECTRUM_KINDS, ShockSpectrum, log_frequencies
 
 __all__ = [

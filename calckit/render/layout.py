@@ -24,7 +24,7 @@ from collections.abc import Sequence
 
 import sympy as sp
 
-from calckit.render.tex import EQ, Notation, Row, Tex, _e, _width, shown_decimals
+from calckit.render.tex import EQ, Notation, Row, Tex, _e, _width, negative_sum, shown_decimals
 
 __all__ = ["LINE_TEXT", "chunk_signed", "equation_rows", "long_rows", "tex_width"]
 
@@ -107,17 +107,9 @@ def chunk_signed(parts: Sequence[tuple[bool, Tex]], room: int, first: bool = Tru
 
 
 def _negative(term: sp.Expr) -> bool:
-    """Whether *term* is shown with a minus: its sign, or that of its numeric factor when that is a
-    sum such as ``4000000 - 12800000 pi^2/9`` (negative, though written with a plus first)."""
-    if term.could_extract_minus_sign():
-        return True
+    """Whether *term* is shown with a minus: its sign, or that of its numeric factor when that is a sum."""
     number = term.as_independent(*term.free_symbols, as_Add=False)[0] if term.free_symbols else term
-    if number.is_number and number.is_Add:
-        try:
-            return bool(number.evalf(30) < 0)
-        except TypeError:  # complex
-            return False
-    return False
+    return term.could_extract_minus_sign() or negative_sum(number)
 
 
 def _signed_terms(terms: Sequence[sp.Expr], nt: Notation) -> list[tuple[bool, Tex]]:

@@ -429,17 +429,23 @@ def _signed(parts: Sequence[tuple[bool, Tex]]) -> Tex:
     return Tex("".join(latex), "".join(text))
 
 
+def negative_sum(number) -> bool:
+    """Whether a numeric sum such as ``4000000 - 12800000 pi^2/9`` is negative, though written with
+    a plus first (so that it is shown with a minus, not as ``+ -2.525e5``)."""
+    if not (isinstance(number, sp.Expr) and number.is_number and number.is_Add):
+        return False
+    try:
+        return bool(number.evalf(30) < 0)
+    except TypeError:  # complex
+        return False
+
+
 def _term(coef, what: Tex | None, nt: Notation) -> tuple[bool, Tex] | None:
     """``coef * what`` as (negative, magnitude); None when coef is 0."""
     coef = sp.sympify(coef)
     if coef == 0:
         return None
-    negative = coef.could_extract_minus_sign() and not coef.is_Add
-    if coef.is_number and coef.is_Add and not negative:  # 2630000 - 120 (148 pi/3)^2 is negative: say so
-        try:
-            negative = bool(coef.evalf(30) < 0)
-        except TypeError:  # complex
-            negative = False
+    negative = (coef.could_extract_minus_sign() and not coef.is_Add) or negative_sum(coef)
     size = -coef if negative else coef
     if what is None:
         return negative, _e(size, nt)
