@@ -372,6 +372,22 @@ class Sheet(Steps):
         percent = float(value.to("percent").magnitude) if hasattr(value, "units") else float(value) * 100
         return self.check(name, percent, band * 100, relation=">=", basis=basis, unit="percent")
 
+    def speed_range_check(self, name: str, speeds: Any, natural_frequencies: Any, *, band: float = SEPARATION_BAND,
+                          relative_to: str = DEFAULT_SEPARATION_REFERENCE, basis: str | None = None,
+                          waived: Any = None, modes: Any = None):  # fmt: skip
+        """Check every mode against every excitation order over a speed range; judge the worst pair.
+
+        *speeds* is a :class:`calckit.SpeedRange` (a fixed speed or a range, with its orders);
+        *natural_frequencies* a model (``Oscillator``, ``MultiMass``) or the frequencies (rad/s
+        numbers, quantities). Adds a table of every mode x order, the worst pair's steps and one
+        check (``waived``: ``{(mode, order): reason}`` shown, not judged); returns the
+        :class:`~calckit.physics.interference.RangeSeparation`. See :mod:`calckit.sheet.speed_check`.
+        """
+        from calckit.sheet.speed_check import speed_range_check
+
+        return speed_range_check(self, name, speeds, natural_frequencies, band=band, relative_to=relative_to,
+                                 basis=basis, waived=waived, modes=modes)  # fmt: skip
+
     def figure(self, fig: Any, caption: str) -> Figure:
         """Add a matplotlib figure, embedded as inline SVG (text as paths, no date)."""
         return self._add(Figure(caption, figure_svg(fig, caption)))
