@@ -45,6 +45,8 @@ _PUBLIC = {
         "excitation", "fourier", "harmonic", "hysteretic", "pulses",  # modules exported by name (``ck.harmonic.magnification``)
     ),
     "calckit.physics.absorber": ("equal_peak_tuning",),
+    "calckit.physics.interference": ("PairSeparation", "RangeSeparation", "range_separation"),
+    "calckit.physics.speed_range": ("SpeedRange",),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
     "calckit.physics.pulse_spectrum": ("pulse_spectrum",),
@@ -55,6 +57,7 @@ _PUBLIC = {
     ),
     "calckit.render.display": ("show",),
     "calckit.render.spectrum_plot": ("spectrum_figure",),
+    "calckit.render.interference_plot": ("interference_figure",),
     "calckit.render.numbers": ("put_through", "Substitution"),
     "calckit.sheet.working": ("conversion_formula",),
     "calckit.sheet": (

@@ -250,7 +250,16 @@ PLANS: Mapping[str, Plan] = MappingProxyType(
                 curve="transmissibility",
                 history="run-up",
                 # the sliders move a viscous model with the grade at running speed
-                takes_only=MappingProxyType({"damping_model": "viscous", "maximum_service_speed": ""}),
+                # ... at one running speed, against its 1x order only (a speed range or more orders: build the sheet)
+                takes_only=MappingProxyType(
+                    {
+                        "damping_model": "viscous",
+                        "maximum_service_speed": "",
+                        "minimum_running_speed": "",
+                        "maximum_running_speed": "",
+                        "excitation_orders": "1",
+                    }
+                ),
             ),
         )
     }

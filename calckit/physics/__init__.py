@@ -126,3 +126,9 @@ __all__ += [
     "static_deflection",
     "unbalance_force",
 ]
+
+# Speed ranges and excitation orders: every mode against every order (the interference diagram's numbers).
+from calckit.physics.interference import PairSeparation, RangeSeparation, range_separation  # noqa: E402
+from calckit.physics.speed_range import SpeedRange  # noqa: E402
+
+__all__ += ["PairSeparation", "RangeSeparation", "SpeedRange", "range_separation"]

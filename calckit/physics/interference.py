@@ -191,7 +191,11 @@ def order_separation_formula(relative_to: str = DEFAULT_SEPARATION_REFERENCE, or
         speed_separation(1.0, 1.0, relative_to=relative_to)  # refuses with the criteria's message
     k, w, wn = sp.symbols("k Omega omega_n")
     excitation = w if order == 1 else k * w
-    return sp.Abs(excitation / wn - 1) if relative_to == SEPARATION_REFERENCES[0] else sp.Abs(wn / excitation - 1)
+    return (
+        sp.Abs(excitation / wn - 1)
+        if relative_to == SEPARATION_REFERENCES[0]
+        else sp.Abs(wn / excitation - 1)
+    )
 
 
 def separation_band_edges(natural: float, band: float, relative_to: str = DEFAULT_SEPARATION_REFERENCE):
@@ -234,7 +238,9 @@ def natural_frequencies_of(model: Any, where: str = "natural frequencies") -> tu
     else:
         given = list(model.values() if isinstance(model, Mapping) else model)
     if not given:
-        raise InputsError("no natural frequency is given", where=where, do="Give at least one natural frequency")
+        raise InputsError(
+            "no natural frequency is given", where=where, do="Give at least one natural frequency"
+        )
     found = []
     for i, w in enumerate(given, start=1):
         if isinstance(w, bool):

@@ -94,7 +94,9 @@ def read_orders(orders: Any, where: str = "orders") -> tuple[tuple[int | float, 
             except InvalidOperation:  # pragma: no cover - the pattern admits only decimals
                 number = None
             if number is None:
-                raise InputsError(f"the order {part!r} does not start with a number", where=where, do=_ORDERS_DO)
+                raise InputsError(
+                    f"the order {part!r} does not start with a number", where=where, do=_ORDERS_DO
+                )
             numbers.append(_order_number(number, where, found.group(1)))
             labels.append(_label(numbers[-1], found.group(2).strip()))
     elif isinstance(orders, Mapping):
@@ -180,8 +182,12 @@ class SpeedRange:
     orders: tuple
     labels: tuple
 
-    def __init__(self, minimum: Any, maximum: Any = None, orders: Any = (1,), *, names: Sequence[str] | None = None):
-        low_name, high_name, orders_name = tuple(names) if names else ("minimum speed", "maximum speed", "orders")
+    def __init__(
+        self, minimum: Any, maximum: Any = None, orders: Any = (1,), *, names: Sequence[str] | None = None
+    ):
+        low_name, high_name, orders_name = (
+            tuple(names) if names else ("minimum speed", "maximum speed", "orders")
+        )
         q_low, low = _speed(minimum, low_name)
         q_high, high = (q_low, low) if maximum is None else _speed(maximum, high_name)
         if low > high:

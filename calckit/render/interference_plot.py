@@ -37,6 +37,7 @@ def interference_figure(
     modes: tuple[str, ...] | None = None,
     speed_limit: float | None = None,
     speed_name: str = "running speed",
+    speed_unit: str | None = None,
     size: tuple[float, float] = (6.4, 4.2),
 ):
     """The interference diagram of *found*: orders, natural frequencies with their bands, the speed range.
@@ -51,6 +52,8 @@ def interference_figure(
         The right end of the speed axis, in rad/s; by default 1.25 times the greatest speed.
     speed_name : str
         What the horizontal axis is called (``"stroke rate"`` for a press).
+    speed_unit : str, optional
+        The unit of the speed axis (``"rpm"``, ``"Hz"``, ``"rad/s"``); by default the one the speeds were given in.
     size : (width, height) in inches
 
     Returns
@@ -73,51 +76,78 @@ def interference_figure(
         )
     top = speed_limit if speed_limit is not None else 1.25 * found.speeds.high
     if not (isinstance(top, int | float) and math.isfinite(top) and top > 0):
-        raise ModelError(f"speed_limit = {top!r}", where="interference_figure", do="Give a positive speed in rad/s")
+        raise ModelError(
+            f"speed_limit = {top!r}", where="interference_figure", do="Give a positive speed in rad/s"
+        )
     from matplotlib.figure import Figure
 
-    speeds, unit = found.speeds, found.speeds.unit
+    speeds, unit = found.speeds, speed_unit or found.speeds.unit
     per = _per_unit(unit)  # rad/s in one unit of the axis
     to_hz = 1 / (2 * math.pi)
     x_top = top / per
-    f_top = 1.15 * max(max(naturals) * to_hz, min(max(speeds.orders) * speeds.high * to_hz, 2.5 * max(naturals) * to_hz))
+    f_top = 1.15 * max(
+        max(naturals) * to_hz, min(max(speeds.orders) * speeds.high * to_hz, 2.5 * max(naturals) * to_hz)
+    )
     fig = Figure(figsize=size)
     ax = fig.add_subplot(1, 1, 1)
     # the speed range, behind everything
     if speeds.fixed:
-        ax.axvline(speeds.low / per, color="0.6", lw=2.5, alpha=0.6, zorder=0, label=f"running speed, {speeds.text()}")
+        ax.axvline(
+            speeds.low / per, color="0.6", lw=2.5, alpha=0.6, zorder=0, label=f"{speed_name}, {speeds.text()}"
+        )
     else:
-        ax.axvspan(speeds.low / per, speeds.high / per, color="0.88", zorder=0, label=f"speed range, {speeds.text()}")
+        ax.axvspan(
+            speeds.low / per, speeds.high / per, color="0.88", zorder=0, label=f"speed range, {speeds.text()}"
+        )
     # natural frequencies and their bands
     for name, wn in zip(names, naturals, strict=True):
         lo, hi = separation_band_edges(wn, found.band, found.relative_to)
         ax.axhspan(lo * to_hz, min(hi, 10 * wn) * to_hz, facecolor="none", edgecolor="0.55", hatch="////",
                    lw=0.0, zorder=1)  # fmt: skip
         ax.axhline(wn * to_hz, color="black", lw=1.0, zorder=2)
-        ax.text(x_top * 0.01, wn * to_hz, f"{name}: {wn * to_hz:.4g} Hz", va="bottom", ha="left", fontsize=7)
+        ax.text(x_top * 0.99, wn * to_hz, f"{name}: {wn * to_hz:.4g} Hz", va="bottom", ha="right", fontsize=7,
+                bbox={"facecolor": "white", "edgecolor": "none", "pad": 0.5, "alpha": 0.8}, zorder=6)  # fmt: skip
     # the orders: lines through the origin
     step = max(1, math.ceil(len(speeds.orders) / LABELLED_ORDERS))
     for i, (k, label) in enumerate(zip(speeds.orders, speeds.labels, strict=True)):
         x_end = min(x_top, f_top / (k * per * to_hz))
         ax.plot([0, x_end], [0, k * x_end * per * to_hz], color="0.15", lw=0.9, ls="--", zorder=3)
         if i % step == 0:
-            x_label = x_end if x_end >= x_top else 0.9 * x_end  # a line that leaves by the top: labelled below it
-            ax.annotate(label, xy=(x_label, k * x_label * per * to_hz), xytext=(3, -1), textcoords="offset points",
-                        fontsize=7, ha="left" if x_end < 0.9 * x_top else "right", va="top")  # fmt: skip
+            # a line that leaves by the top is labelled below it, each a little lower than the one before
+            shown = i // step
+            y_label = k * x_end * per * to_hz * (1 if x_end >= x_top else 0.93 - 0.09 * (shown % 6))
+            x_label = y_label / (k * per * to_hz)
+            ax.annotate(label, xy=(x_label, y_label), xytext=(3, 0), textcoords="offset points", fontsize=7,
+                        ha="left" if x_end < 0.9 * x_top else "right", va="top",
+                        bbox={"facecolor": "white", "edgecolor": "none", "pad": 0.3, "alpha": 0.8}, zorder=6)  # fmt: skip
     # the crossings: filled inside the speed range, open outside
     inside = [(p.crossing_speed / per, p.natural_frequency * to_hz) for _, p in found.crossings if p.crossed]
     outside = [(p.crossing_speed / per, p.natural_frequency * to_hz) for s, p in found.crossings
                if not p.crossed and s <= top]  # fmt: skip
     if outside:
-        ax.plot(*zip(*outside, strict=True), ls="none", marker="o", mfc="white", mec="black", ms=5, zorder=4,
-                label="crossing outside the speed range")  # fmt: skip
+        ax.plot(
+            *zip(*outside, strict=True),
+            ls="none",
+            marker="o",
+            mfc="white",
+            mec="black",
+            ms=5,
+            zorder=4,
+            label="crossing away from the " + speed_name
+            if speeds.fixed
+            else "crossing outside the speed range",
+        )
     if inside:
         ax.plot(*zip(*inside, strict=True), ls="none", marker="o", color="black", ms=6, zorder=5,
                 label="crossing inside the speed range")  # fmt: skip
     if speeds.fixed:  # where each order excites at the one speed
-        at = [(speeds.low / per, k * speeds.low * to_hz) for k in speeds.orders if k * speeds.low * to_hz <= f_top]
+        at = [
+            (speeds.low / per, k * speeds.low * to_hz)
+            for k in speeds.orders
+            if k * speeds.low * to_hz <= f_top
+        ]
         ax.plot(*zip(*at, strict=True), ls="none", marker="x", color="black", ms=4, zorder=5,
-                label="excitation at the running speed")  # fmt: skip
+                label=f"excitation at the {speed_name}")  # fmt: skip
     ax.fill_between([], [], facecolor="none", edgecolor="0.55", hatch="////", lw=0.0,
                     label=f"separation band, $\\pm {100 * found.band:g}$ % (relative to the {found.relative_to})")  # fmt: skip
     ax.set_xlim(0, x_top)
@@ -125,7 +155,9 @@ def interference_figure(
     ax.set_xlabel(f"{speed_name} ({unit})")
     ax.set_ylabel("frequency (Hz)")
     ax.grid(True, linewidth=0.3, alpha=0.6)
-    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2, fontsize=7, frameon=False)  # orders: labelled on their lines
+    ax.legend(
+        loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=2, fontsize=7, frameon=False
+    )  # orders: labelled on their lines
     ax.set_title("Interference diagram: excitation orders against natural frequencies", fontsize=10)
     fig.tight_layout()
     return fig

@@ -19,12 +19,13 @@ from __future__ import annotations
 
 import math
 import re
+from dataclasses import replace
 from typing import Any
 
 import sympy as sp
 
 from calckit.core.rounding import as_shown
-from calckit.core.units import Q_, angular_frequency, fmt_number
+from calckit.core.units import Q_, angular_frequency, fmt, fmt_number
 from calckit.errors import SheetError
 from calckit.physics.interference import (
     RangeSeparation,
@@ -33,6 +34,7 @@ from calckit.physics.interference import (
     range_separation,
 )
 from calckit.physics.speed_range import SpeedRange
+from calckit.sheet.working import conversion_formula
 
 __all__ = ["speed_range_check", "speed_in"]
 
@@ -65,10 +67,10 @@ def _natural_quantity(value: Any, sig: int):
 
 
 def _where(pair, speeds: SpeedRange) -> str:
-    unit = speeds.unit
     if pair.crossed:
-        return f"crossed at {fmt_number(speed_in(pair.crossing_speed, unit))} {unit}"
-    return f"at {fmt_number(speed_in(pair.speed, unit))} {unit} ({pair.at})"
+        return f"crossed at {fmt_number(speed_in(pair.crossing_speed, speeds.unit))} {speeds.unit}"
+    given = fmt(speeds.maximum if pair.at == "maximum" else speeds.minimum)
+    return f"at {given}" if speeds.fixed else f"at {given} ({pair.at})"
 
 
 def _table(sheet, found: RangeSeparation, modes) -> None:
@@ -111,9 +113,15 @@ def speed_range_check(
         given = [given]
     natural_frequencies_of(given)  # refuses what is not a positive frequency, before rounding
     shown = [_natural_quantity(w, sheet.sig) for w in given]
+    if not isinstance(speeds, SpeedRange):
+        range_separation(speeds, 1.0)  # refuses with the physics' message
+    # the numbers from the speeds as the steps carry them, in rad/s to the sheet's figures
+    as_carried = SpeedRange(Q_(as_shown(speeds.low, sheet.sig), "rad/s"), Q_(as_shown(speeds.high, sheet.sig), "rad/s"),
+                            orders=dict(zip(speeds.labels, speeds.orders, strict=True)))  # fmt: skip
     found = range_separation(
-        speeds, [float(q.magnitude) for q in shown], band=band, relative_to=relative_to, waived=waived
+        as_carried, [float(q.magnitude) for q in shown], band=band, relative_to=relative_to, waived=waived
     )
+    found = replace(found, speeds=speeds)  # shown in the unit they were given in
     names = tuple(modes) if modes is not None else tuple(
         f"mode {i}" if len(shown) > 1 else "the natural frequency" for i in range(1, len(shown) + 1)
     )  # fmt: skip
@@ -152,8 +160,16 @@ def speed_range_check(
         )  # fmt: skip
         percent = 0.0
     else:
-        endpoint = speeds.minimum if worst.speed == speeds.low else speeds.maximum
-        where_least = "at the running speed" if speeds.fixed else f"at the {worst.at} speed, the end nearer the crossing"
+        endpoint = speeds.maximum if worst.at == "maximum" else speeds.minimum
+        if (
+            conversion_formula(endpoint) is None
+        ):  # in rad/s already: to the sheet's figures, as the table has it
+            endpoint = Q_(as_shown(angular_frequency(endpoint, f"check {name}"), sheet.sig), "rad/s")
+        where_least = (
+            "at the running speed"
+            if speeds.fixed
+            else f"at the {worst.at} speed, the end nearer the crossing"
+        )
         values = {"Omega": endpoint, "omega_n": omega_n}
         if k != 1:
             values["k"] = Q_(k, "")
