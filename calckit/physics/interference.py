@@ -245,14 +245,17 @@ def natural_frequencies_of(model: Any, where: str = "natural frequencies") -> tu
     for i, w in enumerate(given, start=1):
         if isinstance(w, bool):
             raise InputsError(f"mode {i} is a truth value", where=where, do="Give a frequency")
-        try:
-            value = angular_frequency(w, where) if isinstance(w, str) or hasattr(w, "units") else float(w)
-        except TypeError:
-            raise InputsError(
-                f"the natural frequency of mode {i}, {w!r}, is not a number",
-                where=where,
-                do="Give numbers in rad/s or frequencies with a unit",
-            ) from None
+        if isinstance(w, str) or hasattr(w, "units"):
+            value = angular_frequency(w, where)  # refuses a unit that is not a frequency, in its own words
+        else:
+            try:
+                value = float(w)
+            except (TypeError, ValueError):
+                raise InputsError(
+                    f"the natural frequency of mode {i}, {w!r}, is not a number",
+                    where=where,
+                    do="Give numbers in rad/s or frequencies with a unit",
+                ) from None
         if not math.isfinite(value) or value <= 0:
             shown = fmt(w) if hasattr(w, "units") else repr(w)
             raise InputsError(
