@@ -198,3 +198,12 @@ def test_template_against_the_numerical_optimum_and_a_linear_solve(tmp_path):
     verdicts = {check["name"]: check["verdict"] for check in record["checks"]}
     assert verdicts["absorber stroke"] == verdicts["absorber spring force"] == "met"
     assert any("separation rule is waived" in note for note in record["notes"])
+    # both modes against 2x (the template's default orders "1, 2"; 1x waived by design): the undamped modes of
+    # the design values from scipy.linalg.eigh of (K, M), the least separation |2 w / w_i - 1| (common practice)
+    modes = np.sqrt(linalg.eigh(np.array([[k1 + k2, -k2], [-k2, k2]]), np.diag([m1, m2]), eigvals_only=True))
+    least = min(abs(2 * w / wn_i - 1) for wn_i in modes)
+    check = next(c for c in record["checks"] if c["name"] == "separation of the modes from the other orders")
+    assert check["value"] == pytest.approx(100 * least, rel=2e-3)
+    assert check["verdict"] == ("met" if least >= 0.2 else "not met")
+    (table,) = [t for t in record["tables"] if t["caption"].startswith("Separation of every mode")]
+    assert [row[7] for row in table["rows"]] == ["waived: the absorber's own mode, by design", "met"] * 2

@@ -77,6 +77,18 @@ class TestSpeedRange:
             '"1480 rpm"; the run-up from rest is a check of its own.'
         )
 
+    def test_the_running_speed_lies_in_the_range(self):
+        """The rated speed is one the machine runs at: 1200 rpm lies in 900 to 1480 rpm (40 pi rad/s), 1500 does not."""
+        speeds = SpeedRange("900 rpm", "1480 rpm")
+        assert speeds.require("1200 rpm", "running_speed") == pytest.approx(40 * math.pi, rel=1e-15)
+        assert speeds.require("1480 rpm", "running_speed") == speeds.high  # the ends belong to the range
+        with pytest.raises(InputsError) as info:
+            speeds.require("1500 rpm", "running_speed", names=NAMES[:2])
+        assert str(info.value) == (
+            "running_speed: the running speed 1500 rpm lies outside the speed range 900 rpm to 1480 rpm. Give a "
+            "running speed between minimum_running_speed and maximum_running_speed, or widen the range."
+        )
+
 
 class TestOrders:
     def test_text_numbers_and_mapping(self):

@@ -303,6 +303,49 @@ class TestMachineOnIsolators:
         peak = np.max(np.abs(sol.y[0]))
         assert res["peak_run_up"] == pytest.approx(peak, rel=0.02)
 
+    def test_fixed_speed_separation_as_before(self, built):
+        """The example gives one running speed and no orders: 1x at 1480 rpm against omega_n = sqrt(k/m), one
+        row, the plain basis (common practice, no source), and the interference diagram on the sheet."""
+        v, record = _inputs(self.example), built["machine_on_isolators"][0]
+        check = _check(record, "speed separation")
+        wn = math.sqrt(_si(v, "isolator_stiffness") / _si(v, "machine_mass"))
+        w = angular_frequency(quantity(v["running_speed"], "speed"), "speed")
+        assert check["value"] == pytest.approx((w / wn - 1) * 100, rel=2e-3) and check["verdict"] == "met"
+        (table,) = [t for t in record["tables"] if t["caption"].startswith("Separation of every mode")]
+        assert [row[2] for row in table["rows"]] == ["1x"]
+
+    def test_verdict_flips_when_the_speed_range_is_widened(self, built, tmp_path):
+        """The same pump given a drive from 150 rpm (one build): 1x crosses the isolators' natural frequency at
+        60 omega_n / (2 pi) rpm, omega_n = sqrt(k/m) (Rao 5th ed., sec. 2.2, from memory), which now lies in the
+        range; the least separation is 0 and the check turns from met to not met. 2x and 6x cross below it."""
+        base = built["machine_on_isolators"][0]
+        text = (EXAMPLES / self.example).read_text(encoding="utf-8") + (
+            'minimum_running_speed = "150 rpm"\nmaximum_running_speed = "1480 rpm"\n'
+            'excitation_orders = "1, 2, 6 vane passing"\n'
+        )
+        inputs = tmp_path / "p101_widened.toml"
+        inputs.write_text(text, encoding="utf-8")
+        record = build_sheet("machine_on_isolators", inputs, tmp_path / "built").record
+        before, after = _check(base, "speed separation"), _check(record, "speed separation")
+        assert (before["verdict"], after["verdict"]) == ("met", "not met")
+        assert after["value"] == 0 and "over the whole speed range" in after["basis"]
+        v, res = _inputs(self.example), _results(record)
+        wn = math.sqrt(_si(v, "isolator_stiffness") / _si(v, "machine_mass"))
+        assert res["speed_separation_crossing"] == pytest.approx(wn, rel=1e-3)  # omega_n / 1, as shown
+        (table,) = [t for t in record["tables"] if t["caption"].startswith("Separation of every mode")]
+        crossing_rpm = [float(row[4]) for row in table["rows"]]
+        assert crossing_rpm == pytest.approx([60 * wn / (2 * math.pi) / k for k in (1, 2, 6)], rel=1e-3)
+        assert [row[7] for row in table["rows"]] == ["not met", "met", "met"]
+        assert any(
+            note.startswith("Crossings inside the speed range 150 rpm to 1480 rpm")
+            for note in record["notes"]
+        )
+        # the other checks stay as they were: isolation is judged at the running speed
+        others = [(c["name"], c["verdict"]) for c in record["checks"] if c["name"] != "speed separation"]
+        assert others == [
+            (c["name"], c["verdict"]) for c in base["checks"] if c["name"] != "speed separation"
+        ]
+
 
 class TestEquipmentOnVibratingFloor:
     example = "harrow_creek_ic301_floor.toml"
@@ -499,6 +542,10 @@ class TestPeriodicLoad:
         ratio = closest * w / wn
         assert abs(check["value"] - abs(ratio - 1) * 100) <= 100 * ratio * 2 * 5e-4 * 1.0001
         assert check["verdict"] == ("met" if abs(closest * w / wn - 1) >= 0.2 else "not met")
+        # every harmonic kept is in the separation table; the significant ones are judged, the rest shown waived
+        (table,) = [t for t in record["tables"] if t["caption"].startswith("Separation of every mode")]
+        assert [row[2] for row in table["rows"]] == [f"{n}x" for n in range(1, v["harmonics"] + 1)]
+        assert [int(row[2][:-1]) for row in table["rows"] if not row[7].startswith("waived")] == sorted(significant)
         reach = _check(record, "highest harmonic kept")
         assert reach["value"] == pytest.approx(v["harmonics"] * w / wn, rel=1e-9)
 

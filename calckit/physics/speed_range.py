@@ -211,6 +211,26 @@ class SpeedRange:
         """The unit the speeds were given in (``"rpm"``, ``"Hz"``, ``"rad/s"``), for tables and plots."""
         return f"{self.minimum.units:~P}" or "rad/s"
 
+    def require(self, speed: Any, where: str, *, names: Sequence[str] = ("minimum", "maximum")) -> float:
+        """*speed* in rad/s when it lies in the range; else an :class:`InputsError` at *where*.
+
+        A machine's rated running speed, at which its unbalance and isolation are worked, is
+        one of the speeds it runs at.
+
+        Examples
+        --------
+        >>> round(SpeedRange("900 rpm", "1480 rpm").require("1200 rpm", "running_speed"), 3)
+        125.664
+        """
+        q, omega = _speed(speed, where)
+        if not self.low <= omega <= self.high:
+            raise InputsError(
+                f"the running speed {fmt(q)} lies outside the speed range {self.text()}",
+                where=where,
+                do=f"Give a running speed between {names[0]} and {names[1]}, or widen the range",
+            )
+        return omega
+
     def text(self) -> str:
         """The range as a reader sees it: ``"900 rpm to 1480 rpm"``, or ``"1480 rpm"`` when fixed."""
         return fmt(self.minimum) if self.fixed else f"{fmt(self.minimum)} to {fmt(self.maximum)}"
