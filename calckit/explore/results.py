@@ -21,11 +21,13 @@ from calckit.core.units import Q_, fmt, fmt_number
 from calckit.errors import InputsError
 from calckit.explore.model import _Derived
 from calckit.explore.values import _Input, _unit_text, _written
-from calckit.physics.criteria import ISOLATION_RATIO_BASIS, LEAST_ISOLATION_RATIO, speed_separation
+from calckit.physics.criteria import ISOLATION_RATIO_BASIS, LEAST_ISOLATION_RATIO
 from calckit.physics.excitation import eccentricity_from_grade, unbalance_force_amplitude
+from calckit.physics.interference import range_separation
 from calckit.physics.isolation import isolator_refusal, isolator_results, isolator_run_up
 from calckit.physics.runup import RunUp
 from calckit.physics.single_mass import single_mass_results
+from calckit.physics.speed_range import SpeedRange
 from calckit.sheet import Check, check_margin
 
 Row = tuple[str, str, str, str]  # (name, label, shown value, SI value as text)
@@ -153,7 +155,8 @@ def _separation_check(mv: _Move, results: Mapping[str, float]) -> Check:
     w, w_n = mv.base["forcing_frequency"], mv.base["natural_frequency"]
     if mv.plan.carry:  # the sheet's separation step takes both frequencies in rad/s as it prints them
         w, w_n = as_shown(w, mv.plan.carry), as_shown(w_n, mv.plan.carry)
-    separation = speed_separation(w, w_n) * 100
+    # the templates' one calculation: one speed, one mode, 1x (the least over a range of that one speed)
+    separation = range_separation(SpeedRange(w), w_n).worst.least * 100
     check = _judge("speed separation", separation, mv.band * 100, ">=", "percent", mv.plan.separation_basis)
     return replace(
         check, shown_value=f"{fmt_number(separation)} %", shown_limit=f"{fmt_number(mv.band * 100)} %"
