@@ -347,6 +347,22 @@ class TestMachineOnIsolators:
         ]
 
 
+    def test_variable_speed_example_reads(self):
+        """The P-105 example (a pump on a variable-speed drive, built by hand for its sheet, not here) gives
+        the template's parameters, its speed range and orders read as a SpeedRange (no kernel)."""
+        from calckit.physics.speed_range import SpeedRange
+        from calckit.workflow.inputs import check_keys
+        from calckit.workflow.templates import load_template
+
+        template = load_template("machine_on_isolators")
+        inputs = read_inputs(EXAMPLES / "harrow_creek_p105_vfd.toml")
+        check_keys(inputs, template.parameters, path="harrow_creek_p105_vfd.toml", optional=template.optional_inputs)
+        v = dict(inputs.values)
+        speeds = SpeedRange(v["minimum_running_speed"], v["maximum_running_speed"], orders=v["excitation_orders"])
+        assert speeds.labels == ("1x", "2x", "7x vane passing")
+        assert speeds.require(v["running_speed"], "running_speed") == speeds.high
+
+
 class TestEquipmentOnVibratingFloor:
     example = "harrow_creek_ic301_floor.toml"
 
