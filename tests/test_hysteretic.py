@@ -172,7 +172,15 @@ class TestExplorerTakesOnlyWhatItComputes:
     """The explorer's isolator plan moves a viscous model with the grade at running speed: another case is
     refused, not shown with numbers its sheet would compute otherwise."""
 
-    @pytest.mark.parametrize("line", ['damping_model = "hysteretic"', 'maximum_service_speed = "1600 rpm"'])
+    @pytest.mark.parametrize(
+        "line",
+        [
+            'damping_model = "hysteretic"',
+            'maximum_service_speed = "1600 rpm"',
+            'minimum_running_speed = "740 rpm"',  # a speed range: the sheet checks it, the sliders do not
+            'excitation_orders = "1, 2"',
+        ],
+    )
     def test_refused(self, tmp_path, line):
         from pathlib import Path
 
