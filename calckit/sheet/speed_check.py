@@ -161,23 +161,20 @@ def speed_range_check(
         percent = 0.0
     else:
         endpoint = speeds.maximum if worst.at == "maximum" else speeds.minimum
-        if (
-            conversion_formula(endpoint) is None
-        ):  # in rad/s already: to the sheet's figures, as the table has it
+        if conversion_formula(endpoint) is None:  # in rad/s already: to the sheet's figures, as in the table
             endpoint = Q_(as_shown(angular_frequency(endpoint, f"check {name}"), sheet.sig), "rad/s")
-        where_least = (
-            "at the running speed"
+        title = (
+            f"Least separation of every mode from every order: {who} ({name})"
             if speeds.fixed
-            else f"at the {worst.at} speed, the end nearer the crossing"
+            else f"Least separation over the speed range: {who}, at the {worst.at} speed, the end nearer the "
+            f"crossing ({name})"
         )
         values = {"Omega": endpoint, "omega_n": omega_n}
         if k != 1:
             values["k"] = Q_(k, "")
         value = sheet.calc(
             step, order_separation_formula(relative_to, k), values, symbol="Delta", unit="percent",
-            title=(f"Separation of the operating frequency from the natural frequency ({name})"
-                   if found.single
-                   else f"Least separation over the speed range: {who}, {where_least} ({name})"),
+            title=f"Separation of the operating frequency from the natural frequency ({name})" if found.single else title,
         )  # fmt: skip
         percent = float(value.to("percent").magnitude) if hasattr(value, "units") else float(value) * 100
     crossed = found.crossings_in_range
