@@ -261,7 +261,7 @@ class Sheet(Steps):
 
         >>> from calckit.core.units import Q_
         >>> sheet = Sheet("x", show=False)
-        >>> _ = sheet.result("x_max", Q_(0.5, "mm"))
+        >>> _ = sheet.result("x_max", Q_(0.5, "mm"), working=("input", "read off the drawing"))
         >>> _ = sheet.use_units("US")
         >>> sheet.record()["results"][0]["shown"], sheet.record()["output_units"]
         ('0.01969 in', {'system': 'US', 'results': {}})
