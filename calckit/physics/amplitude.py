@@ -180,7 +180,8 @@ def harmonic_sum_formula(count: int, *, symbol: str = "X"):
             do="Give at least one harmonic",
         )
     peaks = sp.symbols(f"{symbol}_1:{count + 1}")
-    return sp.sqrt(sum(p**2 / 2 for p in peaks))
+    terms = [p**2 / 2 for p in peaks]  # kept as written: sympy would pull sqrt(2) out of sqrt(X_1**2/2)
+    return sp.sqrt(sp.Add(*terms, evaluate=False) if count > 1 else terms[0], evaluate=False)
 
 
 def harmonic_sum_rms(amplitudes: Sequence[float], convention: str = "peak") -> float:

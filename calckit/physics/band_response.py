@@ -32,7 +32,7 @@ from calckit.errors import InputsError
 from calckit.physics.amplitude import in_convention
 from calckit.physics.criteria_tables import CriterionCurve, third_octave_band
 
-__all__ = ["BandRow", "band_response", "read_spectrum", "worst_band"]
+__all__ = ["BandRow", "Spectrum", "band_response", "read_spectrum", "worst_band"]
 
 #: Longest spectrum text read, and most entries in it (a survey has some tens of bands).
 _MAX_TEXT, _MAX_ENTRIES = 20_000, 200
@@ -65,8 +65,28 @@ class BandRow:
         return None if self.limit is None else self.equipment_rms / self.limit
 
 
-def read_spectrum(text: str, *, where: str, expect: str = "velocity") -> tuple[tuple[float, float], ...]:
+class Spectrum(tuple):
+    """Pairs (Hz, SI value) read from text, which it keeps: ``str()`` gives the text as written, for a sheet's inputs."""
+
+    text: str
+
+    def __new__(cls, pairs, text: str):
+        made = super().__new__(cls, pairs)
+        made.text = text
+        return made
+
+    def __str__(self) -> str:
+        return self.text
+
+    def __repr__(self) -> str:
+        return f"Spectrum({tuple(self)!r}, {self.text!r})"
+
+
+def read_spectrum(text: str, *, where: str, expect: str = "velocity") -> Spectrum:
     """``"8 Hz: 30 um/s; 10 Hz: 45 um/s"`` as ((Hz, SI value), ...), frequencies in Hz, rpm or rad/s.
+
+    The result is a tuple of pairs that keeps the text (a :class:`Spectrum`), so that a sheet
+    shows the input as written (``sheet.input(name, spectrum, ...)``).
 
     Raises
     ------
@@ -78,7 +98,7 @@ def read_spectrum(text: str, *, where: str, expect: str = "velocity") -> tuple[t
 
     Examples
     --------
-    >>> read_spectrum("740 rpm: 2.2 mm/s; 24.67 Hz: 0.6 mm/s", where="floor_harmonics")
+    >>> tuple(read_spectrum("740 rpm: 2.2 mm/s; 24.67 Hz: 0.6 mm/s", where="floor_harmonics"))
     ((12.333333333333334, 0.0022), (24.67, 0.0006))
     """
     from calckit.core.units import cyclic_frequency, quantity, to_si
@@ -113,7 +133,7 @@ def read_spectrum(text: str, *, where: str, expect: str = "velocity") -> tuple[t
         if any(math.isclose(f, g) for g, _ in out):
             raise InputsError(f"{f_text} is given twice", where=where, do="Give each frequency once")
         out.append((f, v))
-    return tuple(out)
+    return Spectrum(out, text.strip())
 
 
 def band_response(

@@ -22,9 +22,16 @@ from typing import Any
 
 import sympy as sp
 
+from calckit.core.rounding import as_shown
 from calckit.core.units import Q_
 from calckit.errors import SheetError
-from calckit.physics.amplitude import amplitude_convention, convention_formula, convention_text, in_convention
+from calckit.physics.amplitude import (
+    amplitude_convention,
+    convention_formula,
+    convention_text,
+    harmonic_sum_formula,
+    in_convention,
+)
 from calckit.sheet.blocks import Check
 
 __all__ = ["amplitude_check", "band_check", "convention_step", "severity_check"]
@@ -212,9 +219,9 @@ def band_check(
         for row in rows
     ]
     sheet.table(
-        ("band, Hz", "floor velocity, rms", "equipment / floor", "equipment velocity, rms", f"limit {curve.name}, rms", "margin"),
+        ("band, Hz", "floor, rms", "equipment / floor", "equipment, rms", f"limit {curve.name}, rms", "margin"),
         table_rows,
-        caption=f"One-third-octave bands: the floor's and the equipment's rms velocity against {curve.name} "
+        caption=f"One-third-octave bands: the floor's and the equipment's velocity, rms, against {curve.name} "
         f"({curve.title}); {curve.source}. Numbers unrounded; the worst band is worked out below from the values as printed.",
     )  # fmt: skip
     wn = sheet.carried(natural)
@@ -228,16 +235,15 @@ def band_check(
             sheet.result(f"V_f{i}", given, title=f"Floor velocity of harmonic {i} in the {band}, {convention_text(convention)}",
                          symbol=f"V_{{f,{i}}}", working=("input", f"the floor's harmonic at {f:.4g} Hz"))  # fmt: skip
             floor, _ = convention_step(sheet, f"V_f{i}", convention, "peak", unit="mm/s")
-            sheet.calc(f"r_{i}", sp.Symbol(f"f_{i}") / sp.Symbol("omega_n"), {f"f_{i}": Q_(f, "Hz"), "omega_n": wn},
+            sheet.calc(f"r_{i}", sp.Symbol(f"f_{i}") / sp.Symbol("omega_n"), {f"f_{i}": as_shown(Q_(f, "Hz"), sheet.sig), "omega_n": wn},
                        unit="", symbol=f"r_{i}", title=f"Frequency ratio of harmonic {i}")  # fmt: skip
             sheet.calc(f"T_{i}", transmissibility, {"zeta": zeta_q, "r": sheet.carried(f"r_{i}")}, unit="", symbol=f"T_{i}",
                        title=f"Transmissibility at harmonic {i}")  # fmt: skip
             sheet.calc(f"V_{i}", sp.Symbol("T") * sp.Symbol("V_f"), {"T": sheet.carried(f"T_{i}"), "V_f": sheet.carried(floor)},
                        unit="um/s", symbol=f"V_{i}", title=f"Equipment velocity of harmonic {i}, peak")  # fmt: skip
             peaks.append(f"V_{i}")
-        symbols = sp.symbols(" ".join(peaks)) if len(peaks) > 1 else (sp.Symbol(peaks[0]),)
         value = sheet.calc(
-            "V_band", sp.sqrt(sum(s**2 / 2 for s in symbols)), {p: sheet.carried(p) for p in peaks}, unit="um/s",
+            "V_band", harmonic_sum_formula(len(peaks), symbol="V"), {p: sheet.carried(p) for p in peaks}, unit="um/s",
             symbol=r"V_{band}", title=f"Equipment velocity in the {band}, rms of its harmonics: "
             r"$V_{rms} = \sqrt{\sum V_n^2 / 2}$ (distinct frequencies)",
         )  # fmt: skip
