@@ -93,7 +93,7 @@ class SeverityClass:
         """The boundary *name* (``"B/C"``) in m/s rms."""
         return dict((n, v) for n, v, _ in self.boundaries)[name]
 
-    def upper_boundary(self, zone: str) -> tuple[str, float, str] | None:
+    def upper_boundary(self, zone: str, *, where: str = "acceptable_zone") -> tuple[str, float, str] | None:
         """The boundary above *zone* (``"B"`` -> ``("B/C", 0.0028, "2.8 mm/s")``); None for zone D.
 
         Raises
@@ -104,8 +104,8 @@ class SeverityClass:
         name = str(zone).strip().upper()
         if name not in ZONE_NAMES:
             raise InputsError(
-                f"{zone!r} is not an evaluation zone",
-                where=f"severity zone of {self.key}",
+                f"{zone!r} is not an evaluation zone of {self.key}",
+                where=where,
                 do='Give "A", "B", "C" or "D" (usually "B": acceptable for unrestricted long-term operation)',
             )
         index = ZONE_NAMES.index(name)
