@@ -258,6 +258,21 @@ class TestFrequencyInHz:
 class TestMachineOnIsolators:
     example = "harrow_creek_p101_isolators.toml"
 
+    def test_severity_zone(self, built):
+        """V_rms = Omega X / sqrt(2) with X from the book's unbalance response (Rao 5th ed., sec. 3.7, from
+        memory), judged by ISO 10816-3:2009 Table A.2, group 2 flexible: A/B 2.3, B/C 4.5 mm/s (from memory)."""
+        v, record = _inputs(self.example), built["machine_on_isolators"][0]
+        res, check = _results(record), _check(record, "machine vibration severity")
+        m, k, zeta = _si(v, "machine_mass"), _si(v, "isolator_stiffness"), v["damping_ratio"]
+        W = angular_frequency(quantity(v["running_speed"], "W"), "W")
+        U = _si(v, "rotor_mass") * _si(v, "balance_grade") / W  # G = e Omega at the running speed
+        X = U * W**2 / math.sqrt((k - m * W**2) ** 2 + (2 * zeta * math.sqrt(k * m) * W) ** 2)
+        assert res["V_rms"] == pytest.approx(W * X / math.sqrt(2), rel=3e-3)
+        assert res["severity_zone"] == "zone A" and W * X / math.sqrt(2) < 2.3e-3
+        assert check["limit"] == pytest.approx(4.5) and check["unit"] == "mm/s"
+        assert "ISO 10816-3:2009, Annex A, Table A.2 (from memory)" in check["basis"]
+        assert "zone found: A" in check["basis"]
+
     def test_natural_frequency_and_deflection(self, built):
         """omega_n = sqrt(k/m) and delta_st = m g / k, computed here from the inputs."""
         v, res = _inputs(self.example), _results(built["machine_on_isolators"][0])
@@ -321,6 +336,36 @@ class TestEquipmentOnVibratingFloor:
         assert res["A"] == pytest.approx(w**2 * T * Y, rel=2e-3)
         Z = (w / wn) ** 2 * Y / math.sqrt((1 - (w / wn) ** 2) ** 2 + (2 * zeta * w / wn) ** 2)
         assert res["Z"] == pytest.approx(Z, rel=2e-3)  # Rao 5th ed., sec. 3.6.2, from memory
+
+
+    def test_criterion_curve_band_by_band(self, built):
+        """The worst band's rms velocity and its limit: each harmonic through the book transmissibility, the
+        band's rms as the rms of the sampled signal (numpy), the limit 4 x the ISO 2631-2:1989 base curve."""
+        v, record = _inputs(self.example), built["equipment_on_vibrating_floor"][0]
+        res, check = _results(record), _check(record, "criterion curve, worst band")
+        m, k, zeta = _si(v, "equipment_mass"), _si(v, "mount_stiffness"), v["damping_ratio"]
+        f_n = math.sqrt(k / m) / (2 * math.pi)
+        f_1 = angular_frequency(quantity(v["floor_frequency"], "f"), "f") / (2 * math.pi)  # 740 rpm, 12.33 Hz
+        assert v["floor_velocity_convention"] == "peak" and v["criterion_curve"] == "ISO office"
+        # the 12.5 Hz band (11.2 Hz to 14.1 Hz, IEC 61260-1 base-ten edges) holds the running-speed harmonic alone
+        V_1 = _book_transmissibility(f_1 / f_n, zeta) * _si(v, "floor_velocity")
+        t = np.linspace(0.0, 100 / f_1, 200_001)
+        sampled_rms = np.sqrt(np.mean((V_1 * np.sin(2 * np.pi * f_1 * t)) ** 2))
+        assert res["V_band"] == pytest.approx(sampled_rms, rel=2e-3)
+        # ISO 2631-2:1989 base curve (z-axis) above 8 Hz: a = 5e-3 m/s^2 * f / 8 Hz, so v = 5e-3 / (2 pi 8 Hz);
+        # offices 4 x the base curve, Annex A, Table A.1 (from memory)
+        assert check["limit"] == pytest.approx(4 * 5e-3 / (2 * math.pi * 8) * 1e6, rel=1e-9)  # um/s
+        assert check["unit"] == "um/s" and check["verdict"] == "met"
+        assert "ISO 2631-2:1989, Annex A, Table A.1" in check["basis"] and "(from memory)" in check["basis"]
+        table = next(t for t in record["tables"] if t["caption"].startswith("One-third-octave bands"))
+        assert [row[0] for row in table["rows"]] == ["12.5", "25", "40"]  # 1x, 2x, 3x of 740 rpm
+
+    def test_limit_compared_in_its_convention(self, built):
+        """The maker's limit is a peak: the check says so and compares the peak velocity V = omega X."""
+        record = built["equipment_on_vibrating_floor"][0]
+        check = _check(record, "equipment velocity")
+        assert check["basis"].endswith("; compared as peak")
+        assert check["value"] == pytest.approx(_results(record)["V"] * 1000, rel=1e-3)  # mm/s, as carried
 
 
 class TestArbitraryForcing:
