@@ -171,9 +171,8 @@ def severity_check(
         ),
     )
     basis = (
-        f"{found.key}, zone {acceptable_zone.strip().upper()} or better (boundary {boundary_name} {boundary_text} rms); "
-        f"zone found: {zone.zone}, {zone.meaning}; boundaries {zone.boundaries_text}; {found.source}"
-        + (f"; {found.note}" if found.note else "")
+        f"{found.key}: zone {acceptable_zone.strip().upper()} or better, up to {boundary_name} {boundary_text} rms; "
+        f"zone found: {zone.zone}; {found.source}" + (f"; {found.note}" if found.note else "")
     )
     return sheet.check(
         name, velocity, Q_(boundary * 1000, "mm/s"), basis=basis, unit="mm/s", convention="rms"
@@ -222,7 +221,8 @@ def band_check(
         ("band, Hz", "floor, rms", "equipment / floor", "equipment, rms", f"limit {curve.name}, rms", "margin"),
         table_rows,
         caption=f"One-third-octave bands: the floor's and the equipment's velocity, rms, against {curve.name} "
-        f"({curve.title}); {curve.source}. Numbers unrounded; the worst band is worked out below from the values as printed.",
+        f"({curve.title}); {curve.source}" + (f"; {curve.note}" if curve.note else "")
+        + ". Numbers unrounded; the worst band is worked out below from the values as printed.",
     )  # fmt: skip
     wn = sheet.carried(natural)
     zeta_q = sheet.inputs[damping].value if damping in sheet.inputs else sheet.carried(damping)
@@ -260,8 +260,6 @@ def band_check(
         )  # fmt: skip
     if worst.limit is None:  # pragma: no cover - worst_band picks a covered band
         raise SheetError("the worst band has no limit", where=f"check {name}", do="Report this as a defect")
-    basis = (
-        f"{curve.name} ({curve.title}), worst of {sum(r.limit is not None for r in rows)} bands: the {band}; "
-        f"{curve.source}" + (f"; {curve.note}" if curve.note else "")
-    )
+    covered = sum(r.limit is not None for r in rows)
+    basis = f"{curve.name}, the worst of {covered} bands: the {band}; {curve.source}"
     return sheet.check(name, value, um(worst.limit), basis=basis, unit="um/s", convention="rms")
