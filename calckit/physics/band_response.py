@@ -181,6 +181,14 @@ def band_response(
             rows[centre] = BandRow(centre, v_rms, T(centre) * v_rms, curve.velocity_limit(centre))
     else:
         grouped: dict[float, list[tuple[float, float, float]]] = {}
+        frequencies = sorted(f for f, _ in harmonics)
+        for a, b in zip(frequencies, frequencies[1:], strict=False):
+            if math.isclose(a, b, rel_tol=1e-9):
+                raise InputsError(
+                    f"two of the floor's harmonics are at {a:.6g} Hz",
+                    where="floor_harmonics",
+                    do="Give each frequency once (the dominant harmonic is floor_frequency; list only the others)",
+                )
         for f, v in harmonics:
             peak = in_convention(v, convention, "peak")
             grouped.setdefault(third_octave_band(f)[0], []).append((f, peak, T(f)))
