@@ -45,6 +45,15 @@ _PUBLIC = {
         "excitation", "fourier", "harmonic", "hysteretic", "pulses",  # modules exported by name (``ck.harmonic.magnification``)
     ),
     "calckit.physics.absorber": ("equal_peak_tuning",),
+    "calckit.physics.amplitude": (
+        "AMPLITUDE_CONVENTIONS", "amplitude_convention", "convention_factor", "convention_formula", "convention_text",
+        "harmonic_sum_formula", "harmonic_sum_rms", "in_convention", "motion_formula", "sum_in_convention",
+    ),
+    "calckit.physics.criteria_tables": (
+        "CriterionCurve", "criterion_curve", "criterion_curves", "load_criteria", "SeverityClass", "SeverityZone",
+        "severity_class", "severity_classes", "severity_zone", "third_octave_band", "third_octave_bands",
+    ),
+    "calckit.physics.band_response": ("BandRow", "band_response", "read_spectrum", "worst_band"),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
     "calckit.physics.pulse_spectrum": ("pulse_spectrum",),
