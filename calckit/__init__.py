@@ -45,6 +45,10 @@ _PUBLIC = {
         "excitation", "fourier", "harmonic", "hysteretic", "pulses",  # modules exported by name (``ck.harmonic.magnification``)
     ),
     "calckit.physics.absorber": ("equal_peak_tuning",),
+    "calckit.physics.rigid_body": ("Mount", "RigidBody"),
+    "calckit.physics.mounts": (
+        "describe_mode", "MountedBody", "mount_forces", "point_motion", "steady_amplitudes", "Unbalance",
+    ),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
     "calckit.physics.pulse_spectrum": ("pulse_spectrum",),

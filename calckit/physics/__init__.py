@@ -126,3 +126,28 @@ __all__ += [
     "static_deflection",
     "unbalance_force",
 ]
+
+from calckit.physics.mounts import (  # noqa: E402
+    MOMENT_FORMULAS,
+    MountedBody,
+    MountLoad,
+    Unbalance,
+    describe_mode,
+    mount_forces,
+    point_motion,
+    steady_amplitudes,
+)
+from calckit.physics.rigid_body import Mount, RigidBody  # noqa: E402
+
+__all__ += [
+    "MOMENT_FORMULAS",
+    "Mount",
+    "MountLoad",
+    "MountedBody",
+    "RigidBody",
+    "Unbalance",
+    "describe_mode",
+    "mount_forces",
+    "point_motion",
+    "steady_amplitudes",
+]
