@@ -131,6 +131,7 @@ _KIND_LIST = (
     ),
     Kind("pressure", "a", "Pa", "Pa", ("Pa", "kPa", "bar", "psi"), "250 kPa"),
     Kind("power", "a", "W", "W", ("W", "kW", "hp"), "7.5 kW"),
+    Kind("moment of inertia", "a", "kg*m**2", "kg*m**2", ("kg*m**2", "lb*ft**2"), "620 kg*m**2"),
 )
 #: Named kinds of quantity, by name: the values ``expect=`` accepts.
 KINDS: dict[str, Kind] = {k.name: k for k in _KIND_LIST}

@@ -137,9 +137,11 @@ from calckit.physics.mounts import (  # noqa: E402
     point_motion,
     steady_amplitudes,
 )
-from calckit.physics.rigid_body import Mount, RigidBody  # noqa: E402
+from calckit.physics.rigid_body import BOX_INERTIA_FORMULAS, Mount, RigidBody, read_point  # noqa: E402
 
 __all__ += [
+    "BOX_INERTIA_FORMULAS",
+    "read_point",
     "MOMENT_FORMULAS",
     "Mount",
     "MountLoad",

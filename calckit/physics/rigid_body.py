@@ -40,13 +40,21 @@ import sympy as sp
 from calckit.core.exact import exact
 from calckit.errors import ModelError
 
-__all__ = ["AXES", "Mount", "RigidBody", "placement", "skew"]
+__all__ = ["AXES", "BOX_INERTIA_FORMULAS", "Mount", "RigidBody", "placement", "read_point", "skew"]
 
 #: the axes a mount's axial direction may be named by, with its two shear directions (right-handed)
 AXES = {
     "z": ((1, 0, 0), (0, 1, 0), (0, 0, 1)),
     "x": ((0, 1, 0), (0, 0, 1), (1, 0, 0)),
     "y": ((0, 0, 1), (1, 0, 0), (0, 1, 0)),
+}
+
+_m, _a, _b, _c = sp.symbols("m a b c")
+#: the moments of inertia of a uniform box of sides a, b, c (along x, y, z) about its centre (the one place)
+BOX_INERTIA_FORMULAS = {
+    "J_xx": _m * (_b**2 + _c**2) / 12,
+    "J_yy": _m * (_a**2 + _c**2) / 12,
+    "J_zz": _m * (_a**2 + _b**2) / 12,
 }
 
 #: rotation-matrix entries that are not 0 or +-1 are carried to this many significant figures
@@ -74,6 +82,42 @@ def _vector(values, where: str) -> sp.ImmutableMatrix:
             do="Give the point as (x, y, z) in metres from the reference point",
         )
     return sp.ImmutableMatrix(3, 1, [_number(v, f"{where}[{i + 1}]") for i, v in enumerate(items)])
+
+
+def read_point(text, where: str) -> tuple[str, tuple]:
+    """A named point as an inputs file writes it: ``"M1: x = -1.1 m; y = -0.6 m; z = 0 m"``.
+
+    Returns ``(name, (x, y, z))`` with the coordinates exact, in metres. The name before
+    the colon may be left out (then it is ``where``); every one of x, y and z must be given,
+    each a length.
+
+    >>> read_point("flange: x = 1.2 m; y = 0 m; z = 850 mm", "point_1")
+    ('flange', (6/5, 0, 17/20))
+    """
+    from calckit.core.expressions import parse_parameters
+    from calckit.core.units import quantity, to_si
+
+    if not isinstance(text, str) or not text.strip():
+        raise ModelError(
+            f"expected a point as text, got {text!r}",
+            where=where,
+            do='Write the point as "name: x = 1.2 m; y = 0 m; z = 0.85 m"',
+        )
+    name, colon, rest = text.partition(":")
+    if not colon:
+        name, rest = where, text
+    values = parse_parameters(rest, where=where)
+    if sorted(values) != ["x", "y", "z"]:
+        raise ModelError(
+            f"the point gives {', '.join(values) or 'nothing'}; it needs x, y and z, once each",
+            where=where,
+            do='Write the point as "name: x = 1.2 m; y = 0 m; z = 0.85 m"',
+        )
+    coords = tuple(
+        exact(to_si(quantity(values[k], f"{where}, {k}", expect="length"), f"{where}, {k}").magnitude, where=where)
+        for k in ("x", "y", "z")
+    )
+    return name.strip() or where, coords
 
 
 def skew(r) -> sp.ImmutableMatrix:
@@ -132,7 +176,8 @@ class RigidBody:
                     do="Give the three sides, each greater than zero",
                 )
         m = _number(mass, "mass")
-        diag = (m * (b**2 + c**2) / 12, m * (a**2 + c**2) / 12, m * (a**2 + b**2) / 12)
+        sides = {_m: m, _a: a, _b: b, _c: c}
+        diag = tuple(BOX_INERTIA_FORMULAS[k].subs(sides) for k in ("J_xx", "J_yy", "J_zz"))
         return cls(m, cg, diag, basis="uniform-box estimate from the sides of the machine's box")
 
     @property
