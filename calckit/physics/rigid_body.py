@@ -114,7 +114,10 @@ def read_point(text, where: str) -> tuple[str, tuple]:
             do='Write the point as "name: x = 1.2 m; y = 0 m; z = 0.85 m"',
         )
     coords = tuple(
-        exact(to_si(quantity(values[k], f"{where}, {k}", expect="length"), f"{where}, {k}").magnitude, where=where)
+        exact(
+            to_si(quantity(values[k], f"{where}, {k}", expect="length"), f"{where}, {k}").magnitude,
+            where=where,
+        )
         for k in ("x", "y", "z")
     )
     return name.strip() or where, coords
