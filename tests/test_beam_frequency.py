@@ -23,6 +23,7 @@ from calckit.core.units import Q_
 from calckit.errors import InputsError
 from calckit.physics.beam_frequency import (
     BEAM_FREQUENCY_FORMULAS,
+    MOST_MASSES,
     beam_alone_frequency,
     beam_with_mass_frequency,
     dunkerley_estimate,
@@ -223,3 +224,24 @@ class TestRefusals:
         assert str(excinfo.value) == (
             "beam_mass_total: must be greater than zero, got -1 kg. Check the value and its sign in the inputs."
         )
+
+    def test_too_many_masses(self):
+        """More point masses than MOST_MASSES are refused before any work (bounded time)."""
+        with pytest.raises(InputsError) as excinfo:
+            rayleigh_frequency("cantilever", **BEAM, masses=[("1 kg", "1 m")] * (MOST_MASSES + 1))
+        assert str(excinfo.value) == (
+            "masses: 101 point masses are more than the 100 a beam takes here. Model the equipment as fewer "
+            "masses (each at its centre of gravity), or spread the small ones into the beam's mass."
+        )
+        with pytest.raises(InputsError) as excinfo:
+            dunkerley_formula(10**6)
+        assert str(excinfo.value) == (
+            "dunkerley_formula: expected a number of masses from 0 to 100, got 1000000. Give how many masses "
+            "the beam carries, besides its own."
+        )
+
+    def test_values_beyond_a_float(self):
+        """A span so long the frequency underflows to 0 is refused, not returned as 0 rad/s."""
+        with pytest.raises(InputsError) as excinfo:
+            beam_alone_frequency("fixed-fixed", **{**BEAM, "L": "1e100 m"})
+        assert str(excinfo.value).startswith("E, I, L, beam_mass: the beam's own fundamental comes out as")

@@ -313,3 +313,18 @@ class TestRefusals:
         assert _message(excinfo) == (
             "k_mount: must be greater than zero, got 0 kN/mm. Check the value and its sign in the inputs."
         )
+
+    def test_values_beyond_a_float(self):
+        """Inputs whose result overflows or underflows a float are refused, naming the inputs, never inf or 0."""
+        with pytest.raises(InputsError) as excinfo:
+            beam_stiffness("simply supported", E="1e300 GPa", I="1e10 m**4", L="1e-100 m")
+        assert _message(excinfo) == (
+            "E, I, L, a: the simply supported beam's stiffness comes out as inf N/m with these inputs, beyond "
+            "what a float holds (about 1e-308 to 1.8e308). Check the inputs' units and exponents for a slip (a "
+            "modulus typed in Pa for GPa, an exponent typed twice)."
+        )
+        with pytest.raises(InputsError) as excinfo:
+            support_check("1e300 N/m", "1e-300 N/m", names={"k_support": "k_beam", "k_mount": "k_iso"})
+        assert _message(excinfo).startswith(
+            "k_beam, k_iso: the ratio k_s / k_m comes out as inf with these inputs"
+        )

@@ -47,10 +47,22 @@ import sympy as sp
 
 from calckit.core.units import Q_
 from calckit.errors import InputsError
-from calckit.physics.support import BEAM_KINDS, _beam, _pick, _position, _si, _stiffness, _where
+from calckit.physics.support import (
+    BEAM_KINDS,
+    _beam,
+    _evaluate,
+    _in_range,
+    _inputs,
+    _pick,
+    _position,
+    _si,
+    _stiffness,
+    _where,
+)
 
 __all__ = [
     "BEAM_FREQUENCY_FORMULAS",
+    "MOST_MASSES",
     "BeamFrequency",
     "DunkerleyEstimate",
     "beam_alone_frequency",
@@ -62,6 +74,20 @@ __all__ = [
 ]
 
 _k, _M, _mb, _mu, _me, _wn = sp.symbols("k M m_b mu m_e omega_n", positive=True)
+
+#: The most point masses a beam takes here (more: model the equipment as fewer masses, or as beam mass).
+MOST_MASSES = 100
+
+
+def _guarded(compute, what: str, unit: str, where: str) -> float:
+    """*compute()* in floats, refused when a step overflows or underflows (numpy's too)."""
+    try:
+        with np.errstate(all="raise"):
+            value = float(compute())
+    except (OverflowError, FloatingPointError, ZeroDivisionError):
+        value = math.inf
+    return _in_range(value, what, unit, where)
+
 
 #: Equipment of mass ``M`` on a beam of mass ``m_b`` by Rayleigh's quotient with the static deflection
 #: shape under the equipment: the effective mass ``m_e = M + mu m_b`` (``mu`` the effective mass
@@ -124,8 +150,13 @@ def effective_mass_fraction(kind: str, *, L: Any, a: Any = None, names=None) -> 
     kind = _pick(kind, BEAM_KINDS, _where(names, "kind"), "a beam kind")
     span = _si(L, _where(names, "L"), "length", "m")
     x = _position(kind, span, a, names)
-    at = float(_point_shape(kind, span, x, np.array([x]))[0])
-    return float(_integral(lambda s: _point_shape(kind, span, x, s) ** 2, span, [x]) / (span * at**2))
+
+    def fraction():  # on a beam of unit length: the fraction depends on a / L only
+        r = x / span
+        at = float(_point_shape(kind, 1.0, r, np.array([r]))[0])
+        return _integral(lambda s: _point_shape(kind, 1.0, r, s) ** 2, 1.0, [r]) / at**2
+
+    return _guarded(fraction, "the effective mass fraction", "", _inputs(names, "L", "a"))
 
 
 @dataclass(frozen=True)
@@ -171,17 +202,19 @@ def beam_with_mass_frequency(
     kind, e, i, span, x = _beam(kind, E, I, L, a, names)
     mb = _si(beam_mass, _where(names, "beam_mass"), "mass", "kg")
     big = _si(mass, _where(names, "mass"), "mass", "kg")
-    k = _stiffness(kind, e, i, span, x)
-    mu = effective_mass_fraction(kind, L=Q_(span, "m"), a=Q_(x, "m"))
+    k = _stiffness(kind, e, i, span, x, names)
+    mu = effective_mass_fraction(kind, L=Q_(span, "m"), a=Q_(x, "m"), names=names)
     got = {_k: k, _M: big, _mb: mb, _mu: mu}
-    got[_me] = float(BEAM_FREQUENCY_FORMULAS["m_e"].subs(got))
-    got[_wn] = float(BEAM_FREQUENCY_FORMULAS["omega_n"].subs(got))
+    where = _inputs(names, "E", "I", "L", "a", "beam_mass", "mass")
+    for symbol, name, unit in ((_me, "m_e", "kg"), (_wn, "omega_n", "rad/s"), (None, "f_n", "Hz")):
+        value = _evaluate(BEAM_FREQUENCY_FORMULAS[name], got, name, unit, where)
+        got[symbol or name] = value
     return BeamFrequency(
         k=Q_(k, "N/m"),
         mu=mu,
         m_e=Q_(got[_me], "kg"),
         omega_n=Q_(got[_wn], "rad/s"),
-        f_n=Q_(float(BEAM_FREQUENCY_FORMULAS["f_n"].subs(got)), "Hz"),
+        f_n=Q_(got["f_n"], "Hz"),
     )
 
 
@@ -192,6 +225,13 @@ def _masses(masses: Sequence, kind: str, span: float, names) -> list[tuple[float
             f"expected a list of (mass, position) pairs, got {type(masses).__name__}",
             where=where,
             do='Give the masses as pairs, e.g. [("900 kg", "1.2 m"), ("250 kg", "2.1 m")]',
+        )
+    if len(masses) > MOST_MASSES:
+        raise InputsError(
+            f"{len(masses):,} point masses are more than the {MOST_MASSES} a beam takes here",
+            where=where,
+            do="Model the equipment as fewer masses (each at its centre of gravity), or spread the small ones "
+            "into the beam's mass",
         )
     out = []
     for n, item in enumerate(masses, 1):
@@ -241,13 +281,17 @@ def rayleigh_frequency(
             y = y + m * _point_shape(kind, span, at, x)
         return y
 
-    breaks = [at for _, at in lumped]
-    at_masses = [(m, float(shape(np.array([at]))[0])) for m, at in lumped]
-    work = sum(m * y for m, y in at_masses) + per_length * _integral(shape, span, breaks)
-    kinetic = sum(m * y**2 for m, y in at_masses) + per_length * _integral(
-        lambda x: shape(x) ** 2, span, breaks
-    )
-    return Q_(math.sqrt(e * i * work / kinetic), "rad/s")
+    def quotient():
+        breaks = [at for _, at in lumped]
+        at_masses = [(m, float(shape(np.array([at]))[0])) for m, at in lumped]
+        work = sum(m * y for m, y in at_masses) + per_length * _integral(shape, span, breaks)
+        kinetic = sum(m * y**2 for m, y in at_masses) + per_length * _integral(
+            lambda x: shape(x) ** 2, span, breaks
+        )
+        return math.sqrt(e * i * work / kinetic)
+
+    where = _inputs(names, "E", "I", "L", "beam_mass", "masses")
+    return Q_(_guarded(quotient, "the fundamental by Rayleigh's quotient", "rad/s", where), "rad/s")
 
 
 def _beta_l(kind: str) -> float:
@@ -271,8 +315,15 @@ def beam_alone_frequency(kind: str, *, E: Any, I: Any, L: Any, beam_mass: Any, n
     112.4
     """
     kind, e, i, span, _ = _beam(kind, E, I, L, None, names)
-    per_length = _si(beam_mass, _where(names, "beam_mass"), "mass", "kg") / span
-    return Q_(_beta_l(kind) ** 2 * math.sqrt(e * i / (per_length * span**4)), "rad/s")
+    mb = _si(beam_mass, _where(names, "beam_mass"), "mass", "kg")
+    where = _inputs(names, "E", "I", "L", "beam_mass")
+    omega = _guarded(
+        lambda: _beta_l(kind) ** 2 * math.sqrt(e * i / (mb / span * span**4)),
+        "the beam's own fundamental",
+        "rad/s",
+        where,
+    )
+    return Q_(omega, "rad/s")
 
 
 def dunkerley_formula(count: int) -> sp.Expr:
@@ -284,6 +335,12 @@ def dunkerley_formula(count: int) -> sp.Expr:
     >>> dunkerley_formula(1)
     1/sqrt(omega_1**(-2) + omega_0**(-2))
     """
+    if isinstance(count, bool) or not isinstance(count, int) or not 0 <= count <= MOST_MASSES:
+        raise InputsError(
+            f"expected a number of masses from 0 to {MOST_MASSES}, got {count!r}",
+            where="dunkerley_formula",
+            do="Give how many masses the beam carries, besides its own",
+        )
     parts = sp.symbols(f"omega_0:{count + 1}", positive=True)
     return 1 / sp.sqrt(sum(w**-2 for w in parts))
 
@@ -322,10 +379,15 @@ def dunkerley_estimate(
     w0 = beam_alone_frequency(
         kind, E=Q_(e, "Pa"), I=Q_(i, "m**4"), L=Q_(span, "m"), beam_mass=beam_mass, names=names
     )
-    parts = tuple(
-        Q_(math.sqrt(_stiffness(kind, e, i, span, at) / m), "rad/s")
-        for m, at in _masses(masses, kind, span, names)
-    )
+    where = _inputs(names, "E", "I", "L", "beam_mass", "masses")
+    parts = []
+    for n, (m, at) in enumerate(_masses(masses, kind, span, names), 1):
+        k = _stiffness(kind, e, i, span, at, names)
+        parts.append(Q_(_guarded(lambda k=k, m=m: math.sqrt(k / m), f"omega_{n}", "rad/s", where), "rad/s"))
+    parts = tuple(parts)
     values = dict(zip(sp.symbols(f"omega_0:{len(parts) + 1}", positive=True), (w0, *parts), strict=True))
-    omega = float(dunkerley_formula(len(parts)).subs({s: w.magnitude for s, w in values.items()}))
+    formula = dunkerley_formula(len(parts))
+    omega = _evaluate(
+        formula, {s: w.magnitude for s, w in values.items()}, "Dunkerley's estimate", "rad/s", where
+    )
     return DunkerleyEstimate(omega_0=w0, parts=parts, omega=Q_(omega, "rad/s"))

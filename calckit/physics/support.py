@@ -50,6 +50,7 @@ Examples
 from __future__ import annotations
 
 import difflib
+import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from types import MappingProxyType
@@ -168,6 +169,36 @@ def _si(value: Any, where: str, expect: str, unit: str) -> float:
     return float(q.to(unit).magnitude)
 
 
+_RANGE_DO = "Check the inputs' units and exponents for a slip (a modulus typed in Pa for GPa, an exponent typed twice)"
+
+
+def _in_range(value: float, what: str, unit: str, where: str, *, allow_zero: bool = False) -> float:
+    """*value* if a float holds it (finite; positive, or zero when allowed), else an InputsError."""
+    if math.isfinite(value) and (value > 0 or (allow_zero and value == 0)):
+        return value
+    shown = f"{value:g} {unit}".strip()
+    raise InputsError(
+        f"{what} comes out as {shown} with these inputs, beyond what a float holds (about 1e-308 to 1.8e308)",
+        where=where,
+        do=_RANGE_DO,
+    )
+
+
+def _evaluate(
+    expr: sp.Expr, values: dict, what: str, unit: str, where: str, *, allow_zero: bool = False
+) -> float:
+    """A formula's number at *values*, refused when it overflows or underflows."""
+    try:
+        value = float(expr.subs(values))
+    except (OverflowError, ZeroDivisionError, TypeError):  # float(zoo) is a TypeError
+        value = math.inf
+    return _in_range(value, what, unit, where, allow_zero=allow_zero)
+
+
+def _inputs(names, *keys: str) -> str:
+    return ", ".join(_where(names, key) for key in keys)
+
+
 def stiffness_formula(kind: str, *, rigid_beam: bool = True) -> sp.Expr:
     """The support's stiffness as a formula for a sheet step; a portal with ``rigid_beam=False`` gives
     :data:`PORTAL_FORMULAS`' form in ``rho`` (its own step first: ``PORTAL_FORMULAS["rho"]``).
@@ -219,9 +250,10 @@ def _beam(kind, E, I, L, a, names) -> tuple[str, float, float, float, float]:
     return kind, e, i, span, _position(kind, span, a, names)
 
 
-def _stiffness(kind: str, e: float, i: float, span: float, x: float) -> float:
+def _stiffness(kind: str, e: float, i: float, span: float, x: float, names=None) -> float:
     values = {_E: e, _I: i, _L: span, _a: x, _b: span - x}
-    return float(STIFFNESS_FORMULAS[kind].subs(values))
+    where = _inputs(names, "E", "I", "L", "a")
+    return _evaluate(STIFFNESS_FORMULAS[kind], values, f"the {kind} beam's stiffness", "N/m", where)
 
 
 def beam_stiffness(kind: str, *, E: Any, I: Any, L: Any, a: Any = None, names=None) -> pint.Quantity:
@@ -241,7 +273,7 @@ def beam_stiffness(kind: str, *, E: Any, I: Any, L: Any, a: Any = None, names=No
     <Quantity(600.0, 'newton / millimeter')>
     """
     kind, e, i, span, x = _beam(kind, E, I, L, a, names)
-    return Q_(_stiffness(kind, e, i, span, x), "N/m")
+    return Q_(_stiffness(kind, e, i, span, x, names), "N/m")
 
 
 def portal_sway_stiffness(
@@ -264,7 +296,11 @@ def portal_sway_stiffness(
     height = _si(h, _where(names, "h"), "length", "m")
     values = {_E: e, _Ic: ic, _h: height}
     if I_b is None:
-        return Q_(float(STIFFNESS_FORMULAS[f"portal, {bases} bases"].subs(values)), "N/m")
+        formula = STIFFNESS_FORMULAS[f"portal, {bases} bases"]
+        return Q_(
+            _evaluate(formula, values, "the portal's sway stiffness", "N/m", _inputs(names, "E", "I_c", "h")),
+            "N/m",
+        )
     if L is None:
         raise InputsError(
             "a portal's beam stiffness needs the beam's span",
@@ -273,8 +309,11 @@ def portal_sway_stiffness(
         )
     ib = _si(I_b, _where(names, "I_b"), "second moment of area", "m**4")
     span = _si(L, _where(names, "L"), "length", "m")
-    values[_rho] = float(PORTAL_FORMULAS["rho"].subs({_Ib: ib, _L: span, _Ic: ic, _h: height}))
-    return Q_(float(PORTAL_FORMULAS[bases].subs(values)), "N/m")
+    where = _inputs(names, "E", "I_c", "h", "I_b", "L")
+    values[_rho] = _evaluate(
+        PORTAL_FORMULAS["rho"], {_Ib: ib, _L: span, _Ic: ic, _h: height}, "rho", "", where
+    )
+    return Q_(_evaluate(PORTAL_FORMULAS[bases], values, "the portal's sway stiffness", "N/m", where), "N/m")
 
 
 def support_stiffness(
@@ -331,7 +370,11 @@ def series_stiffness(*springs: Any, names: Sequence[str] | None = None) -> pint.
         raise ModelError("no springs were given", where="series_stiffness", do="Give at least one stiffness")
     labels = list(names) if names else [f"spring {n + 1}" for n in range(len(springs))]
     values = [_si(k, label, "stiffness", "N/m") for k, label in zip(springs, labels, strict=True)]
-    return Q_(1 / sum(1 / k for k in values), "N/m")
+    total = math.fsum(1 / k for k in values)
+    return Q_(
+        _in_range(1 / total if total > 0 else math.inf, "the springs' stiffness", "N/m", ", ".join(labels)),
+        "N/m",
+    )
 
 
 @dataclass(frozen=True)
@@ -364,15 +407,20 @@ def support_effect(mass: Any, k_mount: Any, k_support: Any, *, names=None) -> Su
     km = _si(k_mount, _where(names, "k_mount"), "stiffness", "N/m")
     ks = _si(k_support, _where(names, "k_support"), "stiffness", "N/m")
     got = {_km: km, _ks: ks, _m: m}
-    got[_ke] = float(SERIES_FORMULAS["k_e"].subs(got))
+    where = _inputs(names, "mass", "k_mount", "k_support")
+    units = {"k_e": "N/m", "ratio": "", "omega_rigid": "rad/s", "omega_flexible": "rad/s", "drop": ""}
+    out = {}
+    for name, expr in SERIES_FORMULAS.items():  # in order: k_e first, then the formulas that take it
+        out[name] = _evaluate(expr, got, name, units[name], where, allow_zero=name == "drop")
+        got.setdefault(_ke, out[name])
     return SupportEffect(
         k_mount=Q_(km, "N/m"),
         k_support=Q_(ks, "N/m"),
-        k_e=Q_(got[_ke], "N/m"),
-        ratio=float(SERIES_FORMULAS["ratio"].subs(got)),
-        omega_rigid=Q_(float(SERIES_FORMULAS["omega_rigid"].subs(got)), "rad/s"),
-        omega_flexible=Q_(float(SERIES_FORMULAS["omega_flexible"].subs(got)), "rad/s"),
-        drop=float(SERIES_FORMULAS["drop"].subs(got)),
+        k_e=Q_(out["k_e"], "N/m"),
+        ratio=out["ratio"],
+        omega_rigid=Q_(out["omega_rigid"], "rad/s"),
+        omega_flexible=Q_(out["omega_flexible"], "rad/s"),
+        drop=out["drop"],
     )
 
 
@@ -417,5 +465,11 @@ def support_check(
             where=where,
             do="Give the least ratio k_s / k_m the support must reach, at least 1 (common practice about 10)",
         )
-    ratio = float(SERIES_FORMULAS["ratio"].subs({_ks: ks, _km: km}))
+    ratio = _evaluate(
+        SERIES_FORMULAS["ratio"],
+        {_ks: ks, _km: km},
+        "the ratio k_s / k_m",
+        "",
+        _inputs(names, "k_support", "k_mount"),
+    )
     return SupportCheck(ratio=ratio, required=required, met=ratio >= required, basis=basis)
