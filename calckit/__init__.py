@@ -48,7 +48,7 @@ _PUBLIC = {
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
     "calckit.physics.support": (
-        "BEAM_KINDS", "beam_stiffness", "LEAST_SUPPORT_RATIO", "PORTAL_BASES", "PORTAL_FORMULAS", "portal_sway_stiffness",
+        "BEAM_KINDS", "beam_flexibility", "beam_stiffness", "LEAST_SUPPORT_RATIO", "PORTAL_BASES", "PORTAL_FORMULAS", "portal_sway_stiffness",
         "SERIES_FORMULAS", "series_stiffness", "STIFFNESS_FORMULAS", "stiffness_formula", "support_check",
         "support_effect", "SUPPORT_KINDS", "support_stiffness", "SUPPORT_RATIO_BASIS", "SupportCheck", "SupportEffect",
     ),

@@ -31,6 +31,7 @@ from calckit.physics.support import (
     SERIES_FORMULAS,
     STIFFNESS_FORMULAS,
     SUPPORT_RATIO_BASIS,
+    beam_flexibility,
     beam_stiffness,
     portal_sway_stiffness,
     series_stiffness,
@@ -94,6 +95,35 @@ class TestBeamStiffness:
         k = sheet.calc("k_s", stiffness_formula("simply supported"), unit="kN/mm")
         fe = Beam("simply supported", EI, SPAN, elements=30).stiffness_at(1.2)  # numpy.linalg.solve
         assert k.to("N/m").magnitude == pytest.approx(fe, rel=1e-3)  # 4 figures shown
+
+
+class TestFlexibility:
+    """beam_flexibility: mounts sharing a beam, against the FE model's deflections under unit loads."""
+
+    @pytest.mark.parametrize("kind", ["simply supported", "fixed-fixed", "cantilever"])
+    def test_against_fe(self, kind):
+        """Column j is the FE deflection at the mounts under a unit force at mount j (numpy.linalg.solve)."""
+        xs = [0.45, 1.2, 2.4, 3.0] if kind == "cantilever" else [0.45, 1.2, 2.4]
+        got = beam_flexibility(kind, E=QE, I=QI, L=QL, positions=[Q_(x, "m") for x in xs]).to("m/N").magnitude
+        beam = Beam(kind, EI, SPAN, elements=60)
+        fe = np.array([[beam.deflection([(1.0, xj)])[2 * beam.node(xi)] for xj in xs] for xi in xs])
+        np.testing.assert_allclose(got, fe, rtol=1e-8)
+
+    def test_refusals(self):
+        """No positions, and a mount off the beam named by its place in the list."""
+        with pytest.raises(InputsError) as excinfo:
+            beam_flexibility("fixed-fixed", E=QE, I=QI, L=QL, positions=[])
+        assert _message(excinfo) == (
+            "positions: expected a list of the mounts' positions along the beam, got []. Give each mount's "
+            'distance from the left support (the cantilever\'s fixed end), e.g. ["0.8 m", "2.2 m"].'
+        )
+        with pytest.raises(InputsError) as excinfo:
+            beam_flexibility("fixed-fixed", E=QE, I=QI, L=QL, positions=["1 m", "3 m"])
+        assert _message(excinfo) == (
+            "positions[2]: the load at 3 m is outside the fixed-fixed beam's span of 3 m. Give the load's "
+            "distance from the left support, more than 0 and less than the span 3 m (a load at a support does "
+            "not bend the beam)."
+        )
 
 
 class TestPortalSway:

@@ -54,6 +54,7 @@ from calckit.physics.support import (
     _in_range,
     _inputs,
     _pick,
+    _point_shape,
     _position,
     _si,
     _stiffness,
@@ -96,23 +97,6 @@ def _guarded(compute, what: str, unit: str, where: str) -> float:
 BEAM_FREQUENCY_FORMULAS: Mapping[str, sp.Expr] = MappingProxyType(
     {"m_e": _M + _mu * _mb, "omega_n": sp.sqrt(_k / _me), "f_n": _wn / (2 * sp.pi)}
 )
-
-
-def _point_shape(kind: str, span: float, a: float, x: np.ndarray) -> np.ndarray:
-    """Deflection at *x* under a unit force at *a*, times E I (Roark 7th ed. Table 8.1, from memory)."""
-    b = span - a
-    left = x <= a
-    if kind == "simply supported":
-        y_left = b * x * (span**2 - b**2 - x**2) / (6 * span)
-        y_right = a * (span - x) * (2 * span * x - x**2 - a**2) / (6 * span)
-    elif kind == "fixed-fixed":
-        r = span - x
-        y_left = b**2 * x**2 * (3 * a * span - (3 * a + b) * x) / (6 * span**3)
-        y_right = a**2 * r**2 * (3 * b * span - (3 * b + a) * r) / (6 * span**3)
-    else:  # cantilever, fixed at x = 0
-        y_left = x**2 * (3 * a - x) / 6
-        y_right = a**2 * (3 * x - a) / 6
-    return np.where(left, y_left, y_right)
 
 
 def _uniform_shape(kind: str, span: float, x: np.ndarray) -> np.ndarray:

@@ -56,6 +56,7 @@ from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Any
 
+import numpy as np
 import pint
 import sympy as sp
 
@@ -74,6 +75,7 @@ __all__ = [
     "SUPPORT_RATIO_BASIS",
     "SupportCheck",
     "SupportEffect",
+    "beam_flexibility",
     "beam_stiffness",
     "portal_sway_stiffness",
     "series_stiffness",
@@ -356,6 +358,62 @@ def support_stiffness(
             )
     bases = kind.split(", ")[1].split()[0]
     return portal_sway_stiffness(bases, E=E, I_c=I_c, h=h, I_b=I_b, L=L, names=names)
+
+
+def _point_shape(kind: str, span: float, a: float, x: np.ndarray) -> np.ndarray:
+    """Deflection at *x* under a unit force at *a*, times E I (Roark 7th ed. Table 8.1, from memory)."""
+    b = span - a
+    left = x <= a
+    if kind == "simply supported":
+        y_left = b * x * (span**2 - b**2 - x**2) / (6 * span)
+        y_right = a * (span - x) * (2 * span * x - x**2 - a**2) / (6 * span)
+    elif kind == "fixed-fixed":
+        r = span - x
+        y_left = b**2 * x**2 * (3 * a * span - (3 * a + b) * x) / (6 * span**3)
+        y_right = a**2 * r**2 * (3 * b * span - (3 * b + a) * r) / (6 * span**3)
+    else:  # cantilever, fixed at x = 0
+        y_left = x**2 * (3 * a - x) / 6
+        y_right = a**2 * (3 * x - a) / 6
+    return np.where(left, y_left, y_right)
+
+
+def beam_flexibility(kind: str, *, E: Any, I: Any, L: Any, positions: Sequence, names=None) -> pint.Quantity:
+    """The flexibility matrix of a beam carrying several mounts, m/N: entry ``(i, j)`` is the deflection at
+    mount *i* under a unit force at mount *j* (Roark 7th ed. Table 8.1 cases 1a, 1d, 1e, the deflection
+    anywhere, from memory). Its diagonal is ``1 / k`` of :func:`beam_stiffness` at each mount; the rest
+    couples mounts that share the beam, which a stiffness per mount leaves out.
+
+    Examples
+    --------
+    >>> f = beam_flexibility("simply supported", E="210 GPa", I="8360 cm**4", L="3 m", positions=["1 m", "2 m"])
+    >>> f.to("um/kN").magnitude.round(3).tolist()
+    [[25.316, 22.151], [22.151, 25.316]]
+    """
+    kind, e, i, span, _ = _beam(kind, E, I, L, None, names)
+    where = _where(names, "positions")
+    if isinstance(positions, str | bytes) or not isinstance(positions, Sequence) or not positions:
+        raise InputsError(
+            f"expected a list of the mounts' positions along the beam, got {positions!r}",
+            where=where,
+            do="Give each mount's distance from the left support (the cantilever's fixed end), "
+            'e.g. ["0.8 m", "2.2 m"]',
+        )
+    if len(positions) > 100:
+        raise InputsError(
+            f"{len(positions):,} mounts on one beam are more than the 100 taken here",
+            where=where,
+            do="Give the mounts that stand on this beam",
+        )
+    xs = np.array([_position(kind, span, x, {"a": f"{where}[{n}]"}) for n, x in enumerate(positions, 1)])
+    with np.errstate(all="ignore"):
+        matrix = np.array([_point_shape(kind, span, at, xs) for at in xs]) / (e * i)
+    if not (np.all(np.isfinite(matrix)) and np.all(np.diag(matrix) > 0)):
+        raise InputsError(
+            "the beam's flexibility comes out beyond what a float holds (about 1e-308 to 1.8e308) with these inputs",
+            where=_inputs(names, "E", "I", "L", "positions"),
+            do=_RANGE_DO,
+        )
+    return Q_(matrix, "m/N")
 
 
 def series_stiffness(*springs: Any, names: Sequence[str] | None = None) -> pint.Quantity:
