@@ -151,10 +151,12 @@ def coupled_case():
     def si(text, kind):
         return ck.exact(ck.to_si(ck.quantity(text, "x", expect=kind), "x").magnitude)
 
-    pts = lambda text: [
-        ck.exact(ck.to_si(q, "p").magnitude)
-        for q in parse_parameters(text.split(":")[-1], where="p").values()
-    ]  # noqa: E731
+    def pts(text):
+        return [
+            ck.exact(ck.to_si(q, "p").magnitude)
+            for q in parse_parameters(text.split(":")[-1], where="p").values()
+        ]
+
     J = {
         k: ck.exact(ck.to_si(q, k).magnitude)
         for k, q in parse_parameters(v["inertia_tensor"], where="J").items()

@@ -380,6 +380,7 @@ class TestArbitraryForcing:
         message = str(caught.value)
         assert "forcing" in message and "does not give a force" in message and "cos(2*w*t)" in message
 
+
     def test_forcing_in_names_of_ones_own(self, tmp_path):
         """forcing_parameters names the forcing's parameters; Hz is read as cycles (2 pi rad); the peak
         agrees with scipy.integrate.solve_ivp of the same equation written out here."""
@@ -387,14 +388,9 @@ class TestArbitraryForcing:
 
         text = (EXAMPLES / self.example).read_text(encoding="utf-8")
         text = _changed(text, "forcing", '"P*exp(-t/tau)*sin(Omega*t)"')
-        text = "\n".join(
-            line for line in text.splitlines() if line.split("=")[0].strip() not in ("F0", "F1", "a", "w")
-        )
-        text = text.replace(
-            "[start]",
-            '[own]\nforcing_parameters = { value = "P = 1.5 kN; tau = 0.3 s; Omega = 9 Hz", '
-            'source = "Surge analysis HCW-HYD-012 rev A (invented)" }\n\n[start]',
-        )
+        text = "\n".join(line for line in text.splitlines() if line.split("=")[0].strip() not in ("F0", "F1", "a", "w"))
+        text = text.replace("[start]", '[own]\nforcing_parameters = { value = "P = 1.5 kN; tau = 0.3 s; Omega = 9 Hz", '
+                            'source = "Surge analysis HCW-HYD-012 rev A (invented)" }\n\n[start]')
         inputs = tmp_path / "own.toml"
         inputs.write_text(text, encoding="utf-8")
         build_sheet("arbitrary_forcing", inputs, tmp_path / "out")
@@ -437,10 +433,7 @@ class TestSingleMassHarmonic:
             build_sheet("single_mass_harmonic", path, tmp_path / "out")
         assert caught.value.user_error and caught.value.ename == "ModelError"
         message = str(caught.value)
-        assert (
-            "undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound"
-            in message
-        )
+        assert "undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound" in message
         assert "Add damping (zeta > 0) or move the speed off the natural frequency" in message
         assert "zero in a denominator" not in message and "report" not in message
         assert not (tmp_path / "out").exists()
@@ -564,11 +557,7 @@ class TestPeriodicLoad:
         for item in record["results"]:
             assert item["working"]["kind"] in kinds and item["working"]["text"].strip(), item["name"]
         res = _results(record)
-        pieces = [
-            (0, t1, lambda s: P * s / t1),
-            (t1, t1 + t2, lambda s: P),
-            (t1 + t2, t1 + t2 + t3, lambda s: P * (t1 + t2 + t3 - s) / t3),
-        ]
+        pieces = [(0, t1, lambda s: P * s / t1), (t1, t1 + t2, lambda s: P), (t1 + t2, t1 + t2 + t3, lambda s: P * (t1 + t2 + t3 - s) / t3)]
         ms = sum(quad(lambda s, g=g: g(s) ** 2, lo, hi)[0] for lo, hi, g in pieces) / T
         assert res["mean_square"] == pytest.approx(ms, rel=1e-9)
         k = _si(v, "frame_stiffness")
@@ -578,9 +567,7 @@ class TestPeriodicLoad:
         assert by_name["peak_displacement"]["working"]["kind"] == "procedure"
         assert "4001" in by_name["peak_displacement"]["working"]["text"]
         checks = [c for c in record["checks"] if c["name"].startswith("independent check")]
-        assert len(checks) == 2 and all(
-            c["verdict"] == "met" for c in checks
-        )  # the Fourier sum and the exact solution
+        assert len(checks) == 2 and all(c["verdict"] == "met" for c in checks)  # the Fourier sum and the exact solution
 
     def test_exact_periodic_peak_against_solve_ivp(self, built):
         """The exact periodic peak against scipy.integrate.solve_ivp through 30 strokes of the load itself
@@ -596,23 +583,14 @@ class TestPeriodicLoad:
         state, peak = [0.0, 0.0], 0.0
         for stroke in range(30):
             for lo, hi, g in zip(edges[:-1], edges[1:], loads, strict=True):
-                sol = solve_ivp(
-                    lambda s, y, g=g: [y[1], (g(s) - c * y[1] - k * y[0]) / m],
-                    (lo, hi),
-                    state,
-                    method="DOP853",
-                    rtol=1e-11,
-                    atol=1e-14,
-                    dense_output=True,
-                )
+                sol = solve_ivp(lambda s, y, g=g: [y[1], (g(s) - c * y[1] - k * y[0]) / m], (lo, hi), state,
+                                method="DOP853", rtol=1e-11, atol=1e-14, dense_output=True)
                 if stroke == 29:
                     peak = max(peak, float(np.max(np.abs(sol.sol(np.linspace(lo, hi, 2001))[0]))))
                 state = sol.y[:, -1]
         assert res["peak_displacement_exact"] == pytest.approx(peak, rel=1e-5)
         assert res["peak_displacement"] < res["peak_displacement_exact"]
-        assert _check(built["periodic_load"][0], "frame displacement")["value"] == pytest.approx(
-            peak * 1000, rel=1e-5
-        )
+        assert _check(built["periodic_load"][0], "frame displacement")["value"] == pytest.approx(peak * 1000, rel=1e-5)
 
 
 def _b402_record() -> tuple[np.ndarray, np.ndarray]:
@@ -806,7 +784,6 @@ class TestShockPulse:
         assert '"square" is not a pulse this template knows' in message and "pulse_shape" in message
         assert "half_sine, versed_sine, triangle" in message
 
-
 class TestMachineOnMounts:
     """The skid on six mounts against matrices built here from the example's inputs."""
 
@@ -817,9 +794,10 @@ class TestMachineOnMounts:
         from calckit.core.expressions import parse_parameters
 
         v = _inputs(self.example)
-        point = lambda text: [
-            float(to_si(q, "p").magnitude) for q in parse_parameters(text.split(":")[-1], where="p").values()
-        ]  # noqa: E731
+        def point(text):
+            pairs = parse_parameters(text.split(":")[-1], where="p").values()
+            return [float(to_si(q, "p").magnitude) for q in pairs]
+
         m = _si(v, "machine_mass")
         cg = np.array(point(v["centre_of_gravity"]))
         J = {
