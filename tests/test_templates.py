@@ -853,10 +853,17 @@ class TestMachineOnMounts:
             got = [res[f"M_{a}_{part}"] for a in "xyz"]
             assert got == pytest.approx(list(np.cross(arm, F)), rel=1e-3, abs=1e-3 * F0)
 
-    def test_support_section_says_not_done(self, built):
-        """Until the support stiffness module lands, the sheet says plainly that no support check is made."""
-        record = built["machine_on_mounts"][0]
-        assert not [c for c in record["checks"] if "support" in c["name"]]
-        assert any(str(n).startswith("NOT DONE: the support's stiffness") for n in record["notes"]), record[
-            "notes"
-        ]
+    def test_support_against_roark(self, built):
+        """The floor beam's stiffness under a mount against Roark's simply supported beam with a point load,
+        k = 3 E I L / (a^2 b^2) (Young and Budynas, Roark's Formulas for Stress and Strain, 7th ed., Table 8.1,
+        case 1e, from memory), and the support check's ratio against the mount's axial stiffness."""
+        v = _inputs(self.example)
+        E = float(to_si(quantity(v["support_modulus"], "E"), "E").magnitude)
+        I = float(to_si(quantity(v["support_second_moment"], "I"), "I").magnitude)  # noqa: E741
+        L, a = _si(v, "support_span"), _si(v, "support_load_position")
+        k = 3 * E * I * L / (a**2 * (L - a) ** 2)
+        res = _results(built["machine_on_mounts"][0])
+        assert res["k_support"] == pytest.approx(k, rel=1e-3)
+        check = _check(built["machine_on_mounts"][0], "support stiffness")
+        assert check["value"] == pytest.approx(k / _si(v, "mount_axial_stiffness"), rel=2e-3)
+        assert check["verdict"] == "met" and check["limit"] == v["support_stiffness_ratio"]
