@@ -133,8 +133,11 @@ from calckit.physics.mounts import (  # noqa: E402
     MountLoad,
     Unbalance,
     describe_mode,
+    harmonic_state,
     mount_forces,
+    mounted_skid,
     point_motion,
+    skid_results,
     steady_amplitudes,
 )
 from calckit.physics.rigid_body import BOX_INERTIA_FORMULAS, Mount, RigidBody, read_point  # noqa: E402
@@ -149,7 +152,10 @@ __all__ += [
     "RigidBody",
     "Unbalance",
     "describe_mode",
+    "harmonic_state",
     "mount_forces",
+    "mounted_skid",
+    "skid_results",
     "point_motion",
     "steady_amplitudes",
 ]

@@ -37,7 +37,7 @@ import sympy as sp
 from calckit.errors import ModelError
 from calckit.physics.isolation import STANDARD_GRAVITY
 from calckit.physics.multimass import MultiMass
-from calckit.physics.rigid_body import RigidBody, placement, skew
+from calckit.physics.rigid_body import Mount, RigidBody, placement, skew
 
 __all__ = [
     "COORDINATES",
@@ -46,7 +46,10 @@ __all__ = [
     "MountedBody",
     "Unbalance",
     "describe_mode",
+    "harmonic_state",
     "mount_forces",
+    "mounted_skid",
+    "skid_results",
     "point_motion",
     "steady_amplitudes",
 ]
@@ -376,4 +379,85 @@ def mount_forces(mounted: MountedBody, X: np.ndarray, speed: float) -> list[np.n
         c = np.array(mount.damping_matrix.tolist(), dtype=float)
         u = np.array(T.tolist(), dtype=float) @ X
         out.append(np.abs((k + 1j * float(speed) * c) @ u))
+    return out
+
+
+# ---------------------------------------------------------------------- one place for the sheet and the explorer
+def mounted_skid(
+    mass,
+    cg,
+    inertia,
+    mounts,
+    *,
+    stiffness,
+    damping,
+    axis="z",
+    rated_load=None,
+    rated_deflection=None,
+    sides=None,
+) -> MountedBody:
+    """A skid on mounts of one type, as the template ``machine_on_mounts`` and its what-if plan build it.
+
+    *inertia* is the 3 x 3 tensor about G, or ``"box"`` with *sides* (the uniform-box estimate);
+    *mounts* is ``[(name, (x, y, z)), ...]`` as :func:`~calckit.physics.rigid_body.read_point` reads them;
+    *stiffness* and *damping* are ``(axial, shear)`` of every mount, SI.
+    """
+    body = (
+        RigidBody.uniform_box(mass, cg, sides)
+        if isinstance(inertia, str) and inertia == "box"
+        else RigidBody(mass, cg, inertia)
+    )
+    return MountedBody(
+        body,
+        [
+            Mount(
+                name,
+                xyz,
+                stiffness,
+                damping,
+                axis=axis,
+                rated_load=rated_load,
+                rated_deflection=rated_deflection,
+            )
+            for name, xyz in mounts
+        ],
+    )
+
+
+def harmonic_state(mounted: MountedBody, unbalance: Unbalance) -> np.ndarray:
+    """The complex amplitudes ``X`` of the CG's steady state under the unbalance, numerically.
+
+    .. math:: (K - \\Omega^2 M + i \\Omega C) X = Q_c - i Q_s, \\qquad q = \\operatorname{Re}(X e^{i \\Omega t})
+
+    The receptance route (``numpy.linalg.solve``): the explorer's, and on the sheet the check of
+    the derivation's amplitudes.
+    """
+    M, C, K = mounted.float_matrices()
+    w = float(unbalance.speed)
+    Qc, Qs = (np.array(Q.tolist(), dtype=float).ravel() for Q in unbalance.generalized(mounted.body))
+    return np.linalg.solve(K - w**2 * M + 1j * w * C, Qc - 1j * Qs)
+
+
+def skid_results(mounted: MountedBody, unbalance: Unbalance, points=(), X=None) -> dict[str, float]:
+    """The results of the sheet ``machine_on_mounts`` by its names, SI (rad/s, N, m, rad).
+
+    ``omega_1`` .. ``omega_6``; ``P_<mount>``, ``delta_<mount>`` (static load and deflection);
+    ``amp_q1`` .. ``amp_q6`` (amplitudes of x, y, z, theta_x, theta_y, theta_z); ``point_<k>_<axis>``
+    for the named *points* ``[(name, xyz), ...]``; ``F_<mount>`` (dynamic force along the mount's
+    axis). *X* is the steady state's complex amplitudes (default: :func:`harmonic_state`).
+    """
+    X = harmonic_state(mounted, unbalance) if X is None else np.asarray(X)
+    omegas, _ = mounted.modes()
+    out = {f"omega_{j + 1}": float(w) for j, w in enumerate(omegas)}
+    _, loads = mounted.static()
+    for load in loads:
+        out[f"P_{load.name}"] = load.load
+        out[f"delta_{load.name}"] = load.deflection
+    out.update({f"amp_q{j + 1}": float(abs(X[j])) for j in range(6)})
+    for k, (_, xyz) in enumerate(points, start=1):
+        for axis_name, value in zip("xyz", point_motion(mounted.body, X, xyz), strict=True):
+            out[f"point_{k}_{axis_name}"] = float(value)
+    for mount, force in zip(mounted.mounts, mount_forces(mounted, X, float(unbalance.speed)), strict=True):
+        axial = np.array(mount.axial.tolist(), dtype=float).ravel()
+        out[f"F_{mount.name}"] = float(force[int(np.argmax(np.abs(axial)))])
     return out
