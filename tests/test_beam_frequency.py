@@ -5,7 +5,7 @@ References, independent of calckit:
   elements, consistent mass, 60 elements, the equipment as point masses at nodes), its fundamental
   by scipy.linalg.eigh: Rayleigh's quotient is an upper estimate of it, Dunkerley's a lower one;
 - the effective mass fractions 17/35 (simply supported, midspan), 13/35 (fixed-fixed, midspan) and
-  33/140 (cantilever, tip): W. T. Thomson, Theory of Vibration with Applications, 5th ed., sec. 2.5,
+  33/140 (cantilever, tip): W. T. Thomson, Theory of Vibration with Applications, 5th ed., ch. 2,
   from memory; off midspan, the same quotient from the FE model's static deflection and its consistent
   mass matrix (u^T M u is the exact integral of m' y^2 for the cubic shape the elements reproduce);
 - the beam alone: (beta L)^2 = pi^2, 22.373, 3.5160 (R. D. Blevins, Formulas for Natural Frequency
@@ -50,9 +50,9 @@ class TestEffectiveMass:
     @pytest.mark.parametrize(
         ("kind", "fraction"),
         [
-            ("simply supported", 17 / 35),  # Thomson 5th ed. sec. 2.5, from memory
+            ("simply supported", 17 / 35),  # Thomson 5th ed. ch. 2, from memory
             ("fixed-fixed", 13 / 35),  # from memory
-            ("cantilever", 33 / 140),  # Thomson 5th ed. sec. 2.5, from memory
+            ("cantilever", 33 / 140),  # Thomson 5th ed. ch. 2, from memory
         ],
     )
     def test_textbook_fractions(self, kind, fraction):
@@ -245,3 +245,12 @@ class TestRefusals:
         with pytest.raises(InputsError) as excinfo:
             beam_alone_frequency("fixed-fixed", **{**BEAM, "L": "1e100 m"})
         assert str(excinfo.value).startswith("E, I, L, beam_mass: the beam's own fundamental comes out as")
+
+
+def test_examples_in_the_docstrings():
+    """The module's docstring examples hold (doctest), so the examples a template copies stay true."""
+    import doctest
+
+    import calckit.physics.beam_frequency as module
+
+    assert doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE).failed == 0

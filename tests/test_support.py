@@ -358,3 +358,12 @@ class TestRefusals:
         assert _message(excinfo).startswith(
             "k_beam, k_iso: the ratio k_s / k_m comes out as inf with these inputs"
         )
+
+
+def test_examples_in_the_docstrings():
+    """The module's docstring examples hold (doctest), so the examples a template copies stay true."""
+    import doctest
+
+    import calckit.physics.support as module
+
+    assert doctest.testmod(module, optionflags=doctest.NORMALIZE_WHITESPACE).failed == 0

@@ -19,8 +19,8 @@ References
 W. C. Young, R. G. Budynas, *Roark's Formulas for Stress and Strain*, 7th ed., Table 8.1, cases 1a,
 1d, 1e (the deflected shape under a point load) and 2a, 2d, 2e (under a uniform load), from memory.
 Rayleigh's quotient and Dunkerley's formula: W. T. Thomson, *Theory of Vibration with
-Applications*, 5th ed., sec. 2.5 (effective mass, ``17/35`` of a simply supported beam's mass)
-and sec. 7.6-7.7, from memory. A beam's own fundamental ``(beta L)^2 sqrt(E I / (m' L^4))``
+Applications*, 5th ed., ch. 2 (Rayleigh's method, effective mass, ``17/35`` of a simply supported
+beam's mass) and ch. 7 (Dunkerley's formula), from memory (section numbers not checked). A beam's own fundamental ``(beta L)^2 sqrt(E I / (m' L^4))``
 with ``cos(beta L) cosh(beta L) = 1`` (fixed-fixed) or ``= -1`` (cantilever): R. D. Blevins,
 *Formulas for Natural Frequency and Mode Shape*, Table 8-1, from memory.
 
@@ -124,7 +124,7 @@ def effective_mass_fraction(kind: str, *, L: Any, a: Any = None, names=None) -> 
     deflection shape under it: ``mu = int y(x)^2 dx / (L y(a)^2)``.
 
     ``17/35`` for a simply supported beam and ``13/35`` for a fixed-fixed one with the mass at midspan,
-    ``33/140`` for a cantilever with it at the tip (Thomson 5th ed. sec. 2.5, from memory).
+    ``33/140`` for a cantilever with it at the tip (Thomson 5th ed. ch. 2, from memory).
 
     Examples
     --------

@@ -7,6 +7,7 @@ frequency by ``sqrt(k_e / k_m) = 1 / sqrt(1 + k_m / k_s)``. This module holds:
 * the closed forms of the support's stiffness at a point load (:data:`STIFFNESS_FORMULAS`,
   :func:`beam_stiffness`, :func:`portal_sway_stiffness`): a beam simply supported, fixed at both
   ends, a cantilever, and the sway of a portal frame (two equal columns, a beam between them);
+* the flexibility matrix of several mounts that share one beam (:func:`beam_flexibility`);
 * the support in series with the mount and the frequency it leaves (:func:`support_effect`),
   and the check that the support is stiff enough (:func:`support_check`, against
   :data:`LEAST_SUPPORT_RATIO` or a ratio an inputs file gives).
@@ -31,7 +32,8 @@ References
 ----------
 W. C. Young, R. G. Budynas, *Roark's Formulas for Stress and Strain*, 7th ed., McGraw-Hill 2002,
 Table 8.1, case 1 (a concentrated intermediate load): 1a (left end free, right end fixed: the
-cantilever), 1d (both ends fixed), 1e (both ends simply supported), from memory.
+cantilever), 1d (both ends fixed), 1e (both ends simply supported), from memory (the case letters
+not checked against the book; the formulas are checked against a finite-element model in the tests).
 The portal's sway with a flexible beam: the slope-deflection method for an antisymmetric sway,
 joint rotations equal (any text on the stiffness method, e.g. A. K. Chopra, *Dynamics of
 Structures*, 4th ed., sec. 1.3, from memory); it gives ``24 E I_c / h^3`` for a rigid beam on
