@@ -47,8 +47,30 @@ _PUBLIC = {
     "calckit.physics.absorber": ("equal_peak_tuning",),
     "calckit.physics.interference": ("PairSeparation", "RangeSeparation", "range_separation"),
     "calckit.physics.speed_range": ("SpeedRange",),
+    "calckit.physics.amplitude": (
+        "AMPLITUDE_CONVENTIONS", "amplitude_convention", "convention_factor", "convention_formula", "convention_text",
+        "harmonic_sum_formula", "harmonic_sum_rms", "in_convention", "motion_formula", "sum_in_convention",
+    ),
+    "calckit.physics.criteria_tables": (
+        "CriterionCurve", "criterion_curve", "criterion_curves", "load_criteria", "SeverityClass", "SeverityZone",
+        "severity_class", "severity_classes", "severity_zone", "third_octave_band", "third_octave_bands",
+    ),
+    "calckit.physics.band_response": ("BandRow", "band_response", "read_spectrum", "worst_band"),
+    "calckit.physics.rigid_body": ("Mount", "RigidBody"),
+    "calckit.physics.mounts": (
+        "describe_mode", "MountedBody", "mount_forces", "point_motion", "steady_amplitudes", "Unbalance",
+    ),
     "calckit.physics.records": ("history_response", "load_time_history", "TimeHistory"),
     "calckit.physics.shock": ("record_spectrum",),
+    "calckit.physics.support": (
+        "BEAM_KINDS", "beam_flexibility", "beam_stiffness", "LEAST_SUPPORT_RATIO", "PORTAL_BASES", "PORTAL_FORMULAS", "portal_sway_stiffness",
+        "SERIES_FORMULAS", "series_stiffness", "STIFFNESS_FORMULAS", "stiffness_formula", "support_check",
+        "support_effect", "SUPPORT_KINDS", "support_stiffness", "SUPPORT_RATIO_BASIS", "SupportCheck", "SupportEffect",
+    ),
+    "calckit.physics.beam_frequency": (
+        "beam_alone_frequency", "BEAM_FREQUENCY_FORMULAS", "beam_with_mass_frequency", "BeamFrequency",
+        "dunkerley_estimate", "dunkerley_formula", "DunkerleyEstimate", "effective_mass_fraction", "rayleigh_frequency",
+    ),
     "calckit.physics.pulse_spectrum": ("pulse_spectrum",),
     "calckit.physics.spectrum": ("log_frequencies", "ShockSpectrum"),
     "calckit.physics.pulses": (

@@ -74,6 +74,13 @@ CASES = {
         "equipment acceleration",
         ("met", "not met"),
     ),
+    # mounts rated 7.2 kN: the heaviest-loaded mount, M6 under the offset motor (7.58 kN), is over its rating
+    "machine_on_mounts": (
+        "harrow_creek_b207_mounts.toml",
+        {"mount_rated_load": '"7.2 kN"'},
+        "static load of M6",
+        ("met", "not met"),
+    ),
 }
 
 #: template -> (example inputs, the input holding the running or forcing frequency in rpm)
@@ -212,7 +219,14 @@ class TestSources:
         sources = dict(read_inputs(EXAMPLES / example).sources)
         shown = {i["name"]: i["source"] for i in base["inputs"]}
         assert {n for n, s in shown.items() if s == example} == PLAIN.get(template, set())
-        assert all(shown[name] == source for name, source in sources.items())
+        # a group input ("x = 0.18 m; y = 0.03 m; z = 0.62 m") is shown through its members, each described
+        # "... (name)" with the group's source, as the build itself reads it (calckit.workflow.build)
+        members = {}
+        for i in base["inputs"]:
+            group = str(i["description"]).rpartition("(")[2].rstrip(")")
+            members.setdefault(group, set()).add(i["source"])
+        assert all(shown[name] == source if name in shown else members.get(name) == {source}
+                   for name, source in sources.items())
         moved_shown = {i["name"]: i["source"] for i in moved["inputs"]}
         assert {n for n, s in moved_shown.items() if s == f"{template}_moved.toml"} == set(
             changes
@@ -257,6 +271,21 @@ class TestFrequencyInHz:
 
 class TestMachineOnIsolators:
     example = "harrow_creek_p101_isolators.toml"
+
+    def test_severity_zone(self, built):
+        """V_rms = Omega X / sqrt(2) with X from the book's unbalance response (Rao 5th ed., sec. 3.7, from
+        memory), judged by ISO 10816-3:2009 Table A.2, group 2 flexible: A/B 2.3, B/C 4.5 mm/s (from memory)."""
+        v, record = _inputs(self.example), built["machine_on_isolators"][0]
+        res, check = _results(record), _check(record, "machine vibration severity")
+        m, k, zeta = _si(v, "machine_mass"), _si(v, "isolator_stiffness"), v["damping_ratio"]
+        W = angular_frequency(quantity(v["running_speed"], "W"), "W")
+        U = _si(v, "rotor_mass") * _si(v, "balance_grade") / W  # G = e Omega at the running speed
+        X = U * W**2 / math.sqrt((k - m * W**2) ** 2 + (2 * zeta * math.sqrt(k * m) * W) ** 2)
+        assert res["V_rms"] == pytest.approx(W * X / math.sqrt(2), rel=3e-3)
+        assert res["severity_zone"] == "zone A" and W * X / math.sqrt(2) < 2.3e-3
+        assert check["limit"] == pytest.approx(4.5) and check["unit"] == "mm/s"
+        assert "ISO 10816-3:2009, Annex A, Table A.2 (from memory)" in check["basis"]
+        assert "zone found: A" in check["basis"]
 
     def test_natural_frequency_and_deflection(self, built):
         """omega_n = sqrt(k/m) and delta_st = m g / k, computed here from the inputs."""
@@ -381,6 +410,35 @@ class TestEquipmentOnVibratingFloor:
         Z = (w / wn) ** 2 * Y / math.sqrt((1 - (w / wn) ** 2) ** 2 + (2 * zeta * w / wn) ** 2)
         assert res["Z"] == pytest.approx(Z, rel=2e-3)  # Rao 5th ed., sec. 3.6.2, from memory
 
+    def test_criterion_curve_band_by_band(self, built):
+        """The worst band's rms velocity and its limit: each harmonic through the book transmissibility, the
+        band's rms as the rms of the sampled signal (numpy), the limit 4 x the ISO 2631-2:1989 base curve."""
+        v, record = _inputs(self.example), built["equipment_on_vibrating_floor"][0]
+        res, check = _results(record), _check(record, "criterion curve, worst band")
+        m, k, zeta = _si(v, "equipment_mass"), _si(v, "mount_stiffness"), v["damping_ratio"]
+        f_n = math.sqrt(k / m) / (2 * math.pi)
+        f_1 = angular_frequency(quantity(v["floor_frequency"], "f"), "f") / (2 * math.pi)  # 740 rpm, 12.33 Hz
+        assert v["floor_velocity_convention"] == "peak" and v["criterion_curve"] == "ISO office"
+        # the 12.5 Hz band (11.2 Hz to 14.1 Hz, IEC 61260-1 base-ten edges) holds the running-speed harmonic alone
+        V_1 = _book_transmissibility(f_1 / f_n, zeta) * _si(v, "floor_velocity")
+        t = np.linspace(0.0, 100 / f_1, 200_001)
+        sampled_rms = np.sqrt(np.mean((V_1 * np.sin(2 * np.pi * f_1 * t)) ** 2))
+        assert res["V_band"] == pytest.approx(sampled_rms, rel=2e-3)
+        # ISO 2631-2:1989 base curve (z-axis) above 8 Hz: a = 5e-3 m/s^2 * f / 8 Hz, so v = 5e-3 / (2 pi 8 Hz);
+        # offices 4 x the base curve, Annex A, Table A.1 (from memory)
+        assert check["limit"] == pytest.approx(4 * 5e-3 / (2 * math.pi * 8) * 1e6, rel=1e-9)  # um/s
+        assert check["unit"] == "um/s" and check["verdict"] == "met"
+        assert "ISO 2631-2:1989, Annex A, Table A.1" in check["basis"] and "(from memory)" in check["basis"]
+        table = next(t for t in record["tables"] if t["caption"].startswith("One-third-octave bands"))
+        assert [row[0] for row in table["rows"]] == ["12.5", "25", "40"]  # 1x, 2x, 3x of 740 rpm
+
+    def test_limit_compared_in_its_convention(self, built):
+        """The maker's limit is a peak: the check says so and compares the peak velocity V = omega X."""
+        record = built["equipment_on_vibrating_floor"][0]
+        check = _check(record, "equipment velocity")
+        assert check["basis"].endswith("; compared as peak")
+        assert check["value"] == pytest.approx(_results(record)["V"] * 1000, rel=1e-3)  # mm/s, as carried
+
 
 class TestArbitraryForcing:
     example = "harrow_creek_ps512_surge.toml"
@@ -432,7 +490,6 @@ class TestArbitraryForcing:
         message = str(caught.value)
         assert "forcing" in message and "does not give a force" in message and "cos(2*w*t)" in message
 
-
     def test_forcing_in_names_of_ones_own(self, tmp_path):
         """forcing_parameters names the forcing's parameters; Hz is read as cycles (2 pi rad); the peak
         agrees with scipy.integrate.solve_ivp of the same equation written out here."""
@@ -440,9 +497,14 @@ class TestArbitraryForcing:
 
         text = (EXAMPLES / self.example).read_text(encoding="utf-8")
         text = _changed(text, "forcing", '"P*exp(-t/tau)*sin(Omega*t)"')
-        text = "\n".join(line for line in text.splitlines() if line.split("=")[0].strip() not in ("F0", "F1", "a", "w"))
-        text = text.replace("[start]", '[own]\nforcing_parameters = { value = "P = 1.5 kN; tau = 0.3 s; Omega = 9 Hz", '
-                            'source = "Surge analysis HCW-HYD-012 rev A (invented)" }\n\n[start]')
+        text = "\n".join(
+            line for line in text.splitlines() if line.split("=")[0].strip() not in ("F0", "F1", "a", "w")
+        )
+        text = text.replace(
+            "[start]",
+            '[own]\nforcing_parameters = { value = "P = 1.5 kN; tau = 0.3 s; Omega = 9 Hz", '
+            'source = "Surge analysis HCW-HYD-012 rev A (invented)" }\n\n[start]',
+        )
         inputs = tmp_path / "own.toml"
         inputs.write_text(text, encoding="utf-8")
         build_sheet("arbitrary_forcing", inputs, tmp_path / "out")
@@ -485,7 +547,10 @@ class TestSingleMassHarmonic:
             build_sheet("single_mass_harmonic", path, tmp_path / "out")
         assert caught.value.user_error and caught.value.ename == "ModelError"
         message = str(caught.value)
-        assert "undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound" in message
+        assert (
+            "undamped at exact resonance (r = 1, zeta = 0) the steady amplitude grows without bound"
+            in message
+        )
         assert "Add damping (zeta > 0) or move the speed off the natural frequency" in message
         assert "zero in a denominator" not in message and "report" not in message
         assert not (tmp_path / "out").exists()
@@ -613,7 +678,11 @@ class TestPeriodicLoad:
         for item in record["results"]:
             assert item["working"]["kind"] in kinds and item["working"]["text"].strip(), item["name"]
         res = _results(record)
-        pieces = [(0, t1, lambda s: P * s / t1), (t1, t1 + t2, lambda s: P), (t1 + t2, t1 + t2 + t3, lambda s: P * (t1 + t2 + t3 - s) / t3)]
+        pieces = [
+            (0, t1, lambda s: P * s / t1),
+            (t1, t1 + t2, lambda s: P),
+            (t1 + t2, t1 + t2 + t3, lambda s: P * (t1 + t2 + t3 - s) / t3),
+        ]
         ms = sum(quad(lambda s, g=g: g(s) ** 2, lo, hi)[0] for lo, hi, g in pieces) / T
         assert res["mean_square"] == pytest.approx(ms, rel=1e-9)
         k = _si(v, "frame_stiffness")
@@ -623,7 +692,9 @@ class TestPeriodicLoad:
         assert by_name["peak_displacement"]["working"]["kind"] == "procedure"
         assert "4001" in by_name["peak_displacement"]["working"]["text"]
         checks = [c for c in record["checks"] if c["name"].startswith("independent check")]
-        assert len(checks) == 2 and all(c["verdict"] == "met" for c in checks)  # the Fourier sum and the exact solution
+        assert len(checks) == 2 and all(
+            c["verdict"] == "met" for c in checks
+        )  # the Fourier sum and the exact solution
 
     def test_exact_periodic_peak_against_solve_ivp(self, built):
         """The exact periodic peak against scipy.integrate.solve_ivp through 30 strokes of the load itself
@@ -639,14 +710,23 @@ class TestPeriodicLoad:
         state, peak = [0.0, 0.0], 0.0
         for stroke in range(30):
             for lo, hi, g in zip(edges[:-1], edges[1:], loads, strict=True):
-                sol = solve_ivp(lambda s, y, g=g: [y[1], (g(s) - c * y[1] - k * y[0]) / m], (lo, hi), state,
-                                method="DOP853", rtol=1e-11, atol=1e-14, dense_output=True)
+                sol = solve_ivp(
+                    lambda s, y, g=g: [y[1], (g(s) - c * y[1] - k * y[0]) / m],
+                    (lo, hi),
+                    state,
+                    method="DOP853",
+                    rtol=1e-11,
+                    atol=1e-14,
+                    dense_output=True,
+                )
                 if stroke == 29:
                     peak = max(peak, float(np.max(np.abs(sol.sol(np.linspace(lo, hi, 2001))[0]))))
                 state = sol.y[:, -1]
         assert res["peak_displacement_exact"] == pytest.approx(peak, rel=1e-5)
         assert res["peak_displacement"] < res["peak_displacement_exact"]
-        assert _check(built["periodic_load"][0], "frame displacement")["value"] == pytest.approx(peak * 1000, rel=1e-5)
+        assert _check(built["periodic_load"][0], "frame displacement")["value"] == pytest.approx(
+            peak * 1000, rel=1e-5
+        )
 
 
 def _b402_record() -> tuple[np.ndarray, np.ndarray]:
@@ -839,3 +919,87 @@ class TestShockPulse:
         message = str(caught.value)
         assert '"square" is not a pulse this template knows' in message and "pulse_shape" in message
         assert "half_sine, versed_sine, triangle" in message
+
+class TestMachineOnMounts:
+    """The skid on six mounts against matrices built here from the example's inputs."""
+
+    example = "harrow_creek_b207_mounts.toml"
+
+    def _matrices(self):
+        """M and K built here: each spring along d at arm r stretches by d.x + theta.(r x d) (triple product)."""
+        from calckit.core.expressions import parse_parameters
+
+        v = _inputs(self.example)
+        def point(text):
+            pairs = parse_parameters(text.split(":")[-1], where="p").values()
+            return [float(to_si(q, "p").magnitude) for q in pairs]
+
+        m = _si(v, "machine_mass")
+        cg = np.array(point(v["centre_of_gravity"]))
+        J = {
+            k: float(to_si(q, k).magnitude)
+            for k, q in parse_parameters(v["inertia_tensor"], where="J").items()
+        }
+        M = np.zeros((6, 6))
+        M[:3, :3] = m * np.eye(3)
+        M[3:, 3:] = [
+            [J["Jxx"], J["Jxy"], J["Jxz"]],
+            [J["Jxy"], J["Jyy"], J["Jyz"]],
+            [J["Jxz"], J["Jyz"], J["Jzz"]],
+        ]
+        ka, ks = _si(v, "mount_axial_stiffness"), _si(v, "mount_shear_stiffness")
+        K = np.zeros((6, 6))
+        mounts = [np.array(point(v[f"mount_{i}"])) for i in range(1, 7)]
+        for p in mounts:
+            r = p - cg
+            for d, k in (
+                (np.array([1.0, 0, 0]), ks),
+                (np.array([0, 1.0, 0]), ks),
+                (np.array([0, 0, 1.0]), ka),
+            ):
+                g = np.concatenate([d, np.cross(r, d)])
+                K += k * np.outer(g, g)
+        return v, m, cg, M, K, mounts
+
+    def test_six_frequencies_against_scipy_eigh(self, built):
+        """omega_1..6 on the sheet against scipy.linalg.eigh(K, M) of matrices built here."""
+        import scipy.linalg
+
+        *_, M, K, _ = self._matrices()
+        res = _results(built["machine_on_mounts"][0])
+        w = np.sqrt(scipy.linalg.eigh(K, M, eigvals_only=True))
+        assert [res[f"omega_{j}"] for j in range(1, 7)] == pytest.approx(list(w), rel=1e-9)
+
+    def test_static_loads_balance_the_weight(self, built):
+        """The six static loads hold m g_n and balance its moment about G (statics)."""
+        v, m, cg, _, _, mounts = self._matrices()
+        res = _results(built["machine_on_mounts"][0])
+        P = np.array([res[f"P_M{i}"] for i in range(1, 7)])
+        arms = np.array(mounts) - cg
+        assert P.sum() == pytest.approx(m * G_N, rel=1e-9)
+        assert abs(P @ arms[:, 0]) < 1e-6 * m * G_N and abs(P @ arms[:, 1]) < 1e-6 * m * G_N
+        assert res["delta_M6"] == pytest.approx(res["P_M6"] / _si(v, "mount_axial_stiffness"), rel=1e-9)
+
+    def test_unbalance_moment_against_numpy_cross(self, built):
+        """The moment steps of the unbalance force about G against numpy.cross of the arm and the force."""
+        res = _results(built["machine_on_mounts"][0])
+        arm = np.array([res["r_Ux"], res["r_Uy"], res["r_Uz"]])
+        F0 = res["F_0"]
+        for part, F in (("c", [0, F0, 0]), ("s", [0, 0, F0])):
+            got = [res[f"M_{a}_{part}"] for a in "xyz"]
+            assert got == pytest.approx(list(np.cross(arm, F)), rel=1e-3, abs=1e-3 * F0)
+
+    def test_support_against_roark(self, built):
+        """The floor beam's stiffness under a mount against Roark's simply supported beam with a point load,
+        k = 3 E I L / (a^2 b^2) (Young and Budynas, Roark's Formulas for Stress and Strain, 7th ed., Table 8.1,
+        case 1e, from memory), and the support check's ratio against the mount's axial stiffness."""
+        v = _inputs(self.example)
+        E = float(to_si(quantity(v["support_modulus"], "E"), "E").magnitude)
+        I = float(to_si(quantity(v["support_second_moment"], "I"), "I").magnitude)  # noqa: E741
+        L, a = _si(v, "support_span"), _si(v, "support_load_position")
+        k = 3 * E * I * L / (a**2 * (L - a) ** 2)
+        res = _results(built["machine_on_mounts"][0])
+        assert res["k_support"] == pytest.approx(k, rel=1e-3)
+        check = _check(built["machine_on_mounts"][0], "support stiffness")
+        assert check["value"] == pytest.approx(k / _si(v, "mount_axial_stiffness"), rel=2e-3)
+        assert check["verdict"] == "met" and check["limit"] == v["support_stiffness_ratio"]

@@ -131,6 +131,8 @@ _KIND_LIST = (
     ),
     Kind("pressure", "a", "Pa", "Pa", ("Pa", "kPa", "bar", "psi"), "250 kPa"),
     Kind("power", "a", "W", "W", ("W", "kW", "hp"), "7.5 kW"),
+    Kind("moment of inertia", "a", "kg*m**2", "kg*m**2", ("kg*m**2", "lb*ft**2"), "620 kg*m**2"),
+    Kind("second moment of area", "a", "m**4", "m**4", ("mm**4", "cm**4", "in**4"), "8360 cm**4"),
 )
 #: Named kinds of quantity, by name: the values ``expect=`` accepts.
 KINDS: dict[str, Kind] = {k.name: k for k in _KIND_LIST}
@@ -139,7 +141,7 @@ KINDS: dict[str, Kind] = {k.name: k for k in _KIND_LIST}
 _COMMON_UNITS = (
     "kg g t lb oz m mm cm um in ft s ms min h N kN MN lbf kip N/m N/mm kN/m kN/mm lbf/in "
     "N*s/m N*s/mm lbf*s/in Hz kHz rpm cpm rad/s rad deg m/s mm/s in/s m/s**2 g_n "
-    "g*mm kg*m oz*in Pa kPa MPa bar psi W kW hp"
+    "g*mm kg*m oz*in Pa kPa MPa GPa bar psi W kW hp mm**4 cm**4 in**4"
 ).split()
 
 _NUMBER = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)(.*)", re.DOTALL)

@@ -9,7 +9,7 @@ compiled numbers. The trade's models (:mod:`calckit.physics`) hand their
 equations to this layer.
 """
 
-from calckit.engine.algebra import LAMBDA, is_zero, plain, real_imag, tidy
+from calckit.engine.algebra import LAMBDA, is_zero, plain, polynomial_determinant, real_imag, tidy
 from calckit.engine.crosscheck import PeakComparison, compare_peak, compare_sampled_peak
 from calckit.engine.derivation import Derivation, LinearOperator, ScalarOperator
 from calckit.engine.forcing import ExponentGroup, ForcingSplit, ForcingTerm, resolve_time, split_forcing
@@ -78,6 +78,7 @@ __all__ = [
     "piecewise_particular",
     "piecewise_response",
     "plain",
+    "polynomial_determinant",
     "real_imag",
     "resolve_time",
     "scalar_solver",

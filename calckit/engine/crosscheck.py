@@ -149,6 +149,22 @@ def _functions(exprs: Sequence[sp.Expr], t: sp.Symbol, label: str):
     return out
 
 
+def _row_function(exprs: Sequence[sp.Expr], t: sp.Symbol):
+    """All forcing rows as one compiled function of a scalar time, returning a float array.
+
+    One ``lambdify`` of the list rather than one per row: ``solve_ivp`` calls the right-hand
+    side with a scalar time thousands of times, and per-row calls with ``broadcast_to`` took
+    most of a 6-DOF check (benchmarks/RESULTS_MOUNTS.md). The rows are checked by
+    :func:`_functions` first.
+    """
+    numbers = [
+        sp.sympify(e).replace(lambda x: x.is_number and x.is_real and not x.is_Float, lambda x: sp.Float(x, 17))
+        for e in exprs
+    ]
+    f = sp.lambdify(t, numbers, modules=["numpy"])
+    return lambda tt: np.asarray(f(tt), dtype=float)
+
+
 def integrate_motion(
     mass, damping, stiffness, forcing, t, x0, v0, times, *, breaks=(), rtol=1e-10, atol=None
 ):
@@ -177,7 +193,8 @@ def integrate_motion(
             where="independent check",
             do="Give one per coordinate",
         )
-    f_num = _functions(rows, t, "forcing")
+    _functions(rows, t, "forcing")  # refuses a row that still holds a symbol but t
+    f_all = _row_function(rows, t)
     x_start = np.ravel(np.asarray(x0, float)) * np.ones(n)
     v_start = np.ravel(np.asarray(v0, float)) * np.ones(n)
     times = np.asarray(times, float)
@@ -185,7 +202,7 @@ def integrate_motion(
 
     def rhs(tt, y):
         x, v = y[:n], y[n:]
-        f = np.array([fn(tt) for fn in f_num], dtype=float)
+        f = f_all(tt)
         return np.concatenate([v, m_inv @ (f - C @ v - K @ x)])
 
     edges = sorted({0.0, float(times[-1])} | {float(b) for b in breaks if 0 < float(b) < times[-1]})

@@ -185,8 +185,10 @@ class Explorer(_Plots, _Sliders):
 
     def _frequency_range(self) -> tuple[float, float]:
         freq = self._inputs["forcing_frequency"]
-        m, k = self._inputs["mass"], self._inputs["stiffness"]
-        wn = math.sqrt(k.si / m.si) / freq.factor  # display unit
+        m, k = self._inputs["mass"].si, self._inputs["stiffness"].si
+        if self.plan.equivalent is not None:
+            m, _, k = self.plan.equivalent(self._si_values({}), self._fixed)
+        wn = math.sqrt(k / m) / freq.factor  # display unit
         lo = 0.1 * min(freq.start, wn)
         hi = 3.0 * max(freq.start, wn)
         return lo, hi
@@ -216,7 +218,10 @@ class Explorer(_Plots, _Sliders):
         """The key results at the current values: compiled functions only, no sympy."""
         values = self._si_values({})
         m, k, w = values["mass"], values["stiffness"], values["forcing_frequency"]
-        if "damping_ratio" in values:
+        if self.plan.equivalent is not None:  # a model that is not one mass: the one mass its plot shows
+            m, c, k = self.plan.equivalent(values, self._fixed)
+            zeta = c / (2.0 * math.sqrt(k * m))
+        elif "damping_ratio" in values:
             zeta = values["damping_ratio"]
             c = 2.0 * zeta * math.sqrt(k * m)
         else:

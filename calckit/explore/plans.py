@@ -23,6 +23,13 @@ template                 entry
                          efficiency, frequency ratio >= 3, speed separation,
                          motion during the run-up; transmissibility curve, run-up
                          history
+``machine_on_mounts``    force from the rotor as above; results through
+                         :func:`calckit.physics.mounts.skid_results` (six modes,
+                         static load per mount, motion at the named points, force
+                         per mount); checks: the most loaded mount against its
+                         rating, the point that moves most, the mode nearest
+                         running speed; the plot and time history show the
+                         bounce alone (``equivalent``)
 =======================  ====================================================
 
 A template not in the table is read by parameter names as the single-mass entry.
@@ -36,6 +43,7 @@ from types import MappingProxyType
 from typing import Any
 
 from calckit.errors import InputsError
+from calckit.explore import mount_results as _m
 from calckit.explore import results as _r
 from calckit.explore.values import Role
 from calckit.physics.criteria import SEPARATION_BASIS
@@ -104,6 +112,31 @@ ROLES: Mapping[str, Role] = MappingProxyType(
             Role(
                 "movement_limit_basis", None, ("movement_limit_basis",), "basis of the movement limit", "", ""
             ),
+            # a rigid body on mounts (machine_on_mounts): the mounts' shear springs, ratings, and the layout as text
+            Role("shear_stiffness", "stiffness", ("mount_shear_stiffness",), "shear stiffness", scale="log"),
+            Role(
+                "shear_damping",
+                "damping coefficient",
+                ("mount_shear_damping",),
+                "shear damping",
+                "non-negative",
+                scale="",
+            ),
+            Role("rated_load", "force", ("mount_rated_load",), "rated load", scale=""),
+            Role("rated_deflection", "length", ("mount_rated_deflection",), "rated deflection", scale=""),
+            *(
+                Role(key, None, (key,), key.replace("_", " "), "", "")
+                for key in (
+                    "centre_of_gravity",
+                    "inertia",
+                    "box_sides",
+                    "inertia_tensor",
+                    "mount_axis",
+                    "unbalance_position",
+                    *(f"mount_{i}" for i in range(1, 7)),
+                    *(f"point_{i}" for i in range(1, 4)),
+                )
+            ),  # fmt: skip
         )
     }
 )
@@ -147,6 +180,9 @@ class Plan:
         (run-up from rest through resonance, then running speed).
     separation_basis : str
         Basis of the speed-separation check.
+    equivalent : callable or None
+        ``equivalent(values, texts) -> (m, c, k)``: the one mass the plot and the time history
+        show, for a model that is not one mass (None: the mass, damping and stiffness by role).
     takes_only : mapping
         Template parameters the plan computes at one value only (parameter -> that value,
         compared as lower-case text); other values are refused, so that the explorer
@@ -168,6 +204,7 @@ class Plan:
     history: str
     separation_basis: str = SEPARATION_BASIS
     takes_only: Mapping[str, str] = field(default_factory=lambda: MappingProxyType({}))
+    equivalent: Callable[..., tuple[float, float, float]] | None = None
 
     def roles(self) -> tuple[str, ...]:
         """Every role the entry knows, required first."""
@@ -187,6 +224,27 @@ _ISOLATOR_SLIDERS = (
     "balance_grade",
     "run_up_time",
 )
+
+#: machine_on_mounts: the roles on sliders, the template's names of the roles, the layout as text
+_MOUNT_SLIDERS = ("mass", "stiffness", "shear_stiffness", "forcing_frequency", "rotor_mass", "balance_grade")
+_MOUNT_NAMES = {
+    "mass": "machine_mass",
+    "stiffness": "mount_axial_stiffness",
+    "shear_stiffness": "mount_shear_stiffness",
+    "damping": "mount_axial_damping",
+    "shear_damping": "mount_shear_damping",
+    "forcing_frequency": "running_speed",
+    "rotor_mass": "rotor_mass",
+    "balance_grade": "balance_grade",
+    "amplitude_limit": "motion_limit",
+    "amplitude_limit_basis": "motion_limit_basis",
+    "rated_load": "mount_rated_load",
+    "rated_deflection": "mount_rated_deflection",
+}
+_MOUNT_TEXTS = (
+    "centre_of_gravity", "inertia", "box_sides", "inertia_tensor", "mount_axis", "unbalance_position",
+    *(f"mount_{i}" for i in range(1, 7)), *(f"point_{i}" for i in range(1, 4)),
+)  # fmt: skip
 
 #: The templates the explorer supports, one entry each (see the module notes).
 PLANS: Mapping[str, Plan] = MappingProxyType(
@@ -260,6 +318,31 @@ PLANS: Mapping[str, Plan] = MappingProxyType(
                         "excitation_orders": "1",
                     }
                 ),
+            ),
+            Plan(
+                template="machine_on_mounts",
+                names=MappingProxyType({**_MOUNT_NAMES, **{k: k for k in _MOUNT_TEXTS}}),
+                required=(
+                    *_MOUNT_SLIDERS,
+                    "damping",
+                    "shear_damping",
+                    "amplitude_limit",
+                    "amplitude_limit_basis",
+                    "rated_load",
+                    "rated_deflection",
+                    *_MOUNT_TEXTS,
+                ),  # fmt: skip
+                optional=(),
+                sliders=_MOUNT_SLIDERS,
+                force=_r._unbalance_force,
+                results=_m._mount_results,
+                carry=None,
+                checks=(_m._static_load_check, _m._point_motion_check, _m._nearest_mode_check),
+                refuse=None,
+                rows=_m._mount_rows,
+                curve="amplitude",
+                history="steady",
+                equivalent=_m._bounce,
             ),
         )
     }

@@ -132,3 +132,36 @@ from calckit.physics.interference import PairSeparation, RangeSeparation, range_
 from calckit.physics.speed_range import SpeedRange  # noqa: E402
 
 __all__ += ["PairSeparation", "RangeSeparation", "SpeedRange", "range_separation"]
+
+from calckit.physics.mounts import (  # noqa: E402
+    MOMENT_FORMULAS,
+    MountedBody,
+    MountLoad,
+    Unbalance,
+    describe_mode,
+    harmonic_state,
+    mount_forces,
+    mounted_skid,
+    point_motion,
+    skid_results,
+    steady_amplitudes,
+)
+from calckit.physics.rigid_body import BOX_INERTIA_FORMULAS, Mount, RigidBody, read_point  # noqa: E402
+
+__all__ += [
+    "BOX_INERTIA_FORMULAS",
+    "read_point",
+    "MOMENT_FORMULAS",
+    "Mount",
+    "MountLoad",
+    "MountedBody",
+    "RigidBody",
+    "Unbalance",
+    "describe_mode",
+    "harmonic_state",
+    "mount_forces",
+    "mounted_skid",
+    "skid_results",
+    "point_motion",
+    "steady_amplitudes",
+]

@@ -22,7 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 import sympy as sp
 
-from calckit.engine import float_matrix, is_zero, tidy
+from calckit.engine import float_matrix, is_zero, polynomial_determinant, tidy
 from calckit.errors import ModelError
 
 __all__ = [
@@ -96,7 +96,7 @@ def first_positive(vector: list) -> list:
 
 def _exact_modes(model) -> Modes | None:
     n = model.size
-    poly = sp.Poly(sp.expand((model.K - _MU * model.M).det(method="berkowitz")), _MU)
+    poly = sp.Poly(polynomial_determinant(model.K - _MU * model.M), _MU)
     symbolic = bool(model.parameters)
     if not symbolic:
         _, factors = sp.factor_list(poly)

@@ -48,6 +48,7 @@ from calckit.engine import (
     is_zero,
     piecewise_particular,
     piecewise_response,
+    polynomial_determinant,
     resolve_time,
 )
 from calckit.errors import ModelError
@@ -287,7 +288,7 @@ class MultiMass:
 
     def characteristic_polynomial(self, variable: sp.Symbol = LAMBDA) -> sp.Expr:
         """``det Z(lambda)``, a polynomial of degree 2n."""
-        return sp.expand(self.dynamic_stiffness(variable).det(method="berkowitz"))
+        return polynomial_determinant(self.dynamic_stiffness(variable))
 
     def __repr__(self) -> str:
         return f"MultiMass(M={self.M.tolist()}, C={self.C.tolist()}, K={self.K.tolist()})"
@@ -469,14 +470,20 @@ class MultiMass:
         return derive(VectorStrategy(self), F, t)
 
     def _switching_column(self, F) -> sp.ImmutableMatrix:
-        rows = list(F) if isinstance(F, sp.MatrixBase) else [r[0] if isinstance(r, (list, tuple)) else r for r in F]
+        rows = (
+            list(F)
+            if isinstance(F, sp.MatrixBase)
+            else [r[0] if isinstance(r, (list, tuple)) else r for r in F]
+        )
         if len(rows) != self.size:
             raise ModelError(
                 f"the forcing has {len(rows)} entries for a model of {self.size} coordinates",
                 where="forcing",
                 do=f"Give one forcing entry per coordinate, {self.size} in all (0 where no force acts)",
             )
-        return sp.ImmutableMatrix(self.size, 1, [exact(r, where=f"forcing row {i + 1}") for i, r in enumerate(rows)])
+        return sp.ImmutableMatrix(
+            self.size, 1, [exact(r, where=f"forcing row {i + 1}") for i, r in enumerate(rows)]
+        )
 
     def interval_solver(self) -> IntervalSolver:
         """One interval of a switching forcing: the modal total response from the state (x, x')."""

@@ -294,7 +294,8 @@ def load_time_history(
     --------
     >>> import os, tempfile
     >>> p = os.path.join(tempfile.mkdtemp(), "r.csv")
-    >>> _ = open(p, "w").write("time (ms),acceleration (g_n)\\n0,0\\n1,0.5\\n2,0\\n")
+    >>> with open(p, "w") as out:
+    ...     _ = out.write("time (ms),acceleration (g_n)\\n0,0\\n1,0.5\\n2,0\\n")
     >>> h = load_time_history(p)
     >>> h.excitation, h.step, round(h.peak, 5)
     ('base acceleration', 0.001, 4.90332)

@@ -31,6 +31,7 @@ Examples
    forcing on the right.
      x'' + 4*x = f(t)
           f(t) = cos(2*t)
+(Steps 2 to 9 are shown at the full level.)
 10. Particular solution
    The solved coefficients put back into the trial form give the particular solution.
      x_p(t) = t*sin(2*t)/4
@@ -177,7 +178,7 @@ def blocks(
     >>> from calckit import LinearODE
     >>> t = sp.Symbol("t")
     >>> [b.number for b in blocks(LinearODE([1, 1]).particular(t, t=t), "summary")]
-    [1, 10, 11]
+    [1, None, 10, 11]
     """
     check_level(level)
     if hasattr(obj, "display_rows"):  # a formula shown alone, e.g. numbers put through

@@ -146,8 +146,9 @@ def long_rows(
     >>> t = sp.Symbol("t")
     >>> expr = sum(sp.Symbol(f"a_{i}") * sp.cos(i * t) for i in range(1, 9))
     >>> print(rows_text(long_rows((Tex("x(t)", "x(t)"),), expr, Notation())))
-    x(t) = a_1*cos(t) + a_2*cos(2*t) + a_3*cos(3*t) + a_4*cos(4*t)
-         + a_5*cos(5*t) + a_6*cos(6*t) + a_7*cos(7*t) + a_8*cos(8*t)
+    x(t) = a_1*cos(t) + a_2*cos(2*t) + a_3*cos(3*t)
+         + a_4*cos(4*t) + a_5*cos(5*t) + a_6*cos(6*t)
+         + a_7*cos(7*t) + a_8*cos(8*t)
     """
     if isinstance(expr, sp.MatrixBase):
         return _matrix_rows(lhs, expr, nt, relation, note)

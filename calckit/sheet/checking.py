@@ -34,11 +34,14 @@ def acceptance_check(
     basis: str = "",
     unit: str | None = None,
     sig: int = 4,
+    convention: str | None = None,
 ) -> Check:
     """The check ``value relation limit`` as a record, with its margin and verdict.
 
     Value and limit may be numbers, quantities or text with a unit ("0.1 mm");
-    ``unit`` is the unit they are compared in (by default the limit's).
+    ``unit`` is the unit they are compared in (by default the limit's). ``convention``
+    (peak, peak-to-peak or rms) says how both amplitudes are stated; the check shows it
+    beside each number (``4.5 mm/s rms``); see :mod:`calckit.sheet.amplitudes`.
 
     The verdict agrees with the figures printed: value and limit equal to within the
     rounding of floating point (``math.isclose``, relative ``1e-12``) are equal, so
@@ -85,6 +88,11 @@ def acceptance_check(
     digits = deciding_figures(v, lim, relation, sig)
     shown_v = shown_text(Q_(v, unit_text) if unit_text else v, digits)
     shown_l = shown_text(Q_(lim, unit_text) if unit_text else lim, digits)
+    if convention is not None:
+        from calckit.physics.amplitude import amplitude_convention, convention_text
+
+        word = convention_text(amplitude_convention(convention, where=f"check {name} convention"))
+        shown_v, shown_l = f"{shown_v} {word}", f"{shown_l} {word}"
     return Check(name, v, lim, relation, unit_text, margin, bool(met), basis, shown_v, shown_l)
 
 

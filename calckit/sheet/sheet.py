@@ -261,7 +261,7 @@ class Sheet(Steps):
 
         >>> from calckit.core.units import Q_
         >>> sheet = Sheet("x", show=False)
-        >>> _ = sheet.result("x_max", Q_(0.5, "mm"))
+        >>> _ = sheet.result("x_max", Q_(0.5, "mm"), working=("input", "read off the drawing"))
         >>> _ = sheet.use_units("US")
         >>> sheet.record()["results"][0]["shown"], sheet.record()["output_units"]
         ('0.01969 in', {'system': 'US', 'results': {}})
@@ -310,6 +310,7 @@ class Sheet(Steps):
         relation: str = "<=",
         basis: str = "",
         unit: str | None = None,
+        convention: str | None = None,
     ) -> Check:
         """Add an acceptance check ``value relation limit`` with its margin and verdict.
 
@@ -317,11 +318,44 @@ class Sheet(Steps):
         percentage points when the value is itself a percentage), positive when the
         criterion is met; see :func:`check_margin`. ``basis`` says where the criterion
         comes from (a specification, a standard clause, or "common practice,
-        no source").
+        no source"). ``convention`` (peak, peak-to-peak, rms) is shown beside value and
+        limit; to convert a result to a limit's convention first, use :meth:`amplitude_check`.
         """
         return self._add(
-            acceptance_check(name, value, limit, relation=relation, basis=basis, unit=unit, sig=self.sig)
+            acceptance_check(
+                name,
+                value,
+                limit,
+                relation=relation,
+                basis=basis,
+                unit=unit,
+                sig=self.sig,
+                convention=convention,
+            )
         )
+
+    def amplitude_check(self, name: str, result: str, limit: Any, **options: Any) -> Check:
+        """A result against a limit in its own convention (peak, pk-pk, rms), converted in a shown step.
+
+        See :func:`calckit.sheet.amplitudes.amplitude_check` (``result_convention=``, ``limit_convention=``).
+        """
+        from calckit.sheet.amplitudes import amplitude_check
+
+        return amplitude_check(self, name, result, limit, **options)
+
+    def severity_check(
+        self, name: str, result: str, machine_class: str, acceptable_zone: str = "B", **options: Any
+    ):
+        """A machine's rms velocity judged by a severity zone; see :func:`calckit.sheet.amplitudes.severity_check`."""
+        from calckit.sheet.amplitudes import severity_check
+
+        return severity_check(self, name, result, machine_class, acceptable_zone, **options)
+
+    def band_check(self, name: str, rows: Any, curve: Any, **options: Any) -> Check:
+        """Band-by-band table and worst-band check on a criterion curve; see :func:`calckit.sheet.amplitudes.band_check`."""
+        from calckit.sheet.amplitudes import band_check
+
+        return band_check(self, name, rows, curve, **options)
 
     def separation_check(
         self,

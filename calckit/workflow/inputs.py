@@ -36,6 +36,11 @@ may be written with it, as an inline table of ``value`` and ``source``::
     mass = { value = "1850 kg", source = "Vendor GA drawing P-101-GA-001 rev C" }
     stiffness = "720 kN/m"       # plain: the sheet names the inputs file as its source
 
+An amplitude says whether it is peak, peak-to-peak or rms with ``convention`` in the
+same table (``velocity_limit = { value = "4.5 mm/s", convention = "rms" }``, a source
+allowed beside it): two inputs, ``velocity_limit`` and ``velocity_limit_convention``
+(:mod:`calckit.workflow.input_conventions`).
+
 The value goes to the template exactly as if it were written alone; the source
 (non-empty text) is shown in the sheet's Source column in place of the inputs
 file's name (:attr:`InputsFile.sources`). ``value`` and ``source`` are the only
@@ -72,6 +77,7 @@ from typing import Any
 
 from calckit.core.characters import lookalike
 from calckit.errors import InputsError
+from calckit.workflow.input_conventions import CONVENTION_SUFFIX, missing_conventions, with_convention
 from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
 
@@ -135,6 +141,9 @@ class InputsFile:
     units : UnitsTable
         The ``[units]`` table: the units the sheet shows its results in
         (:mod:`calckit.workflow.units_table`).
+    conventions : Mapping[str, str]
+        The amplitude convention of each input written as ``{ value = ..., convention = ... }``
+        (peak, peak-to-peak or rms), by name; each is also the input ``{name}_convention``.
     """
 
     path: Path
@@ -144,6 +153,7 @@ class InputsFile:
     text: str = ""
     sources: Mapping[str, str] = field(default_factory=dict)
     units: UnitsTable = field(default_factory=UnitsTable)
+    conventions: Mapping[str, str] = field(default_factory=dict)
 
     def line_of(self, key: str) -> int | None:
         """Line number (from 1) where *key* is set, best effort; None if not found.
@@ -158,7 +168,11 @@ class InputsFile:
             table = "sheet"
         else:
             table = self.groups.get(key, "")
-        return _find_line(self.text, table, key)
+        found = _find_line(self.text, table, key)
+        base = key.removesuffix(CONVENTION_SUFFIX)
+        if found is None and key != base and base in self.conventions:  # written inside its amplitude's table
+            return _find_line(self.text, self.groups.get(base, ""), base)
+        return found
 
     def where(self, key: str) -> str:
         """``"p101.toml, line 4, mass"``: where to point an error about *key*."""
@@ -239,6 +253,7 @@ def read_inputs(path: str | Path) -> InputsFile:
     values: dict[str, Any] = {}
     groups: dict[str, str] = {}
     sources: dict[str, str] = {}
+    conventions: dict[str, str] = {}
     sheet = TitleBlock()
     units = UnitsTable()
     text_file = InputsFile(path, {}, text=text)
@@ -258,10 +273,14 @@ def read_inputs(path: str | Path) -> InputsFile:
                 where=place,
                 do="Give each input once",
             )
+        if isinstance(value, dict) and "convention" in value:
+            value, conventions[key] = with_convention(value, place)
         if isinstance(value, dict):
             value, sources[key] = _sourced_value(key, value, place)
         values[key] = _input_value(value, place)
         groups[key] = group
+        if key in conventions:  # the convention is an input of its own, next to its amplitude
+            add(key + CONVENTION_SUFFIX, conventions[key], group)
 
     for key, value in data.items():
         if key == "sheet" and isinstance(value, dict):
@@ -297,6 +316,7 @@ def read_inputs(path: str | Path) -> InputsFile:
         text,
         MappingProxyType(sources),
         units,
+        MappingProxyType(conventions),
     )
 
 
@@ -459,6 +479,10 @@ def check_keys(
     missing = [
         name for name in expected if name not in given and name not in in_sheet and name not in optional
     ]
+    missing, unsaid = missing_conventions(
+        missing, given, lambda n: inputs.line_of(n) if isinstance(inputs, InputsFile) else None
+    )
+    problems += unsaid
     if missing:
         problems.append(f"missing input{'s' if len(missing) > 1 else ''} {_quoted(missing)}")
     if problems:
