@@ -75,6 +75,8 @@ class Steps:
             name = f"{label}_rad_s"
             symbol = (owner.symbol if owner else key).replace("\\", "").replace("{", "").replace("}", "")
             self._converted[given] = name
+            if name in self.results:  # the template converted it already, as its own step: that step serves
+                return self.carried(name)
             # an input typed with many digits (12.3333333333 Hz) is shown as typed, to 12 figures at most
             typed = {k: min(12, _figures(v.magnitude)) for k, v in values.items() if owner is not None}
             self.calc(name, formula, values, symbol=symbol, unit="rad/s", sig=self.sig,
