@@ -40,6 +40,8 @@ from calckit.sheet.blocks import (
     TableBlock,
     TextBlock,
 )
+from calckit.sheet.tolerance_section import TOLERANCE_TITLE, tolerance_section
+from calckit.sheet.tolerance_study import study_of
 from calckit.sheet.values import shown_text
 
 __all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block", "SHEET_SIG"]
@@ -70,7 +72,7 @@ def _input_rows(sheet: Any) -> list[list[Any]]:
         if isinstance(value, sp.Basic) and not value.is_number:
             shown = math_inline(sp.latex(value))
         else:
-            shown = escape(shown_text(value)) if hasattr(value, "units") else escape(rec.text)
+            shown = escape(rec.shown_value)
         rows.append([math_inline(rec.symbol), rec.description, shown, rec.source or "not given"])
     return rows
 
@@ -319,6 +321,9 @@ def _body(sheet: Any) -> Html:
                 "an upper limit and the limit over the value for a least value; at most 1 when met.</p>"
             ),
         )
+    study = study_of(sheet)
+    if study is not None:  # only when some input has a tolerance band
+        next_section(TOLERANCE_TITLE, tolerance_section(sheet, study))
     references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
     if references:
         next_section(

@@ -38,8 +38,11 @@ may be written with it, as an inline table of ``value`` and ``source``::
 
 The value goes to the template exactly as if it were written alone; the source
 (non-empty text) is shown in the sheet's Source column in place of the inputs
-file's name (:attr:`InputsFile.sources`). ``value`` and ``source`` are the only
-keys such a table takes. An inline table names one input; a ``[table]``
+file's name (:attr:`InputsFile.sources`). A value that is not exact may carry its
+band, with or without a source: ``{ value = "720 kN/m", tolerance = "15 %" }``
+(relative, or absolute as ``"50 kN/m"``) or ``min`` and ``max``
+(:attr:`InputsFile.tolerances`, :mod:`calckit.workflow.tolerance_table`). ``value``,
+``source``, ``tolerance``, ``min`` and ``max`` are the only keys such a table takes. An inline table names one input; a ``[table]``
 header groups inputs. The title-block fields take no source.
 
 Input values are text, integers, finite floats, true/false, or arrays of those.
@@ -72,6 +75,7 @@ from typing import Any
 
 from calckit.core.characters import lookalike
 from calckit.errors import InputsError
+from calckit.workflow.tolerance_table import split_band
 from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
 
@@ -135,6 +139,9 @@ class InputsFile:
     units : UnitsTable
         The ``[units]`` table: the units the sheet shows its results in
         (:mod:`calckit.workflow.units_table`).
+    tolerances : Mapping[str, Mapping[str, str]]
+        The band of each input written with one (``{"tolerance": "15 %"}`` or
+        ``{"min": ..., "max": ...}``), by name.
     """
 
     path: Path
@@ -144,6 +151,7 @@ class InputsFile:
     text: str = ""
     sources: Mapping[str, str] = field(default_factory=dict)
     units: UnitsTable = field(default_factory=UnitsTable)
+    tolerances: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
 
     def line_of(self, key: str) -> int | None:
         """Line number (from 1) where *key* is set, best effort; None if not found.
@@ -239,6 +247,7 @@ def read_inputs(path: str | Path) -> InputsFile:
     values: dict[str, Any] = {}
     groups: dict[str, str] = {}
     sources: dict[str, str] = {}
+    tolerances: dict[str, dict[str, str]] = {}
     sheet = TitleBlock()
     units = UnitsTable()
     text_file = InputsFile(path, {}, text=text)
@@ -259,7 +268,10 @@ def read_inputs(path: str | Path) -> InputsFile:
                 do="Give each input once",
             )
         if isinstance(value, dict):
-            value, sources[key] = _sourced_value(key, value, place)
+            value, band = split_band(key, value, place)
+            value, source = _sourced_value(key, value, place, band is not None)
+            sources.update({key: source} if source is not None else {})
+            tolerances.update({key: band} if band is not None else {})
         values[key] = _input_value(value, place)
         groups[key] = group
 
@@ -297,13 +309,16 @@ def read_inputs(path: str | Path) -> InputsFile:
         text,
         MappingProxyType(sources),
         units,
+        MappingProxyType(tolerances),
     )
 
 
-_SOURCED_KEYS = ("value", "source")
+_SOURCED_KEYS = ("value", "source", "tolerance", "min", "max")
 
 
-def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any, str]:
+def _sourced_value(
+    key: str, table: Mapping[str, Any], place: str, banded: bool = False
+) -> tuple[Any, str | None]:
     """The value and the source of an input written as ``key = { value = ..., source = ... }``."""
     example = f'{key} = {{ value = "...", source = "Vendor drawing ..." }}'
     if key in TITLE_FIELDS:
@@ -319,7 +334,8 @@ def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any,
             raise InputsError(
                 f'unknown key "{inner}" in the table of the input "{key}"',
                 where=place,
-                do=f"{hint}An input written as a table takes only value and source: {example}; "
+                do=f"{hint}An input written as a table takes only value, source and a band (tolerance, or min "
+                f"and max): {example}; "
                 f"to group inputs, put them under a [{key}] header",
             )
     if "value" not in table:
@@ -328,6 +344,8 @@ def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any,
             where=place,
             do=f"Give its value in the table: {example}",
         )
+    if "source" not in table and banded:
+        return table["value"], None
     if "source" not in table:
         raise InputsError(
             f'the input "{key}" is written as a table without a source',

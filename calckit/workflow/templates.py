@@ -204,7 +204,8 @@ def find_template(spec: str | os.PathLike) -> Path:
     known = ", ".join(bundled) or "none"
     found = lookalike(str(spec))
     raise BuildError(
-        "no such template: it is neither a notebook file nor a bundled template" + (f" ({found})" if found else ""),
+        "no such template: it is neither a notebook file nor a bundled template"
+        + (f" ({found})" if found else ""),
         where=str(spec),
         do=f"Give the path of a .ipynb file or a bundled template's name ({known})",
     )
@@ -279,9 +280,7 @@ def load_template(template: str | os.PathLike) -> Template:
     except InputsError as exc:
         raise InputsError(exc.what, where=f"{path}, cell {tagged[0] + 1}, {exc.where}", do=exc.do) from None
     optional = frozenset(
-        match.group(1)
-        for match in _OPTIONAL_LINE.finditer(cell_source(cell))
-        if match.group(1) in parameters
+        match.group(1) for match in _OPTIONAL_LINE.finditer(cell_source(cell)) if match.group(1) in parameters
     )
     files = frozenset(
         match.group(1) for match in _FILE_LINE.finditer(cell_source(cell)) if match.group(1) in parameters
@@ -300,12 +299,14 @@ def inputs_cell_source(
     inputs_label: str,
     digest: str,
     sources: Mapping[str, str] | None = None,
+    tolerances: Mapping[str, Mapping[str, str]] | None = None,
 ) -> str:
     """The source of the cell the build puts after the parameters cell (tagged ``inputs-from-file``).
 
     It assigns every input (*assignments*, the value alone), ``inputs_file``
     (*inputs_label*), ``template_text`` (the template's *digest*) and, when
-    given, ``input_sources`` (input name -> source).
+    given, ``input_sources`` (input name -> source) and ``input_tolerances`` (input
+    name -> its band as written, ``{"tolerance": "15 %"}``).
 
     Raises
     ------
@@ -335,6 +336,9 @@ def inputs_cell_source(
                     do="Give each source as text, by the input's name",
                 )
         text += "input_sources = {\n" + "".join(f"    {n!r}: {s!r},\n" for n, s in sources.items()) + "}\n"
+    if tolerances:  # left out when there are none: the template's default input_tolerances = {} holds
+        bands = {str(n): {str(k): str(v) for k, v in band.items()} for n, band in tolerances.items()}
+        text += "input_tolerances = {\n" + "".join(f"    {n!r}: {b!r},\n" for n, b in bands.items()) + "}\n"
     return text
 
 
