@@ -24,7 +24,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
-from calckit.core.units import Q_, fmt, fmt_number, quantity
+from calckit.core.units import Q_, angular_frequency, fmt, fmt_number, kind_of, quantity
 from calckit.errors import InputsError, UnitsError
 
 __all__ = ["TOLERANCE_KEYS", "Tolerance", "band_within_sign", "tolerance_band"]
@@ -125,13 +125,13 @@ def tolerance_band(name: str, value: Any, spec: Mapping[str, Any], where: str) -
             low, high = nominal - half, nominal + half
             text = f"± {fmt(half, 6)}"
         # ends in the value's unit, with no digits of floating point beyond the written ones
-        low, high = (Q_(float(q.to(unit).magnitude), unit) for q in (low, high))
+        low, high = (Q_(float(f"{q.to(unit).magnitude:.12g}"), unit) for q in (low, high))
         written_spec = {"tolerance": _spec_text(written)}
     else:
         ends = []
         for key in ("min", "max"):
             end = _same_kind(spec[key], nominal, where, key)
-            ends.append(Q_(float(end.to(unit).magnitude), unit))
+            ends.append(Q_(float(f"{end.to(unit).magnitude:.12g}"), unit))
         low, high = ends
         if low.magnitude > high.magnitude:
             raise InputsError(
@@ -139,7 +139,7 @@ def tolerance_band(name: str, value: Any, spec: Mapping[str, Any], where: str) -
                 where=where,
                 do=f"Write min below max, for example {_EXAMPLE}",
             )
-        text = f"{fmt_number(low.magnitude, 6)} to {fmt(high, 6)}"
+        text = f"(band {fmt_number(low.magnitude, 6)} to {fmt(high, 6)})"
         written_spec = {"min": _spec_text(spec["min"]), "max": _spec_text(spec["max"])}
     n = float(nominal.magnitude)
     if not low.magnitude <= n <= high.magnitude:
@@ -200,6 +200,10 @@ def _same_kind(given: Any, nominal: Any, where: str, key: str):
             where=where,
             do=f"Give the {key} in a unit of the value's kind, or a tolerance in percent: {_EXAMPLE}",
         )
+    if kind_of(q) == "frequency" and kind_of(nominal) == "frequency":
+        # a cycle is a turn: 25 Hz is 1500 rpm (pint alone would take Hz as 1/s and rpm as 2 pi rad/min)
+        per_unit = angular_frequency(Q_(1.0, nominal.units), where)
+        return Q_(angular_frequency(q, where) / per_unit, nominal.units)
     return q
 
 

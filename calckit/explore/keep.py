@@ -174,9 +174,11 @@ def _replace_lines(file: Any, new: Mapping[str, str], *, revision: bool = False)
             except tomllib.TOMLDecodeError:
                 return None
             source = f"{old.get('source', '')}; moved in the what-if explorer from {old.get('value', '')}"
+            # a tolerance either side moves with the value; a min and max might not hold it: left out
+            band = f", tolerance = {toml_value(old['tolerance'])}" if "tolerance" in old else ""
             lines[number - 1] = (
                 inline.group("lead")
-                + f"{{ value = {toml}, source = {toml_value(source.lstrip('; '))} }}"
+                + f"{{ value = {toml}{band}, source = {toml_value(source.lstrip('; '))} }}"
                 + inline.group("tail")
                 + ending
             )

@@ -245,6 +245,16 @@ def _summary(sheet: Any) -> Html:
         )
     else:
         text = f"Acceptance checks: {met} of {n} met; {n - met} NOT MET (see section on checks)."
+    study = study_of(sheet)
+    if study is not None and n:  # the worst case over the inputs' bands, beside the nominal verdicts
+        done = [c for c in study.checks if c.evaluated]
+        worst = sum(c.worst_met for c in done)
+        text += (
+            f" Over the inputs' tolerance bands: {worst} of {len(done)} evaluated met at the worst case"
+            + (f", {len(done) - worst} NOT MET" if worst < len(done) else "")
+            + (f"; {n - len(done)} not evaluated" if n > len(done) else "")
+            + " (see the section on tolerances)."
+        )
     return Html(f'<p class="summary">{escape(text)}</p>')
 
 

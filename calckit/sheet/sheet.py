@@ -464,8 +464,9 @@ class Sheet(Steps, Tolerances):
         """SHA-256 over everything the user provided, the kit version and the template.
 
         Covered: the title block except the date, every input (name, text as given,
-        exact value, unit, description, source, and its tolerance band as written when it has
-        one; not the name of the inputs file, which a rename changes and the content does not), every check's name, limit,
+        exact value, unit, description, source, and its tolerance band as written when it
+        has one; not the name of the inputs file, which a rename changes and the content
+        does not), every check's name, limit,
         relation and basis, the assumptions, references, notes and the caution.
         Results are not covered: they follow from these. Two sheets with the same
         fingerprint came from the same inputs through the same calculation.
