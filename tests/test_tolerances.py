@@ -327,6 +327,44 @@ class TestBands:
         )
 
 
+class TestBandsTable:
+    """Bands in a [tolerances] table of their own, leaving the values' lines as they are."""
+
+    def test_read(self, tmp_path):
+        path = tmp_path / "p131.toml"
+        path.write_text(
+            '[pump]\nmass = "1200 kg"\nspeed = "980 rpm"\nzeta = 0.05\n\n'
+            '[tolerances]\nmass = "10 %"\nspeed = { min = "900 rpm", max = "1000 rpm" }\nzeta = 0.01\n',
+            encoding="utf-8",
+        )
+        read = read_inputs(path)
+        assert "tolerances" not in read.groups.values() and set(read.values) == {"mass", "speed", "zeta"}
+        assert {k: dict(v) for k, v in read.tolerances.items()} == {
+            "mass": {"tolerance": "10 %"},
+            "speed": {"min": "900 rpm", "max": "1000 rpm"},
+            "zeta": {"tolerance": "0.01"},
+        }
+
+    @pytest.mark.parametrize(
+        ("lines", "message"),
+        [
+            ('mass = "1200 kg"\n[tolerances]\nmas = "10 %"\n',
+             'line 3, tolerances.mas: the band "mas" is for no input of this file. Name an input the file gives a '
+             "value for, or remove the band."),
+            ('mass = { value = "1200 kg", tolerance = "5 %" }\n[tolerances]\nmass = "10 %"\n',
+             'line 3, tolerances.mass: the input "mass" has a band beside its value too. Give its band once: in the '
+             "[tolerances] table or beside the value."),
+        ],
+        ids=["no such input", "twice"],
+    )  # fmt: skip
+    def test_refused(self, tmp_path, lines, message):
+        path = tmp_path / "p131.toml"
+        path.write_text(lines, encoding="utf-8")
+        with pytest.raises(ck.InputsError) as info:
+            read_inputs(path)
+        assert str(info.value) == f"{path}, {message}"
+
+
 class TestRecord:
     def test_record_version_4_round_trip(self, magnification):
         """The bands and the study are in the record (version 4), read back as written."""

@@ -40,8 +40,9 @@ The value goes to the template exactly as if it were written alone; the source
 (non-empty text) is shown in the sheet's Source column in place of the inputs
 file's name (:attr:`InputsFile.sources`). A value that is not exact may carry its
 band, with or without a source: ``{ value = "720 kN/m", tolerance = "15 %" }``
-(relative, or absolute as ``"50 kN/m"``) or ``min`` and ``max``
-(:attr:`InputsFile.tolerances`, :mod:`calckit.workflow.tolerance_table`). ``value``,
+(relative, or absolute as ``"50 kN/m"``) or ``min`` and ``max``, or in a ``[tolerances]``
+table by the input's name (:attr:`InputsFile.tolerances`,
+:mod:`calckit.workflow.tolerance_table`). ``value``,
 ``source``, ``tolerance``, ``min`` and ``max`` are the only keys such a table takes. An inline table names one input; a ``[table]``
 header groups inputs. The title-block fields take no source.
 
@@ -75,7 +76,7 @@ from typing import Any
 
 from calckit.core.characters import lookalike
 from calckit.errors import InputsError
-from calckit.workflow.tolerance_table import split_band
+from calckit.workflow.tolerance_table import split_band, table_bands
 from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
 
@@ -250,6 +251,7 @@ def read_inputs(path: str | Path) -> InputsFile:
     tolerances: dict[str, dict[str, str]] = {}
     sheet = TitleBlock()
     units = UnitsTable()
+    bands: dict[str, Any] = {}
     text_file = InputsFile(path, {}, text=text)
 
     def add(key: str, value: Any, group: str) -> None:
@@ -280,6 +282,8 @@ def read_inputs(path: str | Path) -> InputsFile:
             sheet = _title_block(value, path, text_file)
         elif key == "units" and isinstance(value, dict) and _find_line(text, "", key) is None:
             units = read_units_table(value, path, lambda inner: _find_line(text, "units", inner))
+        elif key == "tolerances" and isinstance(value, dict) and _find_line(text, "", key) is None:
+            bands = value  # read once every input is known
         elif isinstance(value, dict) and _find_line(text, "", key) is not None:
             add(key, value, "")  # key = { value = ..., source = ... }: one input, not a group
         elif isinstance(value, dict):
@@ -293,6 +297,7 @@ def read_inputs(path: str | Path) -> InputsFile:
                 add(inner, inner_value, key)
         else:
             add(key, value, "")
+    tolerances.update(table_bands(bands, values, tolerances, path, lambda k: _find_line(text, "tolerances", k)))
     for key in sheet.present():  # one value a field: which one would win is not for us to guess
         if key in values:
             first = f"in [{groups[key]}]" if groups[key] else "at the top level"

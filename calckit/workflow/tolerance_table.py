@@ -2,7 +2,13 @@
 
 An input written as an inline table may give its band beside its value (and its
 source): ``tolerance`` (relative in percent, or absolute in the value's kind of
-unit), or ``min`` and ``max``. :func:`split_band` takes the band's keys out of the
+unit), or ``min`` and ``max``. The bands may instead stand in a table of their own,
+which leaves the values' lines as they are (:func:`table_bands`)::
+
+    [tolerances]
+    stiffness = "15 %"
+    forcing_frequency = { min = "1300 rpm", max = "1500 rpm" }
+ :func:`split_band` takes the band's keys out of the
 table for :mod:`calckit.workflow.inputs` and checks the band against the value at
 once (:func:`calckit.core.tolerances.tolerance_band`), so that a band on a text
 input, of another dimension or with ``min`` above ``max`` is refused at its line
@@ -14,12 +20,14 @@ reaches a value the input may not take.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
+from pathlib import Path
 from typing import Any
 
 from calckit.core.tolerances import TOLERANCE_KEYS, tolerance_band
+from calckit.errors import InputsError
 
-__all__ = ["split_band"]
+__all__ = ["split_band", "table_bands"]
 
 
 def split_band(
@@ -40,3 +48,41 @@ def split_band(
         written = tolerance_band(key, rest["value"], band, place).spec
         return rest, dict(written)
     return rest, None  # no value: the reader says so
+
+
+def table_bands(
+    table: Mapping[str, Any],
+    values: Mapping[str, Any],
+    inline: Mapping[str, Any],
+    path: Path,
+    line_of: Callable[[str], int | None],
+) -> dict[str, dict[str, str]]:
+    """The bands of a ``[tolerances]`` table, by input name, each checked against its input's value.
+
+    A band is text (``"15 %"``, ``"50 kN/m"``), a number for a dimensionless input, or an
+    inline table of ``tolerance`` or ``min`` and ``max``.
+
+    Raises
+    ------
+    InputsError
+        A band for a name the file gives no input for, a band given both here and beside
+        the value, or a band that does not fit its value.
+    """
+    bands = {}
+    for name, spec in table.items():
+        place = f"{path}, line {line_of(name) or '?'}, tolerances.{name}"
+        if name not in values:
+            raise InputsError(
+                f'the band "{name}" is for no input of this file',
+                where=place,
+                do="Name an input the file gives a value for, or remove the band",
+            )
+        if name in inline:
+            raise InputsError(
+                f'the input "{name}" has a band beside its value too',
+                where=place,
+                do="Give its band once: in the [tolerances] table or beside the value",
+            )
+        spec = spec if isinstance(spec, dict) else {"tolerance": spec}
+        bands[name] = dict(tolerance_band(name, values[name], spec, place).spec)
+    return bands
