@@ -118,8 +118,8 @@ def tolerance_band(name: str, value: Any, spec: Mapping[str, Any], where: str) -
     if "tolerance" in spec:
         written = spec["tolerance"]
         half, relative = _tolerance_amount(written, nominal, where)
-        if relative:
-            low, high = nominal * (1 - half), nominal * (1 + half)
+        if relative:  # a negative value keeps its ends in order; its sign rule refuses it on the sheet
+            low, high = sorted((nominal * (1 - half), nominal * (1 + half)), key=lambda q: q.magnitude)
             text = f"± {fmt_number(half * 100, 6)} %"
         else:
             low, high = nominal - half, nominal + half

@@ -122,6 +122,7 @@ def _run_case(
     sources: dict[str, str] | None = None,
     time_limit: float | None = CASE_TIME_LIMIT_S,
     units: dict | None = None,
+    tolerances: dict | None = None,
 ) -> CaseResult:
     """Build one case; never raises for a case that fails (runs in a worker)."""
     started = time.monotonic()
@@ -133,6 +134,7 @@ def _run_case(
         options["sources"] = sources
         options["time_limit"] = time_limit
         options["units"] = units  # the base inputs file's [units] table
+        options["tolerances"] = tolerances  # the base inputs file's bands of the values the case keeps
         once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
         with FolderLock(out):  # the case's folder, as a build's: read and checked under the lock
             held = held_fingerprint(out, template.name)
@@ -256,6 +258,7 @@ def run_batch(
         )
         # a source of the base file stays with its value: an input the case changes has none
         sources = {n: s for n, s in base_sources.items() if n not in case.values}
+        bands = {n: dict(b) for n, b in (base.tolerances if base is not None else {}).items() if n not in case.values}
         jobs.append(
             (
                 str(tmpl.path),
@@ -269,6 +272,7 @@ def run_batch(
                 sources,
                 time_limit,
                 units,
+                bands,
             )  # fmt: skip
         )
 

@@ -27,7 +27,7 @@ from typing import Any
 from calckit.core.tolerances import TOLERANCE_KEYS, tolerance_band
 from calckit.errors import InputsError
 
-__all__ = ["split_band", "table_bands"]
+__all__ = ["band_line", "split_band", "table_bands"]
 
 
 def split_band(
@@ -86,3 +86,21 @@ def table_bands(
         spec = spec if isinstance(spec, dict) else {"tolerance": spec}
         bands[name] = dict(tolerance_band(name, values[name], spec, place).spec)
     return bands
+
+
+def band_line(text: str, name: str) -> int | None:
+    """The line (from 1) of *name*'s band in the ``[tolerances]`` table of an inputs file's *text*; None if none."""
+    import re
+
+    header = re.compile(r"\s*\[\s*([^\[\]]*?)\s*\]\s*(#.*)?$")
+    key = re.compile(
+        r"\s*(?:" + re.escape(name) + r"|\"" + re.escape(name) + r"\"|'" + re.escape(name) + r"')\s*="
+    )
+    table = ""
+    for number, line in enumerate(text.splitlines(), start=1):
+        found = header.match(line)
+        if found:
+            table = found.group(1).strip().strip("\"'")
+        elif table == "tolerances" and key.match(line):
+            return number
+    return None
