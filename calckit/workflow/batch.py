@@ -134,7 +134,7 @@ def _run_case(
         options["sources"] = sources
         options["time_limit"] = time_limit
         options["units"] = units  # the base inputs file's [units] table
-        options["tolerances"] = tolerances  # the base inputs file's bands of the values the case keeps
+        options["tolerances"] = tolerances  # the base inputs file's bands
         once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
         with FolderLock(out):  # the case's folder, as a build's: read and checked under the lock
             held = held_fingerprint(out, template.name)
@@ -258,7 +258,8 @@ def run_batch(
         )
         # a source of the base file stays with its value: an input the case changes has none
         sources = {n: s for n, s in base_sources.items() if n not in case.values}
-        bands = {n: dict(b) for n, b in (base.tolerances if base is not None else {}).items() if n not in case.values}
+        # a band stays with its input whatever value the case gives (one outside a min and max is refused)
+        bands = {n: dict(b) for n, b in (base.tolerances if base is not None else {}).items()}
         jobs.append(
             (
                 str(tmpl.path),
