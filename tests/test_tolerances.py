@@ -358,10 +358,13 @@ class TestBandsTable:
         ids=["no such input", "twice"],
     )  # fmt: skip
     def test_refused(self, tmp_path, lines, message):
+        """Refused when read, or (a band for no input) once the file's inputs are checked, before a kernel."""
+        from calckit.workflow.tolerance_table import check_band_names
+
         path = tmp_path / "p131.toml"
         path.write_text(lines, encoding="utf-8")
         with pytest.raises(ck.InputsError) as info:
-            read_inputs(path)
+            check_band_names(read_inputs(path))
         assert str(info.value) == f"{path}, {message}"
 
 

@@ -27,7 +27,7 @@ from typing import Any
 from calckit.core.units import Q_, angular_frequency, fmt, fmt_number, kind_of, quantity
 from calckit.errors import InputsError, UnitsError
 
-__all__ = ["TOLERANCE_KEYS", "Tolerance", "band_within_sign", "tolerance_band"]
+__all__ = ["TOLERANCE_KEYS", "Tolerance", "band_within_sign", "spec_text", "tolerance_band"]
 
 TOLERANCE_KEYS = ("tolerance", "min", "max")
 """The keys of an input's table that give its band (beside ``value`` and ``source``)."""
@@ -71,7 +71,8 @@ class Tolerance:
         return {**dict(self.spec), "low": fmt(self.low, 6), "high": fmt(self.high, 6), "text": self.text}
 
 
-def _spec_text(value: Any) -> str:
+def spec_text(value: Any) -> str:
+    """A band's part as text, as the record and the fingerprint keep it (``"15 %"``, ``0.01`` as ``"0.01"``)."""
     return value if isinstance(value, str) else repr(value)
 
 
@@ -126,7 +127,7 @@ def tolerance_band(name: str, value: Any, spec: Mapping[str, Any], where: str) -
             text = f"± {fmt(half, 6)}"
         # ends in the value's unit, with no digits of floating point beyond the written ones
         low, high = (Q_(float(f"{q.to(unit).magnitude:.12g}"), unit) for q in (low, high))
-        written_spec = {"tolerance": _spec_text(written)}
+        written_spec = {"tolerance": spec_text(written)}
     else:
         ends = []
         for key in ("min", "max"):
@@ -140,7 +141,7 @@ def tolerance_band(name: str, value: Any, spec: Mapping[str, Any], where: str) -
                 do=f"Write min below max, for example {_EXAMPLE}",
             )
         text = f"(band {fmt_number(low.magnitude, 6)} to {fmt(high, 6)})"
-        written_spec = {"min": _spec_text(spec["min"]), "max": _spec_text(spec["max"])}
+        written_spec = {"min": spec_text(spec["min"]), "max": spec_text(spec["max"])}
     n = float(nominal.magnitude)
     if not low.magnitude <= n <= high.magnitude:
         raise InputsError(

@@ -53,6 +53,7 @@ from calckit.workflow.held import check_out_folder, held_fingerprint
 from calckit.workflow.kernels import die_with_parent, loop_running, run_in_kept_kernel, run_sync
 from calckit.workflow.outfolder import FolderLock
 from calckit.workflow.templates import Template, load_template
+from calckit.workflow.tolerance_table import check_band_names
 
 __all__ = ["CaseResult", "BatchResult", "default_workers", "run_batch", "counted"]
 
@@ -239,6 +240,7 @@ def run_batch(
     units = base.units.payload() if base is not None and base.units.given else None
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
+        check_band_names(base)
     cases_label = Path(cases).name
     jobs = []
     for case in table:

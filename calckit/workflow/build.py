@@ -406,10 +406,12 @@ def _prepare_build(
 ]:
     """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
     from calckit.workflow.inputs import check_keys, read_inputs
+    from calckit.workflow.tolerance_table import check_band_names
 
     tmpl = load_template(path)
     file = read_inputs(inputs)
     check_keys(file, tmpl.parameters, path=file.path, optional=tmpl.optional_inputs)
+    check_band_names(file)
     wheres = {name: file.where(name) for name in tmpl.parameters}
     held = held_fingerprint(out, tmpl.name)
     units = file.units.payload() if file.units.given else None

@@ -27,7 +27,7 @@ from typing import Any
 from calckit.core.tolerances import TOLERANCE_KEYS, tolerance_band
 from calckit.errors import InputsError
 
-__all__ = ["band_line", "split_band", "table_bands"]
+__all__ = ["band_line", "check_band_names", "split_band", "table_bands"]
 
 
 def split_band(
@@ -45,9 +45,30 @@ def split_band(
     if not band:
         return rest, None
     if "value" in rest:
-        written = tolerance_band(key, rest["value"], band, place).spec
-        return rest, dict(written)
+        return rest, _checked(key, rest["value"], band, place)
     return rest, None  # no value: the reader says so
+
+
+def _checked(name: str, value: Any, band: Mapping[str, Any], place: str) -> dict[str, str]:
+    """The band as written, checked against the value when the value can be read here.
+
+    A value whose unit is misspelt, or a zero or negative value, is left for the template
+    to refuse in its own words at the value's line; the band is checked again on the sheet.
+    """
+    from calckit.core.tolerances import spec_text
+    from calckit.core.units import quantity
+    from calckit.errors import UnitsError
+
+    looks_numeric = isinstance(value, int | float) or (
+        isinstance(value, str) and value.strip()[:1] in set("0123456789.+-")
+    )
+    try:
+        nominal = quantity(value, place) if looks_numeric else None
+    except UnitsError:
+        return {key: spec_text(v) for key, v in band.items()}
+    if nominal is not None and not float(nominal.magnitude) > 0:
+        return {key: spec_text(v) for key, v in band.items()}
+    return dict(tolerance_band(name, value, band, place).spec)
 
 
 def table_bands(
@@ -71,21 +92,40 @@ def table_bands(
     bands = {}
     for name, spec in table.items():
         place = f"{path}, line {line_of(name) or '?'}, tolerances.{name}"
-        if name not in values:
-            raise InputsError(
-                f'the band "{name}" is for no input of this file',
-                where=place,
-                do="Name an input the file gives a value for, or remove the band",
-            )
+        spec = spec if isinstance(spec, dict) else {"tolerance": spec}
+        if name not in values:  # refused by check_band_names once the file's inputs are checked
+            from calckit.core.tolerances import spec_text
+
+            bands[name] = {key: spec_text(v) for key, v in spec.items()}
+            continue
         if name in inline:
             raise InputsError(
                 f'the input "{name}" has a band beside its value too',
                 where=place,
                 do="Give its band once: in the [tolerances] table or beside the value",
             )
-        spec = spec if isinstance(spec, dict) else {"tolerance": spec}
-        bands[name] = dict(tolerance_band(name, values[name], spec, place).spec)
+        bands[name] = _checked(name, values[name], spec, place)
     return bands
+
+
+def check_band_names(file: Any) -> None:
+    """Refuse a band of an inputs file (:class:`calckit.workflow.inputs.InputsFile`) for a name it gives no value.
+
+    Called after the file's inputs are checked against the template's, so that a missing or
+    misspelt input is named as such first.
+
+    Raises
+    ------
+    InputsError
+        A band in the ``[tolerances]`` table for an input the file does not give.
+    """
+    for name in file.tolerances:
+        if name not in file.values:
+            raise InputsError(
+                f'the band "{name}" is for no input of this file',
+                where=f"{file.path}, line {band_line(file.text, name) or '?'}, tolerances.{name}",
+                do="Name an input the file gives a value for, or remove the band",
+            )
 
 
 def band_line(text: str, name: str) -> int | None:
