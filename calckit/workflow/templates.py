@@ -21,10 +21,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
    the templates folder, for runs by hand.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
-   fingerprint covers the template, with ``sources=input_sources`` and
-   ``inputs_file=inputs_file``. A cell *before* the parameters cell sets the
-   defaults ``template_text = ""``, ``inputs_file = "..."`` (used as the inputs'
-   source) and ``input_sources = {}``, so that the template also runs by hand.
+   fingerprint covers the template, with ``sources=input_sources``,
+   ``tolerances=input_tolerances`` and ``inputs_file=inputs_file``. A cell *before*
+   the parameters cell sets the defaults ``template_text = ""``, ``inputs_file =
+   "..."`` (used as the inputs' source), ``input_sources = {}`` and
+   ``input_tolerances = {}``, so that the template also runs by hand.
    The template imports only ``calckit`` (``import calckit as ck``) and general
    libraries. Inputs go on the sheet under their parameter names
    (``sheet.given("mass", mass, "m", "Moving mass", "mass")``), so that an error
@@ -42,10 +43,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
    ``template_text`` (a SHA-256 of the template's cell sources, so that
    metadata Jupyter rewrites on save does not count) and, when the inputs file
    gives sources, ``input_sources`` (input name -> source, for those inputs
-   only). A source given for an input that the built sheet does not show, or
-   not shown as its source (a template that does not pass ``input_sources`` to
-   its sheet), stops the build before anything is written: no source is
-   dropped without a word. The notebook runs in
+   only), and when it gives tolerance bands, ``input_tolerances`` (input name ->
+   the band as written). A source given for an input that the built sheet does not
+   show, or not shown as its source (a template that does not pass ``input_sources``
+   to its sheet), stops the build before anything is written: no source is dropped
+   without a word; nor is a band (``input_tolerances``). The notebook runs in
    a new ``python3`` kernel of the interpreter calckit runs in (see
    :mod:`calckit.workflow.kernels`), with a temporary folder as its working folder. The kernel is started
    first; the template and the inputs are read and checked while it starts and
