@@ -147,6 +147,19 @@ class TestWorstCase:
         assert (check.nominal_met, check.worst_met) == (True, False)
 
 
+    def test_limit_with_a_band(self):
+        """A limit that is itself a banded input: the worst case takes the value high and the limit low
+        (hand arithmetic: 110 N/m against 105 * 0.95 = 99.75 N/m, margin (99.75 - 110) / 99.75)."""
+        sheet = Sheet("x", show=False, tolerances={"k": {"tolerance": "10 %"}, "k_max": {"tolerance": "5 %"}})
+        k = sheet.given("k", "100 N/m", "k", "Mount stiffness", "stiffness")
+        k_max = sheet.given("k_max", "105 N/m", "k_{max}", "Largest stiffness allowed", "stiffness")
+        sheet.check("stiffness", k, k_max)
+        check = sheet.tolerance_study().checks[0]
+        assert (check.worst_value, check.worst_limit) == pytest.approx((110.0, 99.75))
+        assert check.worst_margin == pytest.approx((99.75 - 110) / 99.75 * 100)
+        assert (check.nominal_met, check.worst_met) == (True, False)
+
+
 class TestSensitivities:
     def test_elasticities_against_finite_differences(self, magnification):
         """(x/M) dM/dx against central differences of the book's M with numpy; the ends of each band too."""

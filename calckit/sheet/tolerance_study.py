@@ -248,7 +248,7 @@ def study_of(sheet: Any) -> ToleranceStudy | None:
         return kept[1]
     memo: dict = {}
     samples = _draw(bands, sheet.sampling) if sheet.sampling is not None else None
-    checks = tuple(_over_bands(sheet, check, bands, memo, samples) for check in sheet.checks)
+    checks = tuple(_guarded(sheet, check, bands, memo, samples) for check in sheet.checks)
     corners = max((c.corners for c in checks), default=0)
     method = (
         "every corner of the box of the bands"
@@ -260,6 +260,24 @@ def study_of(sheet: Any) -> ToleranceStudy | None:
     study = ToleranceStudy(bands, checks, sheet.sampling, method)
     sheet._study_kept = (key, study)
     return study
+
+
+def _guarded(sheet: Any, check: Any, bands: tuple, memo: dict, samples: dict | None) -> BandedCheck:
+    """The check over the bands; one whose composed result numpy cannot evaluate says so, and the sheet is kept."""
+    try:
+        return _over_bands(sheet, check, bands, memo, samples)
+    except (
+        ArithmeticError,
+        TypeError,
+        ValueError,
+        NameError,
+        KeyError,
+    ) as exc:  # lambdify of an odd function
+        return BandedCheck(
+            check.name,
+            False,
+            f"its composed result could not be evaluated in numbers ({type(exc).__name__}: {exc})",
+        )
 
 
 def _draw(bands: tuple, request: SampleRequest) -> dict[str, np.ndarray]:
