@@ -84,7 +84,12 @@ IN_HZ = {
 
 
 def _changed(text: str, name: str, value: str) -> str:
-    lines = [line for line in text.splitlines() if line.split("=")[0].strip() == name]
+    """The inputs file with *name*'s value line replaced (its band in a [tolerances] table kept)."""
+    table, lines = "", []
+    for line in text.splitlines():
+        table = line.split("]")[0].strip("[ ") if line.startswith("[") else table
+        if table != "tolerances" and line.split("=")[0].strip() == name:
+            lines.append(line)
     assert len(lines) == 1, name
     old = lines[0]
     return text.replace(old, f"{name} = {value}")
