@@ -146,7 +146,6 @@ class TestWorstCase:
         )  # in MN/m, as given
         assert (check.nominal_met, check.worst_met) == (True, False)
 
-
     def test_limit_with_a_band(self):
         """A limit that is itself a banded input: the worst case takes the value high and the limit low
         (hand arithmetic: 110 N/m against 105 * 0.95 = 99.75 N/m, margin (99.75 - 110) / 99.75)."""
@@ -410,6 +409,18 @@ class TestRecord:
         data["seal"] = seal_of(data)
         record = read_record(json.dumps(data))
         assert record.record_version == 3 and record.tolerances == {} and record.inputs[0].tolerance is None
+
+    def test_diff_names_a_changed_band(self):
+        """calckit diff's comparison lists a band that changed, as the inputs table shows it."""
+        from calckit.workflow.diff import diff_records
+
+        old = magnification_sheet({"mass": {"tolerance": "10 %"}}).record()
+        new = magnification_sheet({"mass": {"tolerance": "12 %"}, "speed": {"tolerance": "5 %"}}).record()
+        report = diff_records(old, new, old_name="a.json", new_name="b.json")
+        assert [(c.name, c.old, c.new) for c in report.details] == [
+            ("tolerance of mass", "± 10 %", "± 12 %"),
+            ("tolerance of speed", "no band", "± 5 %"),
+        ]
 
     def test_band_enters_the_fingerprint(self):
         plain, banded = magnification_sheet({}), magnification_sheet({"mass": {"tolerance": "10 %"}})
