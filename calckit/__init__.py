@@ -21,6 +21,7 @@ _PUBLIC = {
     ),
     "calckit.core.exact": ("exact",),
     "calckit.core.checks": ("finite", "non_negative", "positive"),
+    "calckit.core.tolerances": ("Tolerance", "tolerance_band"),
     "calckit.core.expressions": ("parse_expression", "parse_parameters"),
     "calckit.core.rounding": ("as_shown",),
     "calckit.core": ("units",),  # modules exported by name (``ck.units.fmt``)

@@ -592,13 +592,13 @@ class TestInputSources:
             (
                 'mass = { value = "1850 kg", sorce = "Vendor drawing" }\n',
                 'FILE, line 1, mass: unknown key "sorce" in the table of the input "mass". Did you mean "source"? '
-                f"An input written as a table takes only value and source: mass = {INLINE_EXAMPLE}; "
+                f"An input written as a table takes only value, source and a band (tolerance, or min and max): mass = {INLINE_EXAMPLE}; "
                 "to group inputs, put them under a [mass] header.",
             ),
             (
                 'machine = { speed = "1480 rpm" }\n',
                 'FILE, line 1, machine: unknown key "speed" in the table of the input "machine". '
-                f"An input written as a table takes only value and source: machine = {INLINE_EXAMPLE}; "
+                f"An input written as a table takes only value, source and a band (tolerance, or min and max): machine = {INLINE_EXAMPLE}; "
                 "to group inputs, put them under a [machine] header.",
             ),
             (

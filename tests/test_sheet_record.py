@@ -33,7 +33,7 @@ class TestRecord:
     def test_typed_attributes(self):
         """The attributes the diff and the batch summary read, typed, with the values the sheet holds."""
         record = ck.read_record(small_sheet(figure=False).to_json())
-        assert record.record_version == ck.RECORD_VERSION == 3  # 2: sealed; 3: results with their working
+        assert record.record_version == ck.RECORD_VERSION == 4  # 3: results with their working; 4: bands
         assert record.calckit_version == ck.__version__
         assert record.fingerprint == small_sheet(figure=False).fingerprint
         assert record.title_block.subject == "Pump P-101 on spring isolators"
@@ -244,7 +244,7 @@ class TestSeal:
     def test_written_records_are_sealed(self):
         """Sheet.record() and its JSON carry a seal over everything else the record holds."""
         data = json.loads(small_sheet().to_json())
-        assert data["record_version"] == 3
+        assert data["record_version"] == 4
         assert len(data["seal"]) == 64
         assert ck.read_record(json.dumps(data)).fingerprint == data["fingerprint"]
 

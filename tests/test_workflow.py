@@ -828,6 +828,11 @@ class TestSources:
             f"    'force_amplitude': {PUMP_SHEET!r},\n"
             f"    'damping_ratio': {ISOLATOR_SHEET!r},\n"
             "}\n"
+            "input_tolerances = {\n"  # the example's [tolerances] table
+            "    'mass': {'tolerance': '10 %'},\n"
+            "    'stiffness': {'tolerance': '15 %'},\n"
+            "    'forcing_frequency': {'tolerance': '5 %'},\n"
+            "}\n"
         )
 
     def test_plain_file_same_numbers_other_fingerprint(self, built, tmp_path):
@@ -901,8 +906,8 @@ class TestSources:
             build_sheet(TEMPLATE, inputs, tmp_path / "out")
         assert str(info.value) == (
             f'{inputs}, line 17, force_amplitude: unknown key "sourse" in the table of the input '
-            '"force_amplitude". Did you mean "source"? An input written as a table takes only value and '
-            'source: force_amplitude = { value = "...", source = "Vendor drawing ..." }; to group inputs, '
+            '"force_amplitude". Did you mean "source"? An input written as a table takes only value, '
+            'source and a band (tolerance, or min and max): force_amplitude = { value = "...", source = "Vendor drawing ..." }; to group inputs, '
             "put them under a [force_amplitude] header."
         )
         assert not (tmp_path / "out").exists()

@@ -27,7 +27,7 @@ from typing import Any
 
 from calckit.core.files import free_name, toml_value, write_text
 from calckit.explore.values import _Input
-from calckit.workflow import TITLE_FIELDS
+from calckit.workflow import TITLE_FIELDS, band_line
 
 #: What a refused overwrite tells the user to do instead.
 KEEP_ELSEWHERE = "Keep to another name, or pass overwrite=True to replace it"
@@ -174,14 +174,24 @@ def _replace_lines(file: Any, new: Mapping[str, str], *, revision: bool = False)
             except tomllib.TOMLDecodeError:
                 return None
             source = f"{old.get('source', '')}; moved in the what-if explorer from {old.get('value', '')}"
+            # a tolerance either side moves with the value; a min and max might not hold it: left out, said so
+            band = f", tolerance = {toml_value(old['tolerance'])}" if "tolerance" in old else ""
+            if "min" in old and "max" in old:
+                source += f"; its band {old['min']} to {old['max']} left out"
             lines[number - 1] = (
                 inline.group("lead")
-                + f"{{ value = {toml}, source = {toml_value(source.lstrip('; '))} }}"
+                + f"{{ value = {toml}{band}, source = {toml_value(source.lstrip('; '))} }}"
                 + inline.group("tail")
                 + ending
             )
         else:
             return None
+    for name in new:  # a band's min and max may not hold the moved value: kept as a comment, not applied
+        number = band_line(file.text, name)
+        if number is not None and set(file.tolerances.get(name, {})) == {"min", "max"}:
+            line = lines[number - 1]
+            ending = line[len(line.rstrip("\r\n")) :]
+            lines[number - 1] = f"# {line.rstrip()}  # left out: moved in the what-if explorer{ending}"
     if cleared and not revision:  # none given: the template's example letter would print; give none
         entry = f'revision = ""  {REVISION_CLEARED}\n'
         header = next((n for n, line in enumerate(lines) if _SHEET_HEADER.match(line)), None)

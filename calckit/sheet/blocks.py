@@ -66,6 +66,15 @@ class SheetInput:
     si_unit: str
     description: str
     source: str
+    tolerance: Any = None  # calckit.core.tolerances.Tolerance: the input's band, when it has one
+
+    @property
+    def shown_value(self) -> str:
+        """The value as the inputs table prints it, with its band: ``720 kN/m ± 15 %``."""
+        from calckit.sheet.values import shown_text
+
+        shown = shown_text(self.value) if hasattr(self.value, "units") else self.text
+        return f"{shown} {self.tolerance.text}" if self.tolerance is not None else shown
 
 
 @dataclass(frozen=True)
@@ -128,6 +137,8 @@ class Check:
     basis: str
     shown_value: str
     shown_limit: str
+    value_from: str = ""  # the result or input the value is, for the tolerance study ("" when not traced)
+    limit_from: str = ""  # the result or input the limit is ("" for a fixed limit)
 
     @property
     def verdict(self) -> str:

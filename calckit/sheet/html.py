@@ -40,6 +40,8 @@ from calckit.sheet.blocks import (
     TableBlock,
     TextBlock,
 )
+from calckit.sheet.tolerance_section import TOLERANCE_TITLE, tolerance_section
+from calckit.sheet.tolerance_study import study_of
 from calckit.sheet.values import shown_text
 
 __all__ = ["sheet_page", "sheet_fragment", "block_html", "show_block", "SHEET_SIG"]
@@ -70,7 +72,7 @@ def _input_rows(sheet: Any) -> list[list[Any]]:
         if isinstance(value, sp.Basic) and not value.is_number:
             shown = math_inline(sp.latex(value))
         else:
-            shown = escape(shown_text(value)) if hasattr(value, "units") else escape(rec.text)
+            shown = escape(rec.shown_value)
         rows.append([math_inline(rec.symbol), rec.description, shown, rec.source or "not given"])
     return rows
 
@@ -243,6 +245,16 @@ def _summary(sheet: Any) -> Html:
         )
     else:
         text = f"Acceptance checks: {met} of {n} met; {n - met} NOT MET (see section on checks)."
+    study = study_of(sheet)
+    if study is not None and n:  # the worst case over the inputs' bands, beside the nominal verdicts
+        done = [c for c in study.checks if c.evaluated]
+        worst = sum(c.worst_met for c in done)
+        text += (
+            f" Over the inputs' tolerance bands: {worst} of {len(done)} evaluated met at the worst case"
+            + (f", {len(done) - worst} NOT MET" if worst < len(done) else "")
+            + (f"; {n - len(done)} not evaluated" if n > len(done) else "")
+            + " (see the section on tolerances)."
+        )
     return Html(f'<p class="summary">{escape(text)}</p>')
 
 
@@ -319,6 +331,9 @@ def _body(sheet: Any) -> Html:
                 "an upper limit and the limit over the value for a least value; at most 1 when met.</p>"
             ),
         )
+    study = study_of(sheet)
+    if study is not None:  # only when some input has a tolerance band
+        next_section(TOLERANCE_TITLE, tolerance_section(sheet, study))
     references = [b for b in sheet.of_type(TextBlock) if b.kind == "reference"]
     if references:
         next_section(

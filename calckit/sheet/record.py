@@ -11,8 +11,9 @@ field.
 
 Versions
 --------
-``record_version`` is :data:`RECORD_VERSION` (3: sealed, every result with its
-working) for records written by this calckit; versions 1 and 2 are still read. A record without it was written before the field existed: it is read as
+``record_version`` is :data:`RECORD_VERSION` (4: sealed, every result with its
+working, tolerance bands and their study) for records written by this calckit; versions
+1 to 3 are still read. A record without it was written before the field existed: it is read as
 version 0 when it holds what a record needs, and refused (saying what is missing)
 when it does not. A record of a newer version than this calckit knows is refused.
 
@@ -23,7 +24,7 @@ Examples
 >>> _ = sheet.input("m", "250 kg", description="Pump and base mass", source="Vendor drawing")
 >>> record = read_record(sheet.to_json())
 >>> record.record_version, record.inputs[0].name, record.inputs[0].value, record.inputs[0].unit
-(3, 'm', 250.0, 'kg')
+(4, 'm', 250.0, 'kg')
 """
 
 from __future__ import annotations
@@ -49,12 +50,16 @@ __all__ = [
     "seal_of",
 ]
 
-RECORD_VERSION = 3
+RECORD_VERSION = 4
 """The version of the record this calckit writes, and the newest it reads.
 
 1: the typed record. 2: sealed (``seal``, a SHA-256 over the whole record, results included).
 3: every result carries its ``working`` (``{"kind": ..., "text": ...}``, the kinds of
 :data:`calckit.sheet.working.WORKING_KINDS`), and every check its ``utilisation``.
+4: an input with a tolerance band carries it (``tolerance``: the band as written, its ends
+and its text), and a sheet with such inputs its ``tolerances`` study (each check's nominal
+and worst-case verdicts, the point that governs, the sensitivities, a sampled study's pass
+fractions; :meth:`calckit.sheet.tolerance_study.ToleranceStudy.as_dict`).
 """
 
 WORKING_FROM = 3
@@ -88,6 +93,9 @@ class RecordInput:
         The SI unit of ``value`` (``""`` for a pure number).
     description, source : str
         What the input is, and where its value comes from.
+    tolerance : dict or None
+        The input's band (as written, its ``low`` and ``high`` ends shown in the value's
+        unit, and its ``text``); None without one, and in records older than version 4.
     """
 
     name: str
@@ -96,6 +104,7 @@ class RecordInput:
     unit: str
     description: str
     source: str
+    tolerance: dict | None = None
 
 
 @dataclass(frozen=True)
@@ -224,6 +233,7 @@ class SheetRecord:
     caution: str = ""
     inputs_file: str = ""
     output_units: dict = _field(default_factory=dict)
+    tolerances: dict = _field(default_factory=dict)  # the tolerance study; {} without bands (version 4)
 
     @property
     def checks_met(self) -> int:
@@ -245,7 +255,7 @@ class SheetRecord:
             "calckit": self.calckit_version,
             "fingerprint": self.fingerprint,
             "title_block": asdict(self.title_block),
-            "inputs": [asdict(item) for item in self.inputs],
+            "inputs": [_input_dict(item) for item in self.inputs],
             "results": [_result_dict(item) for item in self.results],
             "checks": [_check_dict(item) for item in self.checks],
             "summary": {"checks": len(self.checks), "met": self.checks_met},
@@ -266,6 +276,8 @@ class SheetRecord:
                 "system": self.output_units.get("system", "SI"),
                 "results": dict(self.output_units.get("results", {})),
             }
+        if self.tolerances:  # absent: no input has a tolerance band
+            data["tolerances"] = self.tolerances
         if self.record_version >= SEALED_FROM:
             data["seal"] = seal_of(data)
         return data
@@ -288,6 +300,13 @@ def seal_of(data: dict) -> str:
     content = {key: value for key, value in data.items() if key != "seal"}
     canonical = json.dumps(content, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
     return hashlib.sha256(canonical.encode("ascii")).hexdigest()
+
+
+def _input_dict(item: RecordInput) -> dict:
+    data = asdict(item)
+    if data["tolerance"] is None:  # only an input with a band says so
+        del data["tolerance"]
+    return data
 
 
 def _result_dict(item: RecordResult) -> dict:
@@ -345,7 +364,15 @@ def record_of(sheet: Any) -> SheetRecord:
         fingerprint=sheet.fingerprint,
         title_block=sheet.title,
         inputs=tuple(
-            RecordInput(rec.name, rec.text, rec.si, rec.si_unit, rec.description, rec.source)
+            RecordInput(
+                rec.name,
+                rec.text,
+                rec.si,
+                rec.si_unit,
+                rec.description,
+                rec.source,
+                rec.tolerance.as_dict() if getattr(rec, "tolerance", None) is not None else None,
+            )
             for rec in sheet.inputs.values()
         ),
         results=tuple(results),
@@ -375,7 +402,16 @@ def record_of(sheet: Any) -> SheetRecord:
         caution=sheet.caution or "",
         inputs_file=str(getattr(sheet, "inputs_file", "") or ""),
         output_units=units.record() if units is not None and units.asked else {},
+        tolerances=_tolerances(sheet),
     )
+
+
+def _tolerances(sheet: Any) -> dict:
+    """The sheet's tolerance study as the record holds it; {} when no input has a band."""
+    from calckit.sheet.tolerance_study import study_of
+
+    study = study_of(sheet) if hasattr(sheet, "sampling") else None
+    return study.as_dict() if study is not None else {}
 
 
 def _finite(value: float) -> float | None:

@@ -102,7 +102,10 @@ def read_record(path_or_text: str | os.PathLike, *, where: str | None = None) ->
             where=where,
             do="Give the .json record of a sheet, as Sheet.save writes it",
         ) from None
-    except (ValueError, RecursionError) as exc:  # Python's int-string and recursion limits: no record has them
+    except (
+        ValueError,
+        RecursionError,
+    ) as exc:  # Python's int-string and recursion limits: no record has them
         why = "nested deeper than Python reads" if isinstance(exc, RecursionError) else str(exc).split(";")[0]
         raise SheetError(
             f"the file is not a sheet's record: {why[:1].lower()}{why[1:]}",
@@ -152,6 +155,7 @@ def record_from_dict(data: Any, where: str) -> SheetRecord:
         caution=reader.text(data, "caution") if "caution" in data else "",
         inputs_file=reader.text(data, "inputs_file") if "inputs_file" in data else "",
         output_units=reader.output_units(data),
+        tolerances=reader.tolerances(data),
     )
     if version >= WORKING_FROM:
         for index, item in enumerate(record.results):
@@ -230,6 +234,13 @@ class _Reader:
         ):
             raise self.refuse("expected the system and a unit by result", "output_units")
         return {"system": value.get("system", "SI"), "results": dict(results)} if value else {}
+
+    def tolerances(self, data: dict) -> dict:
+        """The tolerance study (``{}``: no input has a band, or a record older than version 4)."""
+        value = data.get("tolerances", {})
+        if not isinstance(value, dict) or (value and not isinstance(value.get("checks"), list)):
+            raise self.refuse("expected the tolerance study: its method and checks", "tolerances")
+        return value
 
     def texts(self, data: dict, key: str) -> tuple[str, ...]:
         value = data.get(key, [])

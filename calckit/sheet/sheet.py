@@ -62,6 +62,7 @@ from calckit.sheet.output_units import OutputUnits, apply_units
 from calckit.sheet.record import SheetRecord, record_of
 from calckit.sheet.record_reading import existing_fingerprint
 from calckit.sheet.steps import Steps
+from calckit.sheet.tolerance_study import Tolerances
 from calckit.sheet.values import check_name, exact_text, figure_svg, shown_text, si_value, symbol_latex
 from calckit.sheet.working import conversion_formula, rounding_policy
 
@@ -79,7 +80,7 @@ def _canonical(obj: Any) -> str:
 # ------------------------------------------------------------------ the sheet
 
 
-class Sheet(Steps):
+class Sheet(Steps, Tolerances):
     """A calculation sheet built block by block.
 
     Parameters
@@ -101,6 +102,10 @@ class Sheet(Steps):
     sources : mapping, optional
         Source of an input by its name (from an inputs file); it wins over the
         ``source=`` given to :meth:`input`.
+    tolerances : mapping, optional
+        The band of an input by its name, as an inputs file writes it (``{"tolerance":
+        "15 %"}`` or ``{"min": ..., "max": ...}``); :meth:`given` puts it on the input, and
+        the sheet then evaluates its checks over the bands (:mod:`calckit.sheet.tolerance_study`).
     inputs_file : str, optional
         Where the template's inputs come from (the inputs file's name, or e.g.
         "the template's own values"): the source :meth:`given` records for an
@@ -128,8 +133,10 @@ class Sheet(Steps):
         sources: Mapping[str, str] | None = None,
         inputs_file: str = "",
         sig: int = 4,
+        tolerances: Mapping[str, Mapping[str, Any]] | None = None,
     ):
         self.sources = dict(sources or {})
+        self.tolerances = {str(name): dict(band) for name, band in (tolerances or {}).items()}
         self.inputs_file = str(inputs_file)
         self.title = TitleBlock(subject, project, number, revision, author, checker, date, approver)
         self.template_digest = hashlib.sha256(template.encode()).hexdigest() if template else ""
@@ -154,6 +161,11 @@ class Sheet(Steps):
         self.working: dict[
             str, Any
         ] = {}  # result name -> how it was obtained (calckit.sheet.working.Working)
+        self.chain: dict[
+            str, Any
+        ] = {}  # result name -> what its formula's symbols stand for (calckit.sheet.chain)
+        self._carried: dict[int, tuple[str, Any]] = {}  # id of a value carried() returned -> (result, value)
+        self.sampling: Any = None  # a sampled study asked for (calckit.sheet.tolerance_study.SampleRequest)
         self.assume(rounding_policy(sig))
 
     # -------------------------------------------------------------- adding
@@ -216,12 +228,15 @@ class Sheet(Steps):
         that is empty the sheet's ``inputs_file`` (a source the inputs file gives
         for *name* in ``sources`` wins over both). ``sign`` is one of
         :func:`calckit.positive` (the default), :func:`calckit.non_negative` or
-        :func:`calckit.finite`, called as ``sign(quantity, name)``.
+        :func:`calckit.finite`, called as ``sign(quantity, name)``. A band the sheet's
+        ``tolerances`` give for *name* goes on the input, its low end checked by ``sign`` too.
 
         Raises
         ------
         InputsError
             The value fails ``sign`` (e.g. a mass of 0 kg); the input stays on the sheet.
+            The band does not fit the value, or reaches a value ``sign`` refuses (a mass
+            whose band reaches zero).
         UnitsError
             The value is not of the kind ``expect`` names.
 
@@ -250,7 +265,18 @@ class Sheet(Steps):
             source=source or self.inputs_file,
             expect=expect,
         )
-        return sign(q, name)
+        q = sign(q, name)
+        if name in self.tolerances:
+            from dataclasses import replace
+
+            from calckit.core.tolerances import band_within_sign, tolerance_band
+
+            where = f"input {name}"
+            band = band_within_sign(tolerance_band(name, q, self.tolerances[name], where), sign, where)
+            old = self.inputs[name]
+            self.inputs[name] = replace(old, tolerance=band)
+            self.blocks = [self.inputs[name] if block is old else block for block in self.blocks]
+        return q
 
     def use_units(self, system: str | None = None, **results: str) -> OutputUnits:
         """Show the results in US customary units (``system="US"``) or in a unit chosen for each.
@@ -311,6 +337,7 @@ class Sheet(Steps):
         basis: str = "",
         unit: str | None = None,
         convention: str | None = None,
+        result: str | None = None,
     ) -> Check:
         """Add an acceptance check ``value relation limit`` with its margin and verdict.
 
@@ -320,19 +347,26 @@ class Sheet(Steps):
         comes from (a specification, a standard clause, or "common practice,
         no source"). ``convention`` (peak, peak-to-peak, rms) is shown beside value and
         limit; to convert a result to a limit's convention first, use :meth:`amplitude_check`.
+        ``result`` names the result (or input) the value is, for the evaluation over the
+        inputs' tolerances; without it the sheet finds it when the value is a result or input
+        as returned (by :meth:`calc`, :meth:`carried`, :meth:`given`), and says on the sheet
+        when it cannot.
         """
-        return self._add(
-            acceptance_check(
-                name,
-                value,
-                limit,
-                relation=relation,
-                basis=basis,
-                unit=unit,
-                sig=self.sig,
-                convention=convention,
-            )
+        from dataclasses import replace
+
+        from calckit.sheet.chain import origin_of
+
+        check = acceptance_check(
+            name, value, limit, relation=relation, basis=basis, unit=unit, sig=self.sig, convention=convention
         )
+        if result is not None and result not in self.results and result not in self.inputs:
+            raise SheetError(
+                f"there is no result or input named {result!r} on the sheet",
+                where=f"check {name}",
+                do="Name the result the checked value is, as calc() or result() named it",
+            )
+        value_from = result or origin_of(self, value) or ""
+        return self._add(replace(check, value_from=value_from, limit_from=origin_of(self, limit) or ""))
 
     def amplitude_check(self, name: str, result: str, limit: Any, **options: Any) -> Check:
         """A result against a limit in its own convention (peak, pk-pk, rms), converted in a shown step.
@@ -396,15 +430,18 @@ class Sheet(Steps):
             step += "_"
         omega, omega_n = sp.Symbol("omega"), sp.Symbol("omega_n")
         ratio = omega / omega_n if relative_to == DEFAULT_SEPARATION_REFERENCE else omega_n / omega
+        from calckit.sheet.chain import origin_of
+
         value = self.calc(
             step,
             sp.Abs(ratio - 1),
             {"omega": as_value(operating), "omega_n": as_value(natural)},
             symbol="Delta", unit="percent",
             title=f"Separation of the operating frequency from the natural frequency ({name})",
+            _origins={"omega": origin_of(self, operating), "omega_n": origin_of(self, natural)},
         )  # fmt: skip
         percent = float(value.to("percent").magnitude) if hasattr(value, "units") else float(value) * 100
-        return self.check(name, percent, band * 100, relation=">=", basis=basis, unit="percent")
+        return self.check(name, percent, band * 100, relation=">=", basis=basis, unit="percent", result=step)
 
     def speed_range_check(self, name: str, speeds: Any, natural_frequencies: Any, *, band: float = SEPARATION_BAND,
                           relative_to: str = DEFAULT_SEPARATION_REFERENCE, basis: str | None = None,
@@ -471,8 +508,9 @@ class Sheet(Steps):
         """SHA-256 over everything the user provided, the kit version and the template.
 
         Covered: the title block except the date, every input (name, text as given,
-        exact value, unit, description, source; not the name of the inputs file, which a
-        rename changes and the content does not), every check's name, limit,
+        exact value, unit, description, source, and its tolerance band as written when it
+        has one; not the name of the inputs file, which a rename changes and the content
+        does not), every check's name, limit,
         relation and basis, the assumptions, references, notes and the caution.
         Results are not covered: they follow from these. Two sheets with the same
         fingerprint came from the same inputs through the same calculation.
@@ -489,6 +527,7 @@ class Sheet(Steps):
             "inputs": [
                 # the inputs file's name stands for the file: renamed, the inputs are the same
                 [rec.name, rec.text, exact_text(rec.value), rec.si_unit, rec.description, _own(rec.source)]
+                + ([sorted(rec.tolerance.spec.items())] if rec.tolerance is not None else [])
                 for rec in self.inputs.values()
             ],
             "checks": [[c.name, c.relation, repr(c.limit), c.unit, c.basis] for c in self.checks],

@@ -17,6 +17,7 @@ import sympy as sp
 from calckit.core.rounding import as_shown
 from calckit.errors import SheetError
 from calckit.sheet.blocks import CalcStep, Check, IndependentCheck, ResultLine
+from calckit.sheet.chain import ChainStep, step_links
 from calckit.sheet.values import check_name, shown_text, symbol_latex
 from calckit.sheet.working import conversion_formula, reproduced, working_of
 
@@ -60,7 +61,9 @@ class Steps:
                 do="Give a whole number from 1 to 17, e.g. sig=4",
             )
         value = self.results[name]
-        return as_shown(value if hasattr(value, "units") else float(value), sig)
+        shown = as_shown(value if hasattr(value, "units") else float(value), sig)
+        self._carried[id(shown)] = (name, shown)  # kept, so the id stays this value's: the chain traces it
+        return shown
 
     def _in_rad_per_s(self, key: str, value: Any, where: str):
         """A speed or frequency in rpm, cpm or Hz as its own step in rad/s (once per sheet), carried as shown."""
@@ -80,7 +83,8 @@ class Steps:
             # an input typed with many digits (12.3333333333 Hz) is shown as typed, to 12 figures at most
             typed = {k: min(12, _figures(v.magnitude)) for k, v in values.items() if owner is not None}
             self.calc(name, formula, values, symbol=symbol, unit="rad/s", sig=self.sig,
-                      title=f"{owner.description if owner else key} in rad/s ({note})", value_sig=typed)  # fmt: skip
+                      title=f"{owner.description if owner else key} in rad/s ({note})", value_sig=typed,
+                      _origins={k: owner.name if owner else None for k in values})  # fmt: skip
         return self.carried(self._converted[given])
 
     def calc(
@@ -95,6 +99,7 @@ class Steps:
         reference: str = "",
         sig: int | None = None,
         value_sig: dict | None = None,
+        _origins: dict | None = None,
     ):
         """Put numbers through a formula as a numbered step and return the result.
 
@@ -149,7 +154,9 @@ class Steps:
                 where=f"step {name}",
                 do="Give each result its own name",
             )
+        raw = needed
         needed = {key: self._in_rad_per_s(key, value, f"step {name}") for key, value in needed.items()}
+        links = step_links(self, raw, needed, values, _origins)
         record = put_through(symbol or name, expr, needed, unit=unit, sig=sig, value_sig=value_sig)
         by_hand = reproduced(record)
         if by_hand is not None:
@@ -164,6 +171,7 @@ class Steps:
         self.working[name] = step.working
         result = record.quantity if hasattr(record, "quantity") else record.value
         self.results[name] = result
+        self.chain[name] = ChainStep(expr, links)
         return result
 
     def result(
@@ -242,7 +250,11 @@ class Steps:
             f"({comparison.method}); the settings are on the independent check's step"
         )
         return self.check(
-            f"independent check: {title or name}", comparison.agreement, comparison.tolerance, basis=basis
+            f"independent check: {title or name}",
+            comparison.agreement,
+            comparison.tolerance,
+            basis=basis,
+            result=f"{name}_integrated",  # over tolerances: from a procedure, not evaluated
         )
 
 

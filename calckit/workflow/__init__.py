@@ -28,6 +28,7 @@ _NAMES = {
     "check_keys": "calckit.workflow.inputs",
     "read_inputs": "calckit.workflow.inputs",
     "InputsFile": "calckit.workflow.inputs",
+    "band_line": "calckit.workflow.tolerance_table",
     "PARAMETERS_TAG": "calckit.workflow.templates",
     "INPUTS_TAG": "calckit.workflow.templates",
     "SAVE_TAG": "calckit.workflow.templates",

@@ -53,6 +53,7 @@ from calckit.workflow.held import check_out_folder, held_fingerprint
 from calckit.workflow.kernels import die_with_parent, loop_running, run_in_kept_kernel, run_sync
 from calckit.workflow.outfolder import FolderLock
 from calckit.workflow.templates import Template, load_template
+from calckit.workflow.tolerance_table import check_band_names
 
 __all__ = ["CaseResult", "BatchResult", "default_workers", "run_batch", "counted"]
 
@@ -122,6 +123,7 @@ def _run_case(
     sources: dict[str, str] | None = None,
     time_limit: float | None = CASE_TIME_LIMIT_S,
     units: dict | None = None,
+    tolerances: dict | None = None,
 ) -> CaseResult:
     """Build one case; never raises for a case that fails (runs in a worker)."""
     started = time.monotonic()
@@ -133,6 +135,7 @@ def _run_case(
         options["sources"] = sources
         options["time_limit"] = time_limit
         options["units"] = units  # the base inputs file's [units] table
+        options["tolerances"] = tolerances  # the base inputs file's bands
         once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
         with FolderLock(out):  # the case's folder, as a build's: read and checked under the lock
             held = held_fingerprint(out, template.name)
@@ -237,6 +240,7 @@ def run_batch(
     units = base.units.payload() if base is not None and base.units.given else None
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
+        check_band_names(base)
     cases_label = Path(cases).name
     jobs = []
     for case in table:
@@ -256,6 +260,8 @@ def run_batch(
         )
         # a source of the base file stays with its value: an input the case changes has none
         sources = {n: s for n, s in base_sources.items() if n not in case.values}
+        # a band stays with its input whatever value the case gives (one outside a min and max is refused)
+        bands = {n: dict(b) for n, b in (base.tolerances if base is not None else {}).items()}
         jobs.append(
             (
                 str(tmpl.path),
@@ -269,6 +275,7 @@ def run_batch(
                 sources,
                 time_limit,
                 units,
+                bands,
             )  # fmt: skip
         )
 

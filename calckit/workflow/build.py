@@ -203,6 +203,28 @@ def _check_sources(
             )
 
 
+def _check_tolerances(
+    template: Template, record: Mapping[str, Any], tolerances: Mapping[str, Any], wheres: Mapping[str, str]
+) -> None:
+    """Refuse a built sheet that does not carry a band the inputs file gives on its input."""
+    shown = {item.get("name"): item.get("tolerance") for item in record.get("inputs", [])}
+    for name in tolerances:
+        if name not in shown:
+            raise InputsError(
+                f'the template puts no input "{name}" on the sheet, so its tolerance would not be shown',
+                where=wheres.get(name, name),
+                do=f"Write {name} = value without a tolerance; nothing was written",
+            )
+        if not shown[name]:
+            raise BuildError(
+                f'the sheet shows "{name}" without the tolerance the inputs file gives it: the template does '
+                "not pass input_tolerances to its sheet",
+                where=str(template.path),
+                do="Set input_tolerances = {} in the cell before the parameters cell and create the sheet "
+                "with ck.Sheet(..., tolerances=input_tolerances); nothing was written",
+            )
+
+
 def _dead_kernel(kernel: Kernel, template: Template) -> BuildError:
     return BuildError(
         f"the kernel died while running the template (its last words: {kernel.last_words()})",
@@ -227,6 +249,7 @@ async def build_in_kernel(
     sources: Mapping[str, str] | None = None,
     time_limit: float | None = CASE_TIME_LIMIT_S,
     units: Mapping[str, Any] | None = None,
+    tolerances: Mapping[str, Mapping[str, str]] | None = None,
 ) -> BuildResult:
     """Build one sheet in *kernel* (warmed up), which is reset first; the steps of :func:`build_sheet`.
 
@@ -239,7 +262,9 @@ async def build_in_kernel(
 
     *sources* (input name -> source, from the inputs file) go to the template
     as ``input_sources``; the built sheet must show each of them. *units* (the inputs
-    file's ``[units]`` table, as plain data) go to :func:`save_built_sheet`.
+    file's ``[units]`` table, as plain data) go to :func:`save_built_sheet`. *tolerances*
+    (input name -> band as written) go to the template as ``input_tolerances``; the built
+    sheet must show each of them on its input.
     """
     import copy
 
@@ -253,7 +278,7 @@ async def build_in_kernel(
 
     notebook = copy.deepcopy(template.notebook)
     injected = nbformat.v4.new_code_cell(
-        inputs_cell_source(assignments, inputs_label, template.digest, sources)
+        inputs_cell_source(assignments, inputs_label, template.digest, sources, tolerances)
     )
     injected.metadata["tags"] = [INPUTS_TAG]
     if "id" in injected and INPUTS_TAG not in {cell.get("id") for cell in notebook.cells}:
@@ -294,6 +319,8 @@ async def build_in_kernel(
         record = _read_record(record_path)
         if sources:
             _check_sources(template, record, sources, wheres)
+        if tolerances:
+            _check_tolerances(template, record, tolerances, wheres)
         fingerprint = record["fingerprint"]
         if held_any and not overwrite and held_print != fingerprint:
             raise refuse_other_sheet(out, stem, held_print)
@@ -375,18 +402,30 @@ def _read_record(path: Path) -> dict:
 def _prepare_build(
     path: Path, inputs: str | os.PathLike, out: Path
 ) -> tuple[
-    Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str], dict | None
+    Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str], dict | None, dict
 ]:
     """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
     from calckit.workflow.inputs import check_keys, read_inputs
+    from calckit.workflow.tolerance_table import check_band_names
 
     tmpl = load_template(path)
     file = read_inputs(inputs)
     check_keys(file, tmpl.parameters, path=file.path, optional=tmpl.optional_inputs)
+    check_band_names(file)
     wheres = {name: file.where(name) for name in tmpl.parameters}
     held = held_fingerprint(out, tmpl.name)
     units = file.units.payload() if file.units.given else None
-    return tmpl, prepared_values(tmpl, file), wheres, file.path.name, held, dict(file.sources), units
+    tolerances = {name: dict(band) for name, band in file.tolerances.items()}
+    return (
+        tmpl,
+        prepared_values(tmpl, file),
+        wheres,
+        file.path.name,
+        held,
+        dict(file.sources),
+        units,
+        tolerances,
+    )
 
 
 async def _build_alone(
@@ -408,12 +447,12 @@ async def _build_alone(
         await asyncio.wait({prepare, warm}, return_when=asyncio.FIRST_EXCEPTION)
         if prepare.done() and prepare.exception() is not None:
             warm.cancel()  # bad inputs: no need to wait for the kernel
-        template, assignments, wheres, label, held, sources, units = await prepare
+        template, assignments, wheres, label, held, sources, units, tolerances = await prepare
         await warm
         return await build_in_kernel(
             kernel, template, assignments, wheres, label, out, held,
             pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
-            time_limit=time_limit, units=units,
+            time_limit=time_limit, units=units, tolerances=tolerances,
         )  # fmt: skip
     finally:
         if not warm.done():

@@ -469,11 +469,14 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
     )
     grouped: dict[tuple[str, str, str], list[str]] = {}  # one line for one change shared by inputs
     files = (str(old.get("inputs_file") or ""), str(new.get("inputs_file") or ""))
-    for key in ("description", "source"):
+    for key in ("description", "source", "tolerance"):
         for name in inputs_old:
             if name not in inputs_new:
                 continue  # removed: listed with the inputs
-            was, now = str(inputs_old[name].get(key) or ""), str(inputs_new[name].get(key) or "")
+            was, now = (
+                str((item.get(key) or {}).get("text") or "no band") if key == "tolerance" else str(item.get(key) or "")
+                for item in (inputs_old[name], inputs_new[name])
+            )  # a band as the inputs table shows it (record version 4)
             if key == "source" and all(files) and (was, now) == files:
                 continue  # the inputs file renamed: its content is compared input by input, not its name
             if was != now:

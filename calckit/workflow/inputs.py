@@ -43,8 +43,12 @@ allowed beside it): two inputs, ``velocity_limit`` and ``velocity_limit_conventi
 
 The value goes to the template exactly as if it were written alone; the source
 (non-empty text) is shown in the sheet's Source column in place of the inputs
-file's name (:attr:`InputsFile.sources`). ``value`` and ``source`` are the only
-keys such a table takes. An inline table names one input; a ``[table]``
+file's name (:attr:`InputsFile.sources`). A value that is not exact may carry its
+band, with or without a source: ``{ value = "720 kN/m", tolerance = "15 %" }``
+(relative, or absolute as ``"50 kN/m"``) or ``min`` and ``max``, or in a ``[tolerances]``
+table by the input's name (:attr:`InputsFile.tolerances`,
+:mod:`calckit.workflow.tolerance_table`). ``value``,
+``source``, ``tolerance``, ``min`` and ``max`` are the only keys such a table takes. An inline table names one input; a ``[table]``
 header groups inputs. The title-block fields take no source.
 
 Input values are text, integers, finite floats, true/false, or arrays of those.
@@ -78,6 +82,7 @@ from typing import Any
 from calckit.core.characters import lookalike
 from calckit.errors import InputsError
 from calckit.workflow.input_conventions import CONVENTION_SUFFIX, missing_conventions, with_convention
+from calckit.workflow.tolerance_table import split_band, table_bands
 from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
 
@@ -144,6 +149,9 @@ class InputsFile:
     conventions : Mapping[str, str]
         The amplitude convention of each input written as ``{ value = ..., convention = ... }``
         (peak, peak-to-peak or rms), by name; each is also the input ``{name}_convention``.
+    tolerances : Mapping[str, Mapping[str, str]]
+        The band of each input written with one (``{"tolerance": "15 %"}`` or
+        ``{"min": ..., "max": ...}``), by name.
     """
 
     path: Path
@@ -154,6 +162,7 @@ class InputsFile:
     sources: Mapping[str, str] = field(default_factory=dict)
     units: UnitsTable = field(default_factory=UnitsTable)
     conventions: Mapping[str, str] = field(default_factory=dict)
+    tolerances: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
 
     def line_of(self, key: str) -> int | None:
         """Line number (from 1) where *key* is set, best effort; None if not found.
@@ -254,8 +263,10 @@ def read_inputs(path: str | Path) -> InputsFile:
     groups: dict[str, str] = {}
     sources: dict[str, str] = {}
     conventions: dict[str, str] = {}
+    tolerances: dict[str, dict[str, str]] = {}
     sheet = TitleBlock()
     units = UnitsTable()
+    bands: dict[str, Any] = {}
     text_file = InputsFile(path, {}, text=text)
 
     def add(key: str, value: Any, group: str) -> None:
@@ -276,7 +287,10 @@ def read_inputs(path: str | Path) -> InputsFile:
         if isinstance(value, dict) and "convention" in value:
             value, conventions[key] = with_convention(value, place)
         if isinstance(value, dict):
-            value, sources[key] = _sourced_value(key, value, place)
+            value, band = split_band(key, value, place)
+            value, source = _sourced_value(key, value, place, band is not None)
+            sources.update({key: source} if source is not None else {})
+            tolerances.update({key: band} if band is not None else {})
         values[key] = _input_value(value, place)
         groups[key] = group
         if key in conventions:  # the convention is an input of its own, next to its amplitude
@@ -287,6 +301,8 @@ def read_inputs(path: str | Path) -> InputsFile:
             sheet = _title_block(value, path, text_file)
         elif key == "units" and isinstance(value, dict) and _find_line(text, "", key) is None:
             units = read_units_table(value, path, lambda inner: _find_line(text, "units", inner))
+        elif key == "tolerances" and isinstance(value, dict) and _find_line(text, "", key) is None:
+            bands = value  # read once every input is known
         elif isinstance(value, dict) and _find_line(text, "", key) is not None:
             add(key, value, "")  # key = { value = ..., source = ... }: one input, not a group
         elif isinstance(value, dict):
@@ -300,6 +316,7 @@ def read_inputs(path: str | Path) -> InputsFile:
                 add(inner, inner_value, key)
         else:
             add(key, value, "")
+    tolerances.update(table_bands(bands, values, tolerances, path, lambda k: _find_line(text, "tolerances", k)))
     for key in sheet.present():  # one value a field: which one would win is not for us to guess
         if key in values:
             first = f"in [{groups[key]}]" if groups[key] else "at the top level"
@@ -317,13 +334,16 @@ def read_inputs(path: str | Path) -> InputsFile:
         MappingProxyType(sources),
         units,
         MappingProxyType(conventions),
+        MappingProxyType(tolerances),
     )
 
 
-_SOURCED_KEYS = ("value", "source")
+_SOURCED_KEYS = ("value", "source", "tolerance", "min", "max")
 
 
-def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any, str]:
+def _sourced_value(
+    key: str, table: Mapping[str, Any], place: str, banded: bool = False
+) -> tuple[Any, str | None]:
     """The value and the source of an input written as ``key = { value = ..., source = ... }``."""
     example = f'{key} = {{ value = "...", source = "Vendor drawing ..." }}'
     if key in TITLE_FIELDS:
@@ -339,7 +359,8 @@ def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any,
             raise InputsError(
                 f'unknown key "{inner}" in the table of the input "{key}"',
                 where=place,
-                do=f"{hint}An input written as a table takes only value and source: {example}; "
+                do=f"{hint}An input written as a table takes only value, source and a band (tolerance, or min "
+                f"and max): {example}; "
                 f"to group inputs, put them under a [{key}] header",
             )
     if "value" not in table:
@@ -348,6 +369,8 @@ def _sourced_value(key: str, table: Mapping[str, Any], place: str) -> tuple[Any,
             where=place,
             do=f"Give its value in the table: {example}",
         )
+    if "source" not in table and banded:
+        return table["value"], None
     if "source" not in table:
         raise InputsError(
             f'the input "{key}" is written as a table without a source',

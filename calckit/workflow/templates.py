@@ -21,10 +21,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
    the templates folder, for runs by hand.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
-   fingerprint covers the template, with ``sources=input_sources`` and
-   ``inputs_file=inputs_file``. A cell *before* the parameters cell sets the
-   defaults ``template_text = ""``, ``inputs_file = "..."`` (used as the inputs'
-   source) and ``input_sources = {}``, so that the template also runs by hand.
+   fingerprint covers the template, with ``sources=input_sources``,
+   ``tolerances=input_tolerances`` and ``inputs_file=inputs_file``. A cell *before*
+   the parameters cell sets the defaults ``template_text = ""``, ``inputs_file =
+   "..."`` (used as the inputs' source), ``input_sources = {}`` and
+   ``input_tolerances = {}``, so that the template also runs by hand.
    The template imports only ``calckit`` (``import calckit as ck``) and general
    libraries. Inputs go on the sheet under their parameter names
    (``sheet.given("mass", mass, "m", "Moving mass", "mass")``), so that an error
@@ -42,10 +43,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
    ``template_text`` (a SHA-256 of the template's cell sources, so that
    metadata Jupyter rewrites on save does not count) and, when the inputs file
    gives sources, ``input_sources`` (input name -> source, for those inputs
-   only). A source given for an input that the built sheet does not show, or
-   not shown as its source (a template that does not pass ``input_sources`` to
-   its sheet), stops the build before anything is written: no source is
-   dropped without a word. The notebook runs in
+   only), and when it gives tolerance bands, ``input_tolerances`` (input name ->
+   the band as written). A source given for an input that the built sheet does not
+   show, or not shown as its source (a template that does not pass ``input_sources``
+   to its sheet), stops the build before anything is written: no source is dropped
+   without a word; nor is a band (``input_tolerances``). The notebook runs in
    a new ``python3`` kernel of the interpreter calckit runs in (see
    :mod:`calckit.workflow.kernels`), with a temporary folder as its working folder. The kernel is started
    first; the template and the inputs are read and checked while it starts and
@@ -204,7 +206,8 @@ def find_template(spec: str | os.PathLike) -> Path:
     known = ", ".join(bundled) or "none"
     found = lookalike(str(spec))
     raise BuildError(
-        "no such template: it is neither a notebook file nor a bundled template" + (f" ({found})" if found else ""),
+        "no such template: it is neither a notebook file nor a bundled template"
+        + (f" ({found})" if found else ""),
         where=str(spec),
         do=f"Give the path of a .ipynb file or a bundled template's name ({known})",
     )
@@ -279,9 +282,7 @@ def load_template(template: str | os.PathLike) -> Template:
     except InputsError as exc:
         raise InputsError(exc.what, where=f"{path}, cell {tagged[0] + 1}, {exc.where}", do=exc.do) from None
     optional = frozenset(
-        match.group(1)
-        for match in _OPTIONAL_LINE.finditer(cell_source(cell))
-        if match.group(1) in parameters
+        match.group(1) for match in _OPTIONAL_LINE.finditer(cell_source(cell)) if match.group(1) in parameters
     )
     files = frozenset(
         match.group(1) for match in _FILE_LINE.finditer(cell_source(cell)) if match.group(1) in parameters
@@ -300,12 +301,14 @@ def inputs_cell_source(
     inputs_label: str,
     digest: str,
     sources: Mapping[str, str] | None = None,
+    tolerances: Mapping[str, Mapping[str, str]] | None = None,
 ) -> str:
     """The source of the cell the build puts after the parameters cell (tagged ``inputs-from-file``).
 
     It assigns every input (*assignments*, the value alone), ``inputs_file``
     (*inputs_label*), ``template_text`` (the template's *digest*) and, when
-    given, ``input_sources`` (input name -> source).
+    given, ``input_sources`` (input name -> source) and ``input_tolerances`` (input
+    name -> its band as written, ``{"tolerance": "15 %"}``).
 
     Raises
     ------
@@ -335,6 +338,9 @@ def inputs_cell_source(
                     do="Give each source as text, by the input's name",
                 )
         text += "input_sources = {\n" + "".join(f"    {n!r}: {s!r},\n" for n, s in sources.items()) + "}\n"
+    if tolerances:  # left out when there are none: the template's default input_tolerances = {} holds
+        bands = {str(n): {str(k): str(v) for k, v in band.items()} for n, band in tolerances.items()}
+        text += "input_tolerances = {\n" + "".join(f"    {n!r}: {b!r},\n" for n, b in bands.items()) + "}\n"
     return text
 
 
