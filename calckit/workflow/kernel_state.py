@@ -40,6 +40,20 @@ __all__ = ["kernel_warm_up", "kernel_reset"]
 
 _BASELINE: dict[str, Any] = {}
 
+#: calckit's caches that the reset keeps: each holds what depends on its arguments only (unit
+#: names), never a case's data, and costs time to fill (the exact unit registry is a second pint
+#: registry, about 0.4 s to build). A case that defines units is caught by the reset's check of the
+#: registries, and its kernel replaced. Every other cache of calckit is emptied before each case.
+KEPT_CACHES = frozenset(
+    {
+        "calckit.core.units._exact_registry",
+        "calckit.core.units._pi_fraction",
+        "calckit.core.units._exact_factor",
+        "calckit.core.units._unit_dims",
+        "calckit.core.units._kind_dimensionality",
+    }
+)
+
 
 def kernel_warm_up() -> None:
     """Run once in a new kernel: import what templates use, then record the state to reset to.
@@ -74,6 +88,7 @@ def kernel_warm_up() -> None:
     import calckit.render.numbers
     import calckit.sheet.sheet  # noqa: F401
 
+    calckit.core.units.to_si("1 kN/m", "warm-up")  # builds the exact unit registry (a kept cache)
     shell = get_ipython()
     rc = dict(matplotlib.rcParams.copy())
     rc.pop("backend", None)
@@ -102,6 +117,10 @@ def kernel_warm_up() -> None:
         units=_units_state(),
     )
     random.seed()  # (the reset reseeds too: a case never sees the numbers of another)
+    import gc
+
+    gc.collect()
+    gc.freeze()  # what the warm-up loaded stays: the reset's collection then looks at a case's objects only
 
 
 def _units_state() -> tuple:
@@ -194,7 +213,9 @@ def kernel_reset(folder: str) -> None:
     clear_cache()
     for name, module in list(sys.modules.items()):
         if name == "calckit" or name.startswith("calckit."):
-            for value in list(vars(module).values()):
+            for key, value in list(vars(module).items()):
+                if f"{name}.{key}" in KEPT_CACHES:
+                    continue
                 if callable(getattr(value, "cache_clear", None)) and hasattr(value, "cache_info"):
                     value.cache_clear()
     random.seed()
