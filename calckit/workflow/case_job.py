@@ -55,8 +55,11 @@ class CaseJob:
     units : dict or None
         The base inputs file's ``[units]`` table, as plain data.
     data : dict
-        Parameter -> (file name, bytes) of the data files the template's ``# file``
-        parameters name.
+        Parameter -> (path, bytes) of the data files the template's ``# file``
+        parameters name, the path as the batch's machine has it. A worker that sees
+        the same bytes at that path (the same machine, or a shared file system) reads
+        them there, so the executed notebook names the file as a build would; any other
+        worker writes the bytes into its own folder and the notebook names that copy.
     pdf : bool
     time_limit : float or None
     timeout : int
@@ -105,7 +108,7 @@ def data_payload(
         path = Path(str(values[name]))
         path = path if path.is_absolute() else folder / path
         try:
-            payload[name] = (path.name, path.read_bytes())
+            payload[name] = (str(path.resolve()), path.read_bytes())
         except OSError as exc:
             raise InputsError(
                 f'the data file "{values[name]}" cannot be read ({exc.strerror or exc})',
@@ -147,10 +150,8 @@ def _build(job: CaseJob, scratch: Path, started: float) -> tuple[dict[str, bytes
     values = dict(job.values)
     if job.data:
         folder = scratch / "data"
-        folder.mkdir()
-        for name, (file_name, data) in job.data.items():
-            (folder / file_name).write_bytes(data)
-            values[name] = str(folder / file_name)
+        for name, (original, data) in job.data.items():
+            values[name] = _data_file(Path(original), data, folder)
     out = scratch / "sheet"
     options = {"pdf": job.pdf, "overwrite": False, "timeout": job.timeout, "started": started}
     options.update(sources=dict(job.sources), time_limit=job.time_limit, units=job.units)
@@ -165,3 +166,16 @@ def _build(job: CaseJob, scratch: Path, started: float) -> tuple[dict[str, bytes
         result = run_sync(lambda: run_in_kept_kernel(run, once=once))
     files = {path.suffix: path.read_bytes() for path in result.files}
     return files, result.record, result.seconds
+
+
+def _data_file(original: Path, data: bytes, folder: Path) -> str:
+    """The path the kernel reads a data file at: the original if it holds these bytes, else a copy in *folder*."""
+    try:
+        if original.read_bytes() == data:
+            return str(original)
+    except OSError:
+        pass
+    folder.mkdir(exist_ok=True)
+    copy = folder / original.name
+    copy.write_bytes(data)
+    return str(copy)

@@ -120,6 +120,7 @@ def _pool_round(
     how = "no exit status known"
     try:
         futures = {pool.submit(build_case, job): index for index, job in enumerate(jobs)}
+        processes = dict(getattr(pool, "_processes", None) or {})  # kept: a broken pool forgets them
         broken: dict[int, BaseException] = {}
         for future in cf.as_completed(futures):
             index = futures[future]
@@ -127,7 +128,7 @@ def _pool_round(
                 built = future.result()
             except cf.process.BrokenProcessPool as exc:
                 broken[index] = exc
-                how = _how_it_died(pool) or how
+                how = _how_it_died(processes) or how
                 continue
             except Exception as exc:  # the job could not be sent or taken back (not picklable ...)
                 built = _failed(jobs[index], exc)
@@ -141,9 +142,12 @@ def _pool_round(
     return unfinished, how
 
 
-def _how_it_died(pool: cf.ProcessPoolExecutor) -> str:
-    """How a dead worker of *pool* ended: ``killed by SIGKILL``, ``exit code 1`` (the others were ended by the pool)."""
-    codes = [p.exitcode for p in list((getattr(pool, "_processes", None) or {}).values())]
+def _how_it_died(processes: dict) -> str:
+    """How a dead worker ended: ``killed by SIGKILL``, ``exit code 1`` (not the others, ended by the pool)."""
+    for process in processes.values():
+        with contextlib.suppress(Exception):
+            process.join(timeout=5)  # the pool ends the others once one died
+    codes = [p.exitcode for p in processes.values()]
     codes = [c for c in codes if c not in (None, 0, -signal.SIGTERM)]
     if not codes:
         return ""
