@@ -156,7 +156,7 @@ COMMAND_EXIT_CODES = {
     "(--time-limit; the summary is written and says which), or " + _DEFECT[2:],
     "diff": "Exit codes: 0 compared; 2 bad input (a file that is not a sheet's record, a record edited after it "
     "was built) or a refused report file (without --overwrite); " + _DEFECT,
-    "watch": "Exit codes: 130 stopped by Ctrl-C (the usual end of a watch); 2 bad input when the watch starts "
+    "watch": "Exit codes: 130 interrupted (Ctrl-C, the usual end of a watch); 2 bad input when the watch starts "
     "(no such template or inputs file, an option); 1 a defect of calckit (an internal error: the message carries "
     "a line to report). A bad edit while watching, a refused overwrite, a failed build or a watched file that "
     "disappears is said as an error line and the watch goes on.",
