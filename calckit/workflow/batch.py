@@ -217,6 +217,7 @@ def run_batch(
     cases_label = Path(cases).name
     template_text = tmpl.path.read_text(encoding="utf-8")
     jobs: list[CaseJob] = []
+    read_files: dict[Path, bytes] = {}  # each data file read once, its bytes shared by the cases
     for case in table:
         values = {**base_values, **case.values}
         missing = [name for name in tmpl.inputs if name not in values]
@@ -245,7 +246,7 @@ def run_batch(
                 inputs_label=label,
                 sources=sources,
                 units=units,
-                data=data_payload(values, tmpl.files, tmpl.path.parent, wheres),
+                data=data_payload(values, tmpl.files, tmpl.path.parent, wheres, read_files),
                 pdf=pdf,
                 time_limit=time_limit,
                 timeout=CELL_TIMEOUT_S,

@@ -94,9 +94,16 @@ class BuiltCase:
 
 
 def data_payload(
-    values: Mapping[str, Any], names: frozenset[str], folder: Path, wheres: Mapping[str, str]
+    values: Mapping[str, Any],
+    names: frozenset[str],
+    folder: Path,
+    wheres: Mapping[str, str],
+    read: dict[Path, bytes] | None = None,
 ) -> dict[str, tuple[str, bytes]]:
     """The data files the parameters *names* point at, read as bytes (a relative path is from *folder*).
+
+    *read* keeps the bytes of the files read so far (path -> bytes): a batch passes one for all
+    its cases, so a file that many cases name is read, and held, once.
 
     Raises
     ------
@@ -108,7 +115,13 @@ def data_payload(
         path = Path(str(values[name]))
         path = path if path.is_absolute() else folder / path
         try:
-            payload[name] = (str(path.resolve()), path.read_bytes())
+            path = path.resolve()
+            data = read.get(path) if read is not None else None
+            if data is None:
+                data = path.read_bytes()
+                if read is not None:
+                    read[path] = data
+            payload[name] = (str(path), data)
         except OSError as exc:
             raise InputsError(
                 f'the data file "{values[name]}" cannot be read ({exc.strerror or exc})',

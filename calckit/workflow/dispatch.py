@@ -64,23 +64,28 @@ def _failed(job: CaseJob, exc: BaseException) -> BuiltCase:
 
 def _given_executor(jobs: list[CaseJob], executor: Any, on_done: Callable[[BuiltCase], None]) -> None:
     finished: queue.Queue = queue.Queue()
-    futures = []
+    pending: dict[
+        int, Any
+    ] = {}  # a future is let go once its case is taken back (dask then frees its result)
     try:
         for job in jobs:
             future = executor.submit(build_case, job)
-            futures.append(future)
+            pending[id(future)] = future
             future.add_done_callback(lambda f, job=job: finished.put((job, f)))
+        future = None
         for _ in jobs:
             job, future = finished.get()
+            pending.pop(id(future), None)
             try:
                 built = future.result()
             except BaseException as exc:  # the worker died, or the job could not be sent or taken back
                 if isinstance(exc, KeyboardInterrupt):
                     raise
                 built = _failed(job, exc)
+            future = None
             on_done(built)
     except BaseException:  # Ctrl-C, or the batch broke: what has not run is not run
-        for future in futures:
+        for future in list(pending.values()):
             with contextlib.suppress(Exception):
                 future.cancel()
         raise
