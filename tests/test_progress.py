@@ -33,7 +33,7 @@ def test_a_bar_on_a_terminal_with_failures_above_it():
     progress(2, 4, FAILED)
     text = stream.getvalue()[len(first) :]
     # the bar's line is cleared, the failure printed on its own line, then the bar again
-    assert "\np101-b: FAILED: p101.toml, line 16, mass: must be greater than zero.\n" in text
+    assert "\rp101-b: FAILED: p101.toml, line 16, mass: must be greater than zero.\n\r[" in text
     assert text.rstrip().endswith("left") and " 2/4 cases, 1 failed, " in text
     progress(3, 4, BUILT)
     progress(4, 4, BUILT)

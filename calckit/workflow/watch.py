@@ -162,6 +162,7 @@ class _Session:
         self.record: dict | None = None  # the last sheet built
         self.written: dict[str, str] = {}  # its files' digests, as written
         self.data_files: list[Path] = []  # the data files the last inputs named
+        self._template: tuple[FileState | None, Any] = (None, None)  # the template as last read
 
     async def kernel_ready(self) -> Kernel:
         if self.kernel is not None and not self.kernel.healthy:
@@ -184,7 +185,7 @@ class _Session:
         from calckit.workflow.inputs import check_keys, read_inputs
 
         started = time.monotonic()
-        template = load_template(self.path)  # read anew: the template may be edited too
+        template = self.template()
         file = read_inputs(self.inputs)
         check_keys(file, template.parameters, path=file.path, optional=template.optional_inputs)
         wheres = {name: file.where(name) for name in template.parameters}
@@ -218,6 +219,15 @@ class _Session:
             )  # fmt: skip
             self.written = _digests(self.out, template.name)
         return result
+
+    def template(self) -> Any:
+        """The template, read again only when its bytes changed (it may be edited while watching)."""
+        known, template = self._template
+        state = file_state(self.path, known)
+        if template is None or state is None or state != known:
+            template = load_template(self.path)
+            self._template = (state, template)
+        return template
 
     def watched(self) -> list[Path]:
         return [self.inputs, *self.data_files]
