@@ -343,8 +343,13 @@ async def _one_build(session: _Session, tell: Callable, *, first: bool) -> int:
     what = "Built" if first else "Rebuilt"
     text = f"{what} {session.path.stem} from {session.inputs.name} in {result.seconds:.1f} s: {_verdict(result.record)}"
     moved = moved_summary(session.record, result.record) if session.record is not None else ""
+    first_sheet = session.record is None
     session.record = result.record
     tell(WatchEvent("built", text, result=result, moved=moved))
+    if (
+        first_sheet
+    ):  # while the user reads: load what the diff needs (units, about a second), not after an edit
+        moved_summary(result.record, result.record)
     return 1
 
 
