@@ -159,7 +159,12 @@ def _build(job: CaseJob, scratch: Path, started: float) -> tuple[dict[str, bytes
 
     source = scratch / f"{job.template_name}.ipynb"
     source.write_text(job.template_text, encoding="utf-8")
-    template = replace(load_template(source), path=Path(job.template_label))  # messages name the original
+    try:
+        template = replace(load_template(source), path=Path(job.template_label))  # messages name the original
+    except CalcError as exc:  # the same: the template as the batch's machine has it, not this copy
+        raise type(exc)(
+            exc.what, where=str(exc.where).replace(str(source), job.template_label), do=exc.do
+        ) from None
     values = dict(job.values)
     if job.data:
         folder = scratch / "data"
