@@ -10,7 +10,8 @@ recorded, changes to the case's own working folder, restores the environment
 variables, ``sys.path``, the warning filters (and forgets which warnings were
 shown), numpy's error and print settings, sympy's global parameters,
 the recursion limit, IPython's display formatters, event hooks and
-transformers; it empties sympy's cache and calckit's own caches and reseeds
+transformers; it empties sympy's cache and calckit's own caches (bar the unit caches of
+:data:`KEPT_CACHES`, which hold unit data only) and reseeds
 ``random`` and numpy's global generator from the system, as a new process
 would. The state it cannot put back is checked instead: a replaced
 ``sys.stdout`` or hook, a changed builtin, changed import hooks, units
@@ -158,7 +159,7 @@ def kernel_reset(folder: str) -> None:
     rcParams, the working folder (*folder*), environment variables,
     ``sys.path``, warning filters (and which warnings were already shown),
     numpy's error and print settings, sympy's global parameters and cache,
-    calckit's caches, IPython's display formatters, event hooks and
+    calckit's caches (bar :data:`KEPT_CACHES`), IPython's display formatters, event hooks and
     transformers, and reseeds ``random`` and numpy's global generator from the
     system, as a new process would. What cannot be put back (a new builtin, a
     replaced ``sys.stdout``, a module imported from outside the installation,
