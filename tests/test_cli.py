@@ -266,7 +266,7 @@ class TestExitCodes:
             "calckit build: error: p101.toml, line 16, mass: must be greater than zero, got 0 kg.\n"
         )
 
-    @pytest.mark.parametrize("command", [[], ["build"], ["batch"], ["demo"], ["diff"], ["new"]])
+    @pytest.mark.parametrize("command", [[], ["build"], ["batch"], ["demo"], ["diff"], ["new"], ["watch"]])
     def test_help_says_the_exit_codes(self, capsys, command):
         """The help of the command states all the exit codes; each sub-command's, those it can end with."""
         with pytest.raises(SystemExit):
@@ -279,7 +279,7 @@ class TestExitCodes:
             assert "1 a template cell that failed on another error" in out
             assert "a build past its time limit" in out
 
-    @pytest.mark.parametrize("command", ["build", "batch", "demo", "diff", "new"])
+    @pytest.mark.parametrize("command", ["build", "batch", "demo", "diff", "new", "watch"])
     def test_help_offers_only_options_it_takes(self, capsys, command):
         """Every --option a command's help names is one argparse accepts for that command."""
         with pytest.raises(SystemExit):
@@ -489,7 +489,7 @@ class TestNew:
 
 class TestHelp:
     def test_commands_listed(self, capsys):
-        """calckit --help lists the five commands with their library summaries."""
+        """calckit --help lists the six commands with their library summaries."""
         with pytest.raises(SystemExit) as info:
             cli.main(["--help"])
         assert info.value.code == 0
@@ -500,6 +500,7 @@ class TestHelp:
             ("diff", diffing.diff_sheets),
             ("batch", workflow.run_batch),
             ("new", workflow.new_calculation),
+            ("watch", workflow.watch_sheet),
         ):
             assert f"{name} {cli._summary(func)}" in out
 
@@ -509,6 +510,7 @@ class TestHelp:
             ("build", workflow.build_sheet, ["inputs", "out", "pdf", "overwrite"]),
             ("batch", workflow.run_batch, ["cases", "inputs", "workers", "overwrite"]),
             ("demo", workflow.run_demo, ["out", "pdf", "overwrite"]),
+            ("watch", workflow.watch_sheet, ["inputs", "out", "pdf", "overwrite"]),
         ],
     )
     def test_options_reuse_docstrings(self, capsys, command, func, options):
@@ -607,6 +609,7 @@ class TestTrust:
             ("demo", True),
             ("diff", False),
             ("new", False),
+            ("watch", True),
         ):
             with pytest.raises(SystemExit):
                 cli.main([command, "--help"])

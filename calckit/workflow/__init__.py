@@ -8,7 +8,10 @@ One module per job:
   in, its warm-up and its reset between cases;
 - :mod:`~calckit.workflow.build`: one sheet, :func:`build_sheet`, and the refusals that keep a user's files;
 - :mod:`~calckit.workflow.cases` and :mod:`~calckit.workflow.batch`: a table of cases, :func:`run_batch`
-  and its summary;
+  and its summary; :mod:`~calckit.workflow.case_job` (a case as self-contained data, built on any
+  worker), :mod:`~calckit.workflow.dispatch` (sending cases to an executor, a worker that dies) and
+  :mod:`~calckit.workflow.progress` (the bar);
+- :mod:`~calckit.workflow.watch`: ``calckit watch``, rebuild on save in one kept kernel;
 - :mod:`~calckit.workflow.starter`: ``calckit new`` and ``calckit demo``;
 - :mod:`~calckit.workflow.diff`: what changed between two built sheets;
 - :mod:`~calckit.workflow.cli`: the ``calckit`` command.
@@ -49,6 +52,12 @@ _NAMES = {
     "run_demo": "calckit.workflow.starter",
     "diff_sheets": "calckit.workflow.diff",
     "load_built_record": "calckit.workflow.diff",
+    "watch_sheet": "calckit.workflow.watch",
+    "WatchEvent": "calckit.workflow.watch",
+    "CaseJob": "calckit.workflow.case_job",
+    "BuiltCase": "calckit.workflow.case_job",
+    "build_case": "calckit.workflow.case_job",
+    "BatchProgress": "calckit.workflow.progress",
 }
 
 

@@ -3,37 +3,38 @@
 :func:`run_batch` builds one sheet per case of a table into ``<out>/<case>/``
 and writes ``summary.csv`` and ``summary.html``; a summary already in the
 folder (another batch's, or one the user edited) is refused before any case
-runs unless ``overwrite=True``. Every case is dispatched
-through one :class:`concurrent.futures.Executor`: by default a
-:class:`~concurrent.futures.ProcessPoolExecutor` (processes started by
-*spawn*, one per available core, at most one per case). Any object with the
-same ``submit`` interface whose futures work with
-:func:`concurrent.futures.as_completed` can be passed instead, for example a
-Dask cluster's executor::
+runs unless ``overwrite=True``.
+
+Each case goes to the executor as self-contained data
+(:class:`~calckit.workflow.case_job.CaseJob`: the template's text, the case's
+inputs, the bytes of the data files they name, the options), and comes back as
+the built files' bytes and the sheet's record; the batch writes them into the
+case's folder itself, with a build's refusals and its all-or-nothing move
+(:func:`calckit.workflow.build.place_sheet`). So the workers need calckit and
+ipykernel, and no file system shared with the batch. By default the cases run
+in a process pool (processes started by *spawn*, one per available core, at
+most one per case); any executor whose ``submit`` returns futures with
+``add_done_callback`` and ``result`` can be passed instead, a
+``dask.distributed`` client among them::
 
     from dask.distributed import Client
     client = Client("tcp://scheduler:8786")
-    run_batch("single_mass_harmonic", "cases.csv", "built/", executor=client.get_executor())
+    run_batch("single_mass_harmonic", "cases.csv", "built/", executor=client)
 
-The workers must see the template, the inputs and the output folder at the same
-paths (a shared file system) and have calckit and ipykernel installed. A case
-that fails is recorded in the summary with its message; the others go on. Each
-worker (process, or thread of one) keeps one kernel for the cases it runs.
-
-How a worker keeps its kernel from case to case, and why a case cannot see
-the one before it, is said in :mod:`calckit.workflow.kernels` and
-:mod:`calckit.workflow.kernel_state`.
+A case that fails is recorded in the summary with its message; the others go
+on, also when a worker process dies (:mod:`calckit.workflow.dispatch` says
+how the case that killed it is found). Each worker (process, or thread of
+one) keeps one kernel for the cases it runs. How it keeps its kernel from case
+to case, and why a case cannot see the one before it, is said in
+:mod:`calckit.workflow.kernels` and :mod:`calckit.workflow.kernel_state`.
 """
 
 from __future__ import annotations
 
-import concurrent.futures as cf
-import contextlib
 import csv
 import io
-import multiprocessing
 import os
-import time
+import shutil
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -41,16 +42,11 @@ from typing import Any
 
 from calckit.core.files import write_text
 from calckit.errors import BuildError, CalcError, InputsError, OverwriteError
-from calckit.workflow.build import (
-    CASE_TIME_LIMIT_S,
-    CELL_TIMEOUT_S,
-    build_in_kernel,
-    check_time_limit,
-    prepared_values,
-)
+from calckit.workflow.build import CASE_TIME_LIMIT_S, CELL_TIMEOUT_S, check_time_limit, prepared_values
+from calckit.workflow.case_job import BuiltCase, CaseJob, data_payload
 from calckit.workflow.cases import read_cases
+from calckit.workflow.dispatch import run_jobs
 from calckit.workflow.held import check_out_folder, held_fingerprint
-from calckit.workflow.kernels import die_with_parent, loop_running, run_in_kept_kernel, run_sync
 from calckit.workflow.outfolder import FolderLock
 from calckit.workflow.templates import Template, load_template
 from calckit.workflow.tolerance_table import check_band_names
@@ -111,53 +107,31 @@ def default_workers() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def _run_case(
-    template_path: str,
-    assignments: dict[str, Any],
-    wheres: dict[str, str],
-    inputs_label: str,
-    folder: str,
-    name: str,
-    pdf: bool,
-    overwrite: bool,
-    sources: dict[str, str] | None = None,
-    time_limit: float | None = CASE_TIME_LIMIT_S,
-    units: dict | None = None,
-    tolerances: dict | None = None,
-) -> CaseResult:
-    """Build one case; never raises for a case that fails (runs in a worker)."""
-    started = time.monotonic()
+def _place_case(out: Path, stem: str, template_path: Path, built: BuiltCase, overwrite: bool) -> CaseResult:
+    """Write a case's files, sent back as bytes by its worker, into its folder: the build's refusals, all or nothing."""
+    from calckit.core.files import write_file
+    from calckit.workflow.build import place_sheet
+    from calckit.workflow.held import check_not_template
+    from calckit.workflow.outfolder import stage_folder
+
+    folder = out / built.name
+    if not built.ok:
+        return CaseResult(built.name, False, str(folder), built.message, None, built.seconds)
     try:
-        template = load_template(template_path)
-        out = Path(folder)
-        check_out_folder(out)
-        options = {"pdf": pdf, "overwrite": overwrite, "timeout": CELL_TIMEOUT_S, "started": started}
-        options["sources"] = sources
-        options["time_limit"] = time_limit
-        options["units"] = units  # the base inputs file's [units] table
-        options["tolerances"] = tolerances  # the base inputs file's bands
-        once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
-        with FolderLock(out):  # the case's folder, as a build's: read and checked under the lock
-            held = held_fingerprint(out, template.name)
-
-            async def job(kernel):
-                return await build_in_kernel(
-                    kernel, template, assignments, wheres, inputs_label, out, held, **options
-                )
-
-            result = run_sync(lambda: run_in_kept_kernel(job, once=once))
+        check_out_folder(folder)
+        check_not_template(folder, template_path)
+        with FolderLock(folder):
+            held = held_fingerprint(folder, stem)
+            work = stage_folder(folder, stem)
+            try:
+                for suffix, data in built.files.items():
+                    write_file(work / f"{stem}{suffix}", data)
+                place_sheet(work, folder, stem, built.record["fingerprint"], held, overwrite=overwrite)
+            finally:
+                shutil.rmtree(work, ignore_errors=True)
     except CalcError as exc:
-        return CaseResult(name, False, folder, str(exc), None, time.monotonic() - started)
-    except Exception as exc:  # a bug must not stop the other cases
-        return CaseResult(
-            name,
-            False,
-            folder,
-            f"internal error: {type(exc).__name__}: {exc}",
-            None,
-            time.monotonic() - started,
-        )
-    return CaseResult(name, True, folder, "", result.record, result.seconds)
+        return CaseResult(built.name, False, str(folder), str(exc), None, built.seconds)
+    return CaseResult(built.name, True, str(folder), "", built.record, built.seconds)
 
 
 def run_batch(
@@ -166,7 +140,7 @@ def run_batch(
     out: str | os.PathLike,
     *,
     inputs: str | os.PathLike | None = None,
-    executor: cf.Executor | None = None,
+    executor: Any = None,
     workers: int | None = None,
     pdf: bool = False,
     overwrite: bool = False,
@@ -192,9 +166,10 @@ def run_batch(
         The output folder; created if missing.
     inputs : str or path, optional
         The base inputs file the cases change; without it, the template's own values.
-    executor : concurrent.futures.Executor, optional
-        Where the cases run. By default a process pool of ``workers``
-        processes; a Dask client's ``get_executor()`` also works.
+    executor : concurrent.futures.Executor or dask.distributed.Client, optional
+        Where the cases run: any object whose ``submit`` returns futures with
+        ``add_done_callback`` and ``result``. By default a process pool of
+        ``workers`` processes. The workers need no shared file system.
     workers : int, optional
         Processes of the default pool; by default one per available core.
     pdf : bool
@@ -242,7 +217,9 @@ def run_batch(
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
         check_band_names(base)
     cases_label = Path(cases).name
-    jobs = []
+    template_text = tmpl.path.read_text(encoding="utf-8")
+    jobs: list[CaseJob] = []
+    read_files: dict[Path, bytes] = {}  # each data file read once, its bytes shared by the cases
     for case in table:
         values = {**base_values, **case.values}
         missing = [name for name in tmpl.inputs if name not in values]
@@ -263,61 +240,37 @@ def run_batch(
         # a band stays with its input whatever value the case gives (one outside a min and max is refused)
         bands = {n: dict(b) for n, b in (base.tolerances if base is not None else {}).items()}
         jobs.append(
-            (
-                str(tmpl.path),
-                values,
-                wheres,
-                label,
-                str(out / case.name),
-                case.name,
-                pdf,
-                overwrite,
-                sources,
-                time_limit,
-                units,
-                bands,
-            )  # fmt: skip
+            CaseJob(
+                name=case.name,
+                template_name=tmpl.name,
+                template_text=template_text,
+                template_label=str(tmpl.path),
+                values={n: v for n, v in values.items() if n not in tmpl.files},
+                wheres=wheres,
+                inputs_label=label,
+                sources=sources,
+                units=units,
+                tolerances=bands,
+                data=data_payload(values, tmpl.files, tmpl.path.parent, wheres, read_files),
+                pdf=pdf,
+                time_limit=time_limit,
+                timeout=CELL_TIMEOUT_S,
+            )
         )
 
-    own = executor is None
-    if own:
-        count = min(workers or default_workers(), len(jobs))
-        executor = cf.ProcessPoolExecutor(
-            max_workers=count,
-            mp_context=multiprocessing.get_context("spawn"),
-            initializer=die_with_parent,  # a batch killed takes its workers, and their kernels, with it
-            initargs=(os.getpid(),),
-        )
     results: dict[str, CaseResult] = {}
-    try:
-        futures = {executor.submit(_run_case, *job): job for job in jobs}
-        for done, future in enumerate(cf.as_completed(futures), start=1):
-            job = futures[future]
-            try:
-                result = future.result()
-            except Exception as exc:  # the worker itself broke (killed, unpicklable ...)
-                result = CaseResult(job[5], False, job[4], f"the worker failed: {type(exc).__name__}: {exc}")
-            results[result.name] = result
-            if progress is not None:
-                progress(done, len(jobs), result)
-    except BaseException:  # Ctrl-C, or the batch itself broke: end the workers now, not after their cases
-        if own:
-            _end_workers(executor)
-        raise
-    finally:
-        if own:
-            executor.shutdown(wait=True, cancel_futures=True)
+
+    def done(built: BuiltCase) -> None:
+        result = _place_case(out, tmpl.name, tmpl.path, built, overwrite)
+        results[result.name] = result
+        if progress is not None:
+            progress(len(results), len(jobs), result)
+
+    count = min(workers or default_workers(), len(jobs))
+    run_jobs(jobs, done, executor=executor, workers=count)
     ordered = tuple(results[case.name] for case in table)
     csv_path, html_path = _write_summary(out, tmpl, ordered, overwrite=overwrite)
     return BatchResult(out, ordered, csv_path, html_path)
-
-
-def _end_workers(executor: cf.ProcessPoolExecutor) -> None:
-    """Kill the pool's worker processes (their kernels die with them, see :func:`die_with_parent`)."""
-    for process in list((getattr(executor, "_processes", None) or {}).values()):
-        with contextlib.suppress(Exception):
-            process.kill()
-    executor.shutdown(wait=False, cancel_futures=True)
 
 
 # ---------------------------------------------------------------------------

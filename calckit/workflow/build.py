@@ -91,6 +91,7 @@ __all__ = [
     "build_in_kernel",
     "build_sheet",
     "check_time_limit",
+    "place_sheet",
 ]
 
 #: Seconds one cell may run before the build gives up.
@@ -322,28 +323,7 @@ async def build_in_kernel(
         if tolerances:
             _check_tolerances(template, record, tolerances, wheres)
         fingerprint = record["fingerprint"]
-        if held_any and not overwrite and held_print != fingerprint:
-            raise refuse_other_sheet(out, stem, held_print)
-        produced = [s for s in (".ipynb", ".pdf", ".html", ".json") if (work / f"{stem}{s}").exists()]
-        present = {s for s in produced if (out / f"{stem}{s}").exists()}
-        if not overwrite:  # the same fingerprint: replace only files that hold what this build wrote
-            changed = [
-                f"{stem}{s}"
-                for s in produced
-                if s in present and not same_file(out / f"{stem}{s}", work / f"{stem}{s}")
-            ]
-            if changed:
-                raise refuse_changed(out, changed)
-        # stale files of the replaced sheet (a PDF not asked for now) go with the move
-        stale = [
-            f"{stem}{s}"
-            for s in SHEET_SUFFIXES
-            if overwrite and s not in produced and (out / f"{stem}{s}").exists()
-        ]
-        # all or nothing, the JSON record last (it marks the sheet complete); a file that was there is
-        # replaced (checked above, or overwrite), one that appeared since is refused
-        replace = None if overwrite else {f"{stem}{s}" for s in present}
-        move_in(work, out, [f"{stem}{s}" for s in produced], remove=stale, replace=replace)
+        place_sheet(work, out, stem, fingerprint, held, overwrite=overwrite)
     finally:
         shutil.rmtree(work, ignore_errors=True)
     return BuildResult(
@@ -356,6 +336,43 @@ async def build_in_kernel(
         record=record,
         seconds=time.monotonic() - started,
     )
+
+
+def place_sheet(
+    work: Path, out: Path, stem: str, fingerprint: str, held: tuple[bool, str | None], *, overwrite: bool
+) -> None:
+    """Move the sheet's files from the staging folder *work* into *out*, with the build's refusals.
+
+    The caller holds the lock on *out*; *held* is what :func:`held_fingerprint` found
+    there. Without *overwrite* a sheet of another fingerprint is refused, and so is a
+    file of the same sheet that differs from the one in *work*; with it, files of the
+    replaced sheet that this build does not write are removed. All or nothing, the JSON
+    record last (see :func:`calckit.workflow.outfolder.move_in`). A batch's parent calls
+    this with the files its worker sent back, written into a staging folder of *out*.
+    """
+    held_any, held_print = held
+    if held_any and not overwrite and held_print != fingerprint:
+        raise refuse_other_sheet(out, stem, held_print)
+    produced = [s for s in (".ipynb", ".pdf", ".html", ".json") if (work / f"{stem}{s}").exists()]
+    present = {s for s in produced if (out / f"{stem}{s}").exists()}
+    if not overwrite:  # the same fingerprint: replace only files that hold what this build wrote
+        changed = [
+            f"{stem}{s}"
+            for s in produced
+            if s in present and not same_file(out / f"{stem}{s}", work / f"{stem}{s}")
+        ]
+        if changed:
+            raise refuse_changed(out, changed)
+    # stale files of the replaced sheet (a PDF not asked for now) go with the move
+    stale = [
+        f"{stem}{s}"
+        for s in SHEET_SUFFIXES
+        if overwrite and s not in produced and (out / f"{stem}{s}").exists()
+    ]
+    # all or nothing, the JSON record last (it marks the sheet complete); a file that was there is
+    # replaced (checked above, or overwrite), one that appeared since is refused
+    replace = None if overwrite else {f"{stem}{s}" for s in present}
+    move_in(work, out, [f"{stem}{s}" for s in produced], remove=stale, replace=replace)
 
 
 def _timed_out(

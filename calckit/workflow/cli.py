@@ -12,6 +12,8 @@ Commands
     One sheet per case, plus a summary.
 ``calckit new TEMPLATE DEST``
     Copy a bundled template (and an inputs file of its values) to start a calculation.
+``calckit watch TEMPLATE --inputs FILE --out DIR [--pdf] [--overwrite]``
+    Build a sheet, then again in the same kernel each time the inputs file changes, saying what moved.
 
 Help texts are the library's docstrings.
 
@@ -61,7 +63,7 @@ from pathlib import Path
 from calckit._version import __version__
 from calckit.core.files import write_text
 from calckit.errors import CalcError, CellError, InternalError, OverwriteError
-from calckit.workflow import batch, build, starter
+from calckit.workflow import batch, build, starter, watch
 
 __all__ = ["CHECKS_NOT_MET", "COMMAND_EXIT_CODES", "EXIT_CODES", "main", "parser"]
 
@@ -154,6 +156,10 @@ COMMAND_EXIT_CODES = {
     "(--time-limit; the summary is written and says which), or " + _DEFECT[2:],
     "diff": "Exit codes: 0 compared; 2 bad input (a file that is not a sheet's record, a record edited after it "
     "was built) or a refused report file (without --overwrite); " + _DEFECT,
+    "watch": "Exit codes: 130 interrupted (Ctrl-C, the usual end of a watch); 2 bad input when the watch starts "
+    "(no such template or inputs file, an option); 1 a defect of calckit (an internal error: the message carries "
+    "a line to report). A bad edit while watching, a refused overwrite, a failed build or a watched file that "
+    "disappears is said as an error line and the watch goes on.",
     "new": "Exit codes: 0 written; 2 bad input (no such template) or a file that exists already (new never "
     "replaces a file: give another name); " + _DEFECT,
 }
@@ -236,6 +242,16 @@ def parser() -> argparse.ArgumentParser:
     batch_cmd.add_argument("--pdf", action="store_true", help=_param(batch.run_batch, "pdf"))
     batch_cmd.add_argument("--overwrite", action="store_true", help=_param(batch.run_batch, "overwrite"))
     _time_limit_option(batch_cmd, batch.run_batch)
+
+    watch_cmd = command("watch", watch.watch_sheet)
+    watch_cmd.add_argument("template", metavar="TEMPLATE", help=_param(watch.watch_sheet, "template"))
+    watch_cmd.add_argument(
+        "--inputs", required=True, metavar="FILE", help=_param(watch.watch_sheet, "inputs")
+    )
+    watch_cmd.add_argument("--out", required=True, metavar="DIR", help=_param(watch.watch_sheet, "out"))
+    watch_cmd.add_argument("--pdf", action="store_true", help=_param(watch.watch_sheet, "pdf"))
+    watch_cmd.add_argument("--overwrite", action="store_true", help=_param(watch.watch_sheet, "overwrite"))
+    _time_limit_option(watch_cmd, watch.watch_sheet)
 
     new = command("new", starter.new_calculation, runs_templates=False)
     new.add_argument("template", metavar="TEMPLATE", help=_param(starter.new_calculation, "template"))
@@ -363,13 +379,9 @@ _REPORT_EXISTS = "Give another file for --html, or pass --overwrite to replace i
 
 
 def _run_batch(args: argparse.Namespace) -> int:
-    def progress(done: int, total: int, case: batch.CaseResult) -> None:
-        if case.ok:
-            summary = (case.record or {}).get("summary", {})
-            what = f"built, {summary.get('met', 0)} of {summary.get('checks', 0)} checks met"
-        else:
-            what = f"FAILED: {case.message}"
-        print(f"[{done}/{total}] {case.name}: {what} ({case.seconds:.1f} s)", file=sys.stderr, flush=True)
+    from calckit.workflow.progress import BatchProgress
+
+    progress = BatchProgress(sys.stderr)  # a bar on a terminal, a line per case otherwise
 
     result = batch.run_batch(
         args.template,
@@ -398,7 +410,38 @@ def _run_new(args: argparse.Namespace) -> int:
     return 0
 
 
-_COMMANDS = {"demo": _run_demo, "build": _run_build, "diff": _run_diff, "batch": _run_batch, "new": _run_new}
+def _run_watch(args: argparse.Namespace) -> int:
+    def say(event: watch.WatchEvent) -> None:
+        if event.kind in ("failed", "missing"):
+            print(event.text, file=sys.stderr, flush=True)
+            return
+        print(event.text, flush=True)
+        if event.kind == "built":
+            for path in event.result.files:
+                print(f"  {path}", flush=True)
+        if event.moved:
+            print(event.moved, flush=True)
+
+    watch.watch_sheet(
+        args.template,
+        args.inputs,
+        args.out,
+        pdf=args.pdf,
+        overwrite=args.overwrite,
+        time_limit=args.time_limit,
+        say=say,
+    )
+    return 130  # a watch ends on Ctrl-C
+
+
+_COMMANDS = {
+    "demo": _run_demo,
+    "build": _run_build,
+    "diff": _run_diff,
+    "batch": _run_batch,
+    "new": _run_new,
+    "watch": _run_watch,
+}
 
 
 class _Interrupts:

@@ -10,7 +10,8 @@ recorded, changes to the case's own working folder, restores the environment
 variables, ``sys.path``, the warning filters (and forgets which warnings were
 shown), numpy's error and print settings, sympy's global parameters,
 the recursion limit, IPython's display formatters, event hooks and
-transformers; it empties sympy's cache and calckit's own caches and reseeds
+transformers; it empties sympy's cache and calckit's own caches (bar the unit caches of
+:data:`KEPT_CACHES`, which hold unit data only) and reseeds
 ``random`` and numpy's global generator from the system, as a new process
 would. The state it cannot put back is checked instead: a replaced
 ``sys.stdout`` or hook, a changed builtin, changed import hooks, units
@@ -39,6 +40,20 @@ from typing import Any
 __all__ = ["kernel_warm_up", "kernel_reset"]
 
 _BASELINE: dict[str, Any] = {}
+
+#: calckit's caches that the reset keeps: each holds what depends on its arguments only (unit
+#: names), never a case's data, and costs time to fill (the exact unit registry is a second pint
+#: registry, about 0.4 s to build). A case that defines units is caught by the reset's check of the
+#: registries, and its kernel replaced. Every other cache of calckit is emptied before each case.
+KEPT_CACHES = frozenset(
+    {
+        "calckit.core.units._exact_registry",
+        "calckit.core.units._pi_fraction",
+        "calckit.core.units._exact_factor",
+        "calckit.core.units._unit_dims",
+        "calckit.core.units._kind_dimensionality",
+    }
+)
 
 
 def kernel_warm_up() -> None:
@@ -74,6 +89,7 @@ def kernel_warm_up() -> None:
     import calckit.render.numbers
     import calckit.sheet.sheet  # noqa: F401
 
+    calckit.core.units.to_si("1 kN/m", "warm-up")  # builds the exact unit registry (a kept cache)
     shell = get_ipython()
     rc = dict(matplotlib.rcParams.copy())
     rc.pop("backend", None)
@@ -102,6 +118,10 @@ def kernel_warm_up() -> None:
         units=_units_state(),
     )
     random.seed()  # (the reset reseeds too: a case never sees the numbers of another)
+    import gc
+
+    gc.collect()
+    gc.freeze()  # what the warm-up loaded stays: the reset's collection then looks at a case's objects only
 
 
 def _units_state() -> tuple:
@@ -139,7 +159,7 @@ def kernel_reset(folder: str) -> None:
     rcParams, the working folder (*folder*), environment variables,
     ``sys.path``, warning filters (and which warnings were already shown),
     numpy's error and print settings, sympy's global parameters and cache,
-    calckit's caches, IPython's display formatters, event hooks and
+    calckit's caches (bar :data:`KEPT_CACHES`), IPython's display formatters, event hooks and
     transformers, and reseeds ``random`` and numpy's global generator from the
     system, as a new process would. What cannot be put back (a new builtin, a
     replaced ``sys.stdout``, a module imported from outside the installation,
@@ -194,7 +214,9 @@ def kernel_reset(folder: str) -> None:
     clear_cache()
     for name, module in list(sys.modules.items()):
         if name == "calckit" or name.startswith("calckit."):
-            for value in list(vars(module).values()):
+            for key, value in list(vars(module).items()):
+                if f"{name}.{key}" in KEPT_CACHES:
+                    continue
                 if callable(getattr(value, "cache_clear", None)) and hasattr(value, "cache_info"):
                     value.cache_clear()
     random.seed()
