@@ -378,10 +378,10 @@ class TestMachineOnIsolators:
         60 omega_n / (2 pi) rpm, omega_n = sqrt(k/m) (Rao 5th ed., sec. 2.2, from memory), which now lies in the
         range; the least separation is 0 and the check turns from met to not met. 2x and 6x cross below it."""
         base = built["machine_on_isolators"][0]
-        text = (EXAMPLES / self.example).read_text(encoding="utf-8") + (
+        text = (  # top-level keys, before the file's tables
             'minimum_running_speed = "150 rpm"\nmaximum_running_speed = "1480 rpm"\n'
             'excitation_orders = "1, 2, 6 vane passing"\n'
-        )
+        ) + (EXAMPLES / self.example).read_text(encoding="utf-8")
         inputs = tmp_path / "p101_widened.toml"
         inputs.write_text(text, encoding="utf-8")
         record = build_sheet("machine_on_isolators", inputs, tmp_path / "built").record

@@ -155,6 +155,7 @@ figcaption { font-size: 0.9em; margin-top: 0.3em; }
   .running { display: none; }
   .math { overflow: visible; }
   .math math { font-size: 0.95em; }
+  .math math mtable mtable { font-size: 0.9em; }  /* a matrix's entries (a 6 x 6 stiffness matrix fits A4) */
   a { color: inherit; text-decoration: none; }
   th { background: none; }
 }

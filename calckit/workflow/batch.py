@@ -49,7 +49,6 @@ from calckit.workflow.dispatch import run_jobs
 from calckit.workflow.held import check_out_folder, held_fingerprint
 from calckit.workflow.outfolder import FolderLock
 from calckit.workflow.templates import Template, load_template
-from calckit.workflow.tolerance_table import check_band_names
 
 __all__ = ["CaseResult", "BatchResult", "default_workers", "run_batch", "counted"]
 
@@ -215,6 +214,8 @@ def run_batch(
     units = base.units.payload() if base is not None and base.units.given else None
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
+        from calckit.workflow.tolerance_table import check_band_names  # pint: not at the CLI's start
+
         check_band_names(base)
     cases_label = Path(cases).name
     template_text = tmpl.path.read_text(encoding="utf-8")
