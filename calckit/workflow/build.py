@@ -54,6 +54,7 @@ from typing import TYPE_CHECKING, Any
 
 from calckit.core.files import write_text
 from calckit.errors import BuildError, CalcError, InputsError
+from calckit.workflow.built_record import check_sources, check_tolerances, read_built_record
 from calckit.workflow.held import (
     SHEET_SUFFIXES,
     check_not_template,
@@ -171,61 +172,6 @@ def save_built_sheet(
         sheet.save(base.with_suffix(".pdf"), overwrite=True)
 
 
-def _check_sources(
-    template: Template, record: Mapping[str, Any], sources: Mapping[str, str], wheres: Mapping[str, str]
-) -> None:
-    """Refuse a built sheet that does not show a source the inputs file gives, where it gives it."""
-    shown = {item.get("name"): item.get("source") for item in record.get("inputs", [])}
-    for name, source in sources.items():
-        # a group of inputs (e.g. forcing_parameters = "P = 12 kN; td = 8 ms") is shown through its
-        # members: inputs whose description ends "(name)", each with the group's source
-        members = {
-            item.get("source")
-            for item in record.get("inputs", [])
-            if str(item.get("description", "")).endswith(f"({name})")
-        }
-        if name not in shown and members:
-            shown[name] = source if members == {source} else next(iter(members - {source}))
-    for name in sources:
-        if name not in shown:
-            raise InputsError(
-                f'the template puts no input "{name}" on the sheet, so its source would not be shown',
-                where=wheres.get(name, name),
-                do=f"Write {name} = value without a source; nothing was written",
-            )
-    for name, source in sources.items():
-        if shown[name] != source:
-            raise BuildError(
-                f'the sheet shows "{shown[name]}" as the source of "{name}", not the inputs file\'s '
-                f'"{source}": the template does not pass input_sources to its sheet',
-                where=str(template.path),
-                do="Set input_sources = {} in the cell before the parameters cell and create the sheet "
-                "with ck.Sheet(..., sources=input_sources); nothing was written",
-            )
-
-
-def _check_tolerances(
-    template: Template, record: Mapping[str, Any], tolerances: Mapping[str, Any], wheres: Mapping[str, str]
-) -> None:
-    """Refuse a built sheet that does not carry a band the inputs file gives on its input."""
-    shown = {item.get("name"): item.get("tolerance") for item in record.get("inputs", [])}
-    for name in tolerances:
-        if name not in shown:
-            raise InputsError(
-                f'the template puts no input "{name}" on the sheet, so its tolerance would not be shown',
-                where=wheres.get(name, name),
-                do=f"Write {name} = value without a tolerance; nothing was written",
-            )
-        if not shown[name]:
-            raise BuildError(
-                f'the sheet shows "{name}" without the tolerance the inputs file gives it: the template does '
-                "not pass input_tolerances to its sheet",
-                where=str(template.path),
-                do="Set input_tolerances = {} in the cell before the parameters cell and create the sheet "
-                "with ck.Sheet(..., tolerances=input_tolerances); nothing was written",
-            )
-
-
 def _dead_kernel(kernel: Kernel, template: Template) -> BuildError:
     return BuildError(
         f"the kernel died while running the template (its last words: {kernel.last_words()})",
@@ -317,11 +263,11 @@ async def build_in_kernel(
         text = nbformat.writes(notebook)  # as nbformat.write writes it: the text and a final newline
         write_text(work / f"{stem}.ipynb", text if text.endswith("\n") else text + "\n")
         record_path = work / f"{stem}.json"
-        record = _read_record(record_path)
+        record = read_built_record(record_path)
         if sources:
-            _check_sources(template, record, sources, wheres)
+            check_sources(template, record, sources, wheres)
         if tolerances:
-            _check_tolerances(template, record, tolerances, wheres)
+            check_tolerances(template, record, tolerances, wheres)
         fingerprint = record["fingerprint"]
         place_sheet(work, out, stem, fingerprint, held, overwrite=overwrite)
     finally:
@@ -403,17 +349,6 @@ def _timed_out(
         what = f"{place} ran longer than {timeout} s, the limit of one cell; its kernel was stopped"
         do = "Check that cell for a loop that does not end"
     return BuildError(what, where=str(template.path), do=do + "; nothing was written")
-
-
-def _read_record(path: Path) -> dict:
-    """The JSON record the build's kernel wrote, read through the one definition of a record.
-
-    :func:`calckit.sheet.read_record` checks its version and its fields; the build and the
-    batch summary use its dictionary form, the one :meth:`calckit.Sheet.record` gives.
-    """
-    from calckit.sheet import read_record
-
-    return read_record(path).to_dict()
 
 
 def _prepare_build(

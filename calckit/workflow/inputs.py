@@ -1,4 +1,8 @@
-"""Inputs files for ``calckit build`` and the template's parameters cell.
+"""Inputs files for ``calckit build``.
+
+The template's parameters cell, read without running it, and the cell of inputs a build
+writes after it are in :mod:`calckit.workflow.parameters_cell` (their names are also
+imported from here).
 
 Inputs file format
 ------------------
@@ -67,7 +71,6 @@ Expressions such as ``forcing = "F0*cos(w*t)"`` are text; templates read them wi
 
 from __future__ import annotations
 
-import ast
 import datetime as _dt
 import difflib
 import keyword
@@ -82,6 +85,10 @@ from typing import Any
 from calckit.core.characters import lookalike
 from calckit.errors import InputsError
 from calckit.workflow.input_conventions import CONVENTION_SUFFIX, missing_conventions, with_convention
+from calckit.workflow.parameters_cell import (  # re-exported: templates read them here
+    injected_source,
+    parameters_from_source,
+)
 from calckit.workflow.tolerance_table import split_band, table_bands
 from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
@@ -316,7 +323,9 @@ def read_inputs(path: str | Path) -> InputsFile:
                 add(inner, inner_value, key)
         else:
             add(key, value, "")
-    tolerances.update(table_bands(bands, values, tolerances, path, lambda k: _find_line(text, "tolerances", k)))
+    tolerances.update(
+        table_bands(bands, values, tolerances, path, lambda k: _find_line(text, "tolerances", k))
+    )
     for key in sheet.present():  # one value a field: which one would win is not for us to guess
         if key in values:
             first = f"in [{groups[key]}]" if groups[key] else "at the top level"
@@ -515,118 +524,3 @@ def check_keys(
             where=str(path),
             do=f"The template's inputs are {', '.join(required)}",
         )
-
-
-# ---------------------------------------------------------------------------
-# Template parameters
-
-
-def _literal(node: ast.expr) -> Any:
-    """The value of a literal str/int/float/bool (with a sign), or raise ValueError."""
-    if isinstance(node, ast.UnaryOp) and isinstance(node.op, ast.USub | ast.UAdd):
-        inner = _literal(node.operand)
-        if isinstance(inner, bool) or not isinstance(inner, int | float):
-            raise ValueError
-        return -inner if isinstance(node.op, ast.USub) else inner
-    if isinstance(node, ast.Constant) and isinstance(node.value, str | int | float | bool):
-        return node.value
-    raise ValueError
-
-
-def parameters_from_source(cell_source: str) -> Mapping[str, Any]:
-    """Names and default values of a template's parameters cell, in order.
-
-    The cell may hold only assignments of literal values to plain names
-    (``mass = "250 kg"``, ``zeta = 0.05``, ``flag = True``, ``mass: str = "1 kg"``),
-    comments and a docstring. Nothing in it is run.
-
-    Raises
-    ------
-    InputsError
-        Any other statement, a value that is not a literal, a name set twice.
-
-    Examples
-    --------
-    >>> dict(parameters_from_source('mass = "250 kg"  # P-101\\nzeta = 0.05'))
-    {'mass': '250 kg', 'zeta': 0.05}
-    """
-    try:
-        tree = ast.parse(cell_source)
-    except SyntaxError as exc:
-        raise InputsError(
-            f"the parameters cell is not valid Python ({exc.msg})",
-            where=f"parameters cell, line {exc.lineno}",
-            do='Write one assignment per line, for example mass = "250 kg"',
-        ) from exc
-    params: dict[str, Any] = {}
-    for number, statement in enumerate(tree.body):
-        where = f"parameters cell, line {statement.lineno}"
-        if number == 0 and isinstance(statement, ast.Expr) and isinstance(statement.value, ast.Constant):
-            if isinstance(statement.value.value, str):
-                continue  # docstring
-        if isinstance(statement, ast.Assign) and len(statement.targets) == 1:
-            target, value = statement.targets[0], statement.value
-        elif isinstance(statement, ast.AnnAssign) and statement.value is not None:
-            target, value = statement.target, statement.value
-        else:
-            raise InputsError(
-                f'"{ast.get_source_segment(cell_source, statement)}" is not a plain assignment',
-                where=where,
-                do='Keep the parameters cell to lines like mass = "250 kg"; do the work in later cells',
-            )
-        if not isinstance(target, ast.Name):
-            raise InputsError(
-                f'"{ast.get_source_segment(cell_source, target)}" is not a plain name',
-                where=where,
-                do='Assign to a single name, for example mass = "250 kg"',
-            )
-        try:
-            literal = _literal(value)
-        except ValueError:
-            raise InputsError(
-                f'the value of "{target.id}" is not a literal: {ast.get_source_segment(cell_source, value)}',
-                where=where,
-                do="Give text, a number or True/False; compute derived values in later cells",
-            ) from None
-        if target.id in params:
-            raise InputsError(f'"{target.id}" is set twice', where=where, do="Set each parameter once")
-        params[target.id] = literal
-    return MappingProxyType(params)
-
-
-def injected_source(values: Mapping[str, Any]) -> str:
-    """Python source of an assignments cell setting *values*.
-
-    Only text, integers, finite floats and True/False are written, each with
-    ``repr``, so reading the cell back with :func:`parameters_from_source`
-    gives the same values.
-
-    Examples
-    --------
-    >>> print(injected_source({"mass": "250 kg", "zeta": 0.05}))
-    # Inputs set by calckit build
-    mass = '250 kg'
-    zeta = 0.05
-    <BLANKLINE>
-    """
-    lines = ["# Inputs set by calckit build"]
-    for name, value in values.items():
-        where = f"input {name}"
-        if not isinstance(name, str) or not name.isidentifier() or keyword.iskeyword(name):
-            raise InputsError(
-                f"{name!r} is not usable as a Python name",
-                where="inputs",
-                do="Use letters, digits and underscores, starting with a letter",
-            )
-        if isinstance(value, float) and not math.isfinite(value):
-            raise InputsError(
-                f"the value {value} is not a finite number", where=where, do="Give a finite number"
-            )
-        if not isinstance(value, str | int | float | bool):
-            raise InputsError(
-                f"a {type(value).__name__} value cannot be passed to a template",
-                where=where,
-                do='Give text ("250 kg"), a number or True/False',
-            )
-        lines.append(f"{name} = {value!r}")
-    return "\n".join(lines) + "\n"
