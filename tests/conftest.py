@@ -34,7 +34,12 @@ def pytest_collection_modifyitems(config: pytest.Config, items: list[pytest.Item
 def shared_demo(tmp_path_factory, worker_id):
     """``calckit demo --out demo`` run once for the whole run (across xdist workers, under a file lock):
     ``(folder it ran in, its CompletedProcess)``. The CLI test reads what it printed, the print-fit
-    test prints its sheets; neither writes into it."""
+    test prints its sheets, the template tests read the examples' records; none writes into it."""
+    return run_shared_demo(tmp_path_factory, worker_id)
+
+
+def run_shared_demo(tmp_path_factory, worker_id):
+    """What :func:`shared_demo` gives, for a fixture that needs it only on first use."""
     import fcntl
     import json
     import subprocess

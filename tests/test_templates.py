@@ -24,6 +24,7 @@ import sympy as sp
 from calckit.core.units import angular_frequency, quantity, to_si
 from calckit.errors import CalcError, CellError
 from calckit.workflow import build_sheet, bundled_templates, demos
+from calckit.sheet import read_record
 from calckit.workflow.inputs import read_inputs
 
 pytestmark = pytest.mark.slow
@@ -103,9 +104,15 @@ def _changed(text: str, name: str, value: str) -> str:
 
 
 @pytest.fixture(scope="module")
-def built(tmp_path_factory):
-    """Each template built from its example, and again with one input changed: {template: (base, moved)}."""
+def built(tmp_path_factory, worker_id):
+    """Each template built from its example, and again with one input changed: {template: (base, moved)}.
+
+    An example that ``calckit demo`` builds is read from the run's one demo build (``conftest.shared_demo``),
+    built once for the CLI, print and template tests; ``built.folder[template]`` holds its files."""
+    from tests.conftest import run_shared_demo
+
     root = tmp_path_factory.mktemp("templates")
+    by_example = {(d.template, d.inputs.name): d.name for d in demos()}
 
     class Built(dict):
         """Built on first use, so a run of one template's tests builds that template alone."""
@@ -122,13 +129,20 @@ def built(tmp_path_factory):
             for data in EXAMPLES.glob("*.csv"):
                 if not (root / data.name).exists():
                     (root / data.name).write_bytes(data.read_bytes())
-            base = build_sheet(template, source, root / template)
+            demo = by_example.get((template, example))
+            if demo is not None:  # the run's one demo build of this example
+                where, _run = run_shared_demo(tmp_path_factory, worker_id)
+                self.folder[template] = where / "demo" / demo
+                base_record = read_record(self.folder[template] / f"{template}.json").to_dict()
+            else:
+                self.folder[template] = root / template
+                base_record = build_sheet(template, source, root / template).record
             moved = build_sheet(template, moved_inputs, root / f"{template}_moved")
-            self[template] = (base.record, moved.record)
+            self[template] = (base_record, moved.record)
             return self[template]
 
     built = Built()
-    built.root = root  # the built files: {root}/{template}/{template}.html
+    built.folder = {}  # template -> the folder of its example's built files ({template}.html ...)
     return built
 
 
@@ -337,7 +351,7 @@ class TestMachineOnIsolators:
         assert study["motion during run-up"] == {
             "name": "motion during run-up", "evaluated": False, "reason": "peak_run_up is from a numerical procedure"
         }  # fmt: skip
-        html = (built.root / "machine_on_isolators" / "machine_on_isolators.html").read_text(encoding="utf-8")
+        html = (built.folder["machine_on_isolators"] / "machine_on_isolators.html").read_text(encoding="utf-8")
         assert "Tolerances: worst case and sensitivities" in html and "Tornado chart" in html
         assert "720 kN/m ± 15 %" in html and "1480 rpm (band 1300 to 1500 rpm)" in html
 
