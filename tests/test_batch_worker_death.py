@@ -41,7 +41,12 @@ def test_a_case_that_kills_its_worker_fails_and_the_rest_go_on(tmp_path):
     result = run_batch(template, cases, tmp_path / "out", inputs=EXAMPLE, workers=1)
 
     assert [(c.name, c.ok) for c in result.cases] == [("killer", False), ("quiet", True)]
-    assert result.cases[0].message == WORKER_DIED.format(how="killed by SIGKILL")
+    # how it died is read off the pool's process when it can be (under heavy load the pool may
+    # already have forgotten it): the message says which, never a guess
+    assert result.cases[0].message in {
+        WORKER_DIED.format(how="killed by SIGKILL"),
+        WORKER_DIED.format(how="no exit status known"),
+    }
     assert (tmp_path / "out" / "quiet" / "fragile.json").is_file()
     assert not (tmp_path / "out" / "killer").exists()
     summary = result.summary_csv.read_text(encoding="utf-8")
