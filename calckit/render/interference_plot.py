@@ -99,13 +99,17 @@ def interference_figure(
         ax.axvspan(
             speeds.low / per, speeds.high / per, color="0.88", zorder=0, label=f"speed range, {speeds.text()}"
         )
-    # natural frequencies and their bands
+    # natural frequencies and their bands; the labels stacked upwards where frequencies lie close (each names its
+    # frequency, so a label lifted off its line still says which line it is)
+    gap, lifted, last = 0.05 * f_top, {}, -math.inf
+    for name, wn in sorted(zip(names, naturals, strict=True), key=lambda pair: pair[1]):
+        last = lifted[name] = max(wn * to_hz, last + gap)
     for name, wn in zip(names, naturals, strict=True):
         lo, hi = separation_band_edges(wn, found.band, found.relative_to)
         ax.axhspan(lo * to_hz, min(hi, 10 * wn) * to_hz, facecolor="none", edgecolor="0.55", hatch="////",
                    lw=0.0, zorder=1)  # fmt: skip
         ax.axhline(wn * to_hz, color="black", lw=1.0, zorder=2)
-        ax.text(x_top * 0.99, wn * to_hz, f"{name}: {wn * to_hz:.4g} Hz", va="bottom", ha="right", fontsize=7,
+        ax.text(x_top * 0.99, lifted[name], f"{name}: {wn * to_hz:.4g} Hz", va="bottom", ha="right", fontsize=7,
                 bbox={"facecolor": "white", "edgecolor": "none", "pad": 0.5, "alpha": 0.8}, zorder=6)  # fmt: skip
     # the orders: lines through the origin
     step = max(1, math.ceil(len(speeds.orders) / LABELLED_ORDERS))
