@@ -149,32 +149,16 @@ def test_frequency_formulas_against_an_eigensolver():
     np.testing.assert_allclose([values["omega_1"], values["omega_2"]], np.sqrt(eig), rtol=1e-12)
 
 
-@pytest.mark.slow
-def test_template_against_the_numerical_optimum_and_a_linear_solve(tmp_path):
-    """The absorber sheet built from the Harrow Creek inputs: its damper within 3 % of the numerical
-    minimax optimum's c_2 = 2 zeta_opt m_2 omega_n (module notes), and its stroke and spring force at
-    running speed as printed within 0.1 % of scipy.linalg.solve of the two equations of motion with the
-    sheet's design values. The build runs in a child process, as in test_multimass."""
+@pytest.mark.slow  # reads the demo's build (a child process)
+def test_template_against_the_numerical_optimum_and_a_linear_solve(shared_demo):
+    """The absorber sheet built from the Harrow Creek inputs (the run's one ``calckit demo`` build,
+    ``conftest.shared_demo``): its damper within 3 % of the numerical minimax optimum's
+    c_2 = 2 zeta_opt m_2 omega_n (module notes), and its stroke and spring force at running speed as
+    printed within 0.1 % of scipy.linalg.solve of the two equations of motion with the sheet's design values."""
     import json
-    import subprocess
-    import sys
-    from pathlib import Path
 
-    root = Path(__file__).resolve().parent.parent
-    code = (
-        "import sys; from calckit.workflow.build import build_sheet; "
-        "print(build_sheet('tuned_absorber', sys.argv[1], sys.argv[2]).json)"
-    )
-    inputs = root / "examples" / "harrow_creek_b201_absorber.toml"
-    done = subprocess.run(
-        [sys.executable, "-c", code, str(inputs), str(tmp_path / "b201")],
-        cwd=root,
-        capture_output=True,
-        text=True,
-        timeout=240,
-    )
-    assert done.returncode == 0, done.stderr[-2000:]
-    record = json.loads(Path(done.stdout.strip().splitlines()[-1]).read_text())
+    where, _run = shared_demo
+    record = json.loads((where / "demo" / "b201-absorber" / "tuned_absorber.json").read_text(encoding="utf-8"))
     got = {item["name"]: item["value"] for item in record["results"]}
     m1, k1, f0, w = 2400.0, 58e6, 1200.0, 1480 * math.pi / 30  # the inputs file's values, SI
     mu = 0.05

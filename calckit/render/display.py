@@ -327,8 +327,9 @@ def html_fragment(obj: Any, level: str = "full", **options) -> Html:
         else:
             number = "" if block.number is None else f'<span class="number">{block.number}</span> '
             data = "" if block.number is None else f' data-step="{block.number}"'
+            tall = " tall" if 'class="math tall"' in math else ""  # a formula that may break across pages
             parts.append(
-                f'<section class="step"{data}><h3>{number}{prose(block.title)}</h3>'
+                f'<section class="step{tall}"{data}><h3>{number}{prose(block.title)}</h3>'
                 f"<p>{prose(block.sentence)}</p>{math}</section>"
             )
     parts.append("</div>")

@@ -108,6 +108,7 @@ table.summary-cases th:nth-child(2) { width: 10%; }
 table.summary-cases th:nth-child(3) { width: 12%; }
 table.summary-wide th:first-child { width: 34%; }
 tr, figure, .step, .check, .caution, .signoff, .math { break-inside: avoid; page-break-inside: avoid; }
+.step.tall, .math.tall { break-inside: auto; page-break-inside: auto; }
 h1, h2, h3 { break-after: avoid; page-break-after: avoid; }
 
 .title-block { margin-bottom: 1.2em; }
@@ -175,6 +176,11 @@ def escape(text: object) -> Html:
     return Html(html.escape(str(text), quote=True))
 
 
+#: A displayed formula of this many rows or more is allowed to break across pages (class ``tall``): kept whole,
+#: one taller than a page left the page before it blank in Chromium's print.
+TALL_ROWS = 16
+
+
 def math_block(latex: str) -> Html:
     r"""A displayed equation: ``<div class="math">`` around block MathML.
 
@@ -183,7 +189,8 @@ def math_block(latex: str) -> Html:
     >>> math_block(r"\zeta = \frac{c}{2 \sqrt{k m}}")[:18]
     '<div class="math">'
     """
-    return Html(f'<div class="math">{latex_to_mathml(latex, display=True)}</div>')
+    tall = " tall" if latex.count(r"\\") >= TALL_ROWS else ""  # may break across pages, not start a page blank
+    return Html(f'<div class="math{tall}">{latex_to_mathml(latex, display=True)}</div>')
 
 
 def math_inline(latex: str) -> Html:
