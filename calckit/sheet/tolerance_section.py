@@ -63,7 +63,9 @@ def tornado_panels(study: ToleranceStudy) -> list:
             continue
         unit = "" if c.unit == "dimensionless" else c.unit
         bars = tuple((s.input, s.at_low, s.at_high) for s in c.sensitivities)
-        panels.append(TornadoPanel(f"{c.name} ({c.result})", unit, c.nominal_value, c.worst_limit, bars))
+        same = c.result.replace("_", " ") == c.name  # "amplitude (amplitude)" says nothing twice
+        title = c.name if same else f"{c.name} ({c.result})"
+        panels.append(TornadoPanel(title, unit, c.nominal_value, c.worst_limit, bars))
     return panels
 
 
