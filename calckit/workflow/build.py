@@ -64,7 +64,7 @@ from calckit.workflow.held import (
     refuse_other_sheet,
     same_file,
 )
-from calckit.workflow.kernels import Kernel, run_sync, start_kernel
+from calckit.workflow.kernels import Kernel, loop_running, run_in_kept_kernel, run_sync, start_kernel
 from calckit.workflow.outfolder import FolderLock, move_in, stage_folder
 from calckit.workflow.templates import (
     INPUTS_TAG,
@@ -417,6 +417,30 @@ async def _build_alone(
         await kernel.aclose()
 
 
+async def _build_kept(
+    path: Path,
+    inputs: str | os.PathLike,
+    out: Path,
+    *,
+    pdf: bool,
+    overwrite: bool,
+    timeout: int,
+    started: float,
+    time_limit: float | None,
+) -> BuildResult:
+    """:func:`_build_alone`'s build in this thread's kept kernel (reset before the sheet)."""
+    template, assignments, wheres, label, held, sources, units, tolerances = _prepare_build(path, inputs, out)
+
+    async def job(kernel: Kernel) -> BuildResult:
+        return await build_in_kernel(
+            kernel, template, assignments, wheres, label, out, held,
+            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
+            time_limit=time_limit, units=units, tolerances=tolerances,
+        )  # fmt: skip
+
+    return await run_in_kept_kernel(job)
+
+
 def prepared_values(
     template: Template, inputs: InputsFile | None, overrides: Mapping[str, Any] | None = None
 ) -> dict[str, Any]:
@@ -470,6 +494,7 @@ def build_sheet(
     overwrite: bool = False,
     timeout: int = CELL_TIMEOUT_S,
     time_limit: float | None = CASE_TIME_LIMIT_S,
+    kept_kernel: bool = False,
 ) -> BuildResult:
     """Build one calculation sheet from a template notebook and an inputs file.
 
@@ -499,6 +524,10 @@ def build_sheet(
         included (not the kernel's start), 300 by default; past it the build
         stops with an error naming the cell that ran, and its kernel is
         killed. None: no limit but the cells'.
+    kept_kernel : bool
+        Build in this thread's kept kernel, reset before the sheet as a batch
+        worker's is, instead of a fresh one (``calckit demo`` builds its sheets
+        one after another in one kernel).
 
     Returns
     -------
@@ -527,9 +556,11 @@ def build_sheet(
     check_out_folder(out)
     check_not_template(out, path)
     check_time_limit(time_limit)
+    once = loop_running()  # a kept kernel lives on this thread's own loop; inside a running one it cannot
+    build = _build_kept if kept_kernel and not once else _build_alone
     with FolderLock(out):  # the whole build: what the folder holds is read and checked under it
         return run_sync(
-            lambda: _build_alone(
+            lambda: build(
                 path,
                 inputs,
                 out,

@@ -14,7 +14,7 @@ from pathlib import Path
 
 from calckit.core.files import toml_value, write_file, write_text
 from calckit.errors import OverwriteError
-from calckit.workflow.build import BuildResult
+from calckit.workflow.build import BuildResult, build_sheet
 from calckit.workflow.templates import Template, load_template, resource_folder
 
 __all__ = ["inputs_text", "new_calculation", "Demo", "demos", "run_demo"]
@@ -121,44 +121,11 @@ def run_demo(
     """
     out = Path(out)
     return [
-        (demo, _build_in_kept_kernel(demo.template, demo.inputs, out / demo.name, pdf=pdf, overwrite=overwrite))
+        (
+            demo,
+            build_sheet(
+                demo.template, demo.inputs, out / demo.name, pdf=pdf, overwrite=overwrite, kept_kernel=True
+            ),
+        )
         for demo in demos()
     ]
-
-
-def _build_in_kept_kernel(template: str, inputs: Path, out: Path, *, pdf: bool, overwrite: bool) -> BuildResult:
-    """:func:`build_sheet`, but in this thread's kept kernel, reset between sheets as a batch worker's is.
-
-    The demo builds its sheets one after another: one kernel start and one warm-up
-    serve them all (``tests/test_batch_isolation.py`` checks that a reset kernel builds
-    the same files as a fresh one).
-    """
-    import time
-
-    from calckit.workflow.build import (
-        CASE_TIME_LIMIT_S,
-        CELL_TIMEOUT_S,
-        _prepare_build,
-        build_in_kernel,
-    )
-    from calckit.workflow.held import check_not_template, check_out_folder
-    from calckit.workflow.kernels import loop_running, run_in_kept_kernel, run_sync
-    from calckit.workflow.outfolder import FolderLock
-    from calckit.workflow.templates import find_template
-
-    started = time.monotonic()
-    path = find_template(template)
-    check_out_folder(out)
-    check_not_template(out, path)
-    once = loop_running()  # a kept kernel lives on this thread's own loop; inside a running one it cannot
-    with FolderLock(out):
-        tmpl, assignments, wheres, label, held, sources, units, tolerances = _prepare_build(path, inputs, out)
-
-        async def job(kernel):
-            return await build_in_kernel(
-                kernel, tmpl, assignments, wheres, label, out, held,
-                pdf=pdf, overwrite=overwrite, timeout=CELL_TIMEOUT_S, started=started, sources=sources,
-                time_limit=CASE_TIME_LIMIT_S, units=units, tolerances=tolerances,
-            )  # fmt: skip
-
-        return run_sync(lambda: run_in_kept_kernel(job, once=once))
