@@ -75,6 +75,7 @@ def main() -> None:
                     await build_in_kernel(
                         kernel, template, values, wheres, inputs.path.name, out, held, pdf=False,
                         overwrite=False, timeout=CELL_TIMEOUT_S, started=start, sources=dict(inputs.sources),
+                        tolerances={k: dict(v) for k, v in inputs.tolerances.items()} or None,
                     )  # fmt: skip
                 total = time.perf_counter() - start
                 shown = " ".join(f"{t:.2f}" for t in cells)

@@ -180,6 +180,27 @@ def block_html(block: Any, number: str = "") -> Html:
     raise TypeError(f"no HTML for {type(block).__name__}")
 
 
+#: Stands for a block's number in its kept HTML (a private-use character: no text of a sheet holds it).
+_NUMBER_MARK = "\ue000"
+
+
+def _kept_block_html(sheet: Any, block: Any, number: str) -> Html:
+    """:func:`block_html` made once per block and kept on the sheet, its number put in at each use.
+
+    A block is shown in the notebook as it is added, then on the sheet's display and on its
+    saved page under its section's number; a block is frozen (a sheet that restates its
+    units puts new blocks in), so its HTML is made once, with a mark where the number
+    goes. The block is kept beside its HTML, so a block that is gone cannot lend its HTML
+    to a new one that took its ``id``.
+    """
+    kept = sheet.__dict__.setdefault("_html_kept", {})
+    hit = kept.get(id(block))
+    if hit is None or hit[0] is not block:
+        hit = (block, block_html(block, _NUMBER_MARK))
+        kept[id(block)] = hit
+    return Html(hit[1].replace(_NUMBER_MARK, escape(number)))
+
+
 def _units_html(block: DerivationBlock) -> str:
     """The line under a derivation's title that says what its numbers are in (nothing for a symbolic one)."""
     from calckit.render.step_units import derivation_units_line
@@ -308,13 +329,13 @@ def _body(sheet: Any) -> Html:
         for block in calc_blocks:
             if isinstance(block, Figure):
                 fig_no += 1
-                inner.append(block_html(block, str(fig_no)))
+                inner.append(_kept_block_html(sheet, block, str(fig_no)))
             elif isinstance(block, TableBlock):
                 table_no += 1
-                inner.append(block_html(block, str(table_no)))
+                inner.append(_kept_block_html(sheet, block, str(table_no)))
             else:
                 step_no += 1
-                inner.append(block_html(block, f"{section_number}.{step_no}"))
+                inner.append(_kept_block_html(sheet, block, f"{section_number}.{step_no}"))
         next_section("Calculation", "".join(inner))
     if sheet.checks:
         next_section(
@@ -395,7 +416,7 @@ def show_block(sheet: Any, block: Any) -> None:
         number = str(len(sheet.of_type(Figure)))
     elif isinstance(block, TableBlock):
         number = str(len(sheet.of_type(TableBlock)))
-    display(HTML(f'<div class="sheet">{block_html(block, number)}</div>'))
+    display(HTML(f'<div class="sheet">{_kept_block_html(sheet, block, number)}</div>'))
 
 
 _ = RELATIONS  # relation symbols are shown by _check_rows

@@ -70,7 +70,21 @@ def tornado_panels(study: ToleranceStudy) -> list:
 
 
 def tolerance_section(sheet: Any, study: ToleranceStudy) -> Html:
-    """The section's inner HTML."""
+    """The section's inner HTML.
+
+    Kept on the sheet with the study it shows (:func:`~calckit.sheet.tolerance_study.study_of`
+    keeps the study until a block is added, the units or the sampling change): the notebook's
+    display and the saved page then draw the tornado chart once, not once each.
+    """
+    kept = getattr(sheet, "_section_kept", None)
+    if kept is not None and kept[0] is study and kept[1] == sheet.sig:
+        return kept[2]
+    html = _section(sheet, study)
+    sheet._section_kept = (study, sheet.sig, html)
+    return html
+
+
+def _section(sheet: Any, study: ToleranceStudy) -> Html:
     sig = sheet.sig
     bands = ", ".join(f"{b.name} {sheet.inputs[b.name].shown_value}" for b in study.bands)
     parts = [

@@ -397,7 +397,8 @@ def _worst_point(symbols: list, margin: sp.Expr, lows: np.ndarray, highs: np.nda
     n = len(symbols)
     f = _compiled(symbols, margin)
     grad_exprs = [sp.diff(margin, s) for s in symbols]
-    grads = [_compiled(symbols, g) for g in grad_exprs]
+    # the margin and its gradient in one compiled function: one lambdify, one call a step of the search
+    with_gradient = sp.lambdify(symbols, [margin, *grad_exprs], "numpy")
     span = highs - lows
 
     def values(points: np.ndarray) -> np.ndarray:
@@ -420,8 +421,10 @@ def _worst_point(symbols: list, margin: sp.Expr, lows: np.ndarray, highs: np.nda
 
     def objective(u: np.ndarray):
         x = lows + u * span
-        value = float(f(*x))
-        gradient = np.array([float(g(*x)) for g in grads]) * span
+        with np.errstate(all="ignore"):
+            out = with_gradient(*x)
+        value = float(out[0])
+        gradient = np.array([float(g) for g in out[1:]], dtype=float) * span
         if not math.isfinite(value) or not np.all(np.isfinite(gradient)):
             return 1e300, np.zeros(n)
         return value, gradient
@@ -443,10 +446,12 @@ def _worst_point(symbols: list, margin: sp.Expr, lows: np.ndarray, highs: np.nda
 
 def _sensitivities(names, symbols, value_c, value_f, nominal, lows, highs) -> tuple[Sensitivity, ...]:
     at_nominal = float(value_f(*nominal))
+    derivatives = sp.lambdify(symbols, [sp.diff(value_c, s) for s in symbols], "numpy")  # one compile for all
+    with np.errstate(all="ignore"):
+        slopes = [float(d) for d in derivatives(*nominal)]
     rows = []
     for i, name in enumerate(names):
-        derivative = _compiled(symbols, sp.diff(value_c, symbols[i]))
-        slope = float(derivative(*nominal))
+        slope = slopes[i]
         elasticity = (
             slope * nominal[i] / at_nominal * 1.0 if at_nominal != 0 and math.isfinite(slope) else None
         )
