@@ -3,8 +3,9 @@
 A derived total response ``x(t)`` (undetermined coefficients plus the free motion
 meeting the initial conditions) is one route to the motion; integrating
 ``M x'' + C x' + K x = f(t)`` from the same initial state with a general-purpose
-solver (:func:`scipy.integrate.solve_ivp`, Dormand-Prince 8(5,3), ``DOP853``) is
-another that shares nothing with it but the equation. :func:`compare_peak` samples
+solver (:func:`scipy.integrate.odeint`, LSODA of ODEPACK) is another that shares
+nothing with it but the equation; a sampled record is integrated interval by interval
+with :func:`scipy.integrate.solve_ivp` (Dormand-Prince 8(5,3), ``DOP853``). :func:`compare_peak` samples
 both on one grid of times and compares their largest ``|x|``: two routes that agree
 to the tolerance are what let a checker trust the closed form without redoing it.
 
@@ -25,6 +26,7 @@ Examples
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -42,10 +44,20 @@ __all__ = [
     "integrate_motion",
     "integrate_sampled",
     "INTEGRATION_METHOD",
+    "MOTION_SOLVER",
 ]
 
 INTEGRATION_METHOD = "DOP853"
-"""The solve_ivp method used: explicit Runge-Kutta of order 8 (Dormand-Prince), error control 5th and 3rd order."""
+"""The solve_ivp method of the record check (:func:`integrate_sampled`): explicit Runge-Kutta of order 8
+(Dormand-Prince), error control 5th and 3rd order."""
+
+MOTION_SOLVER = "scipy.integrate.odeint (LSODA of ODEPACK: Adams or BDF, chosen as the equation's stiffness asks)"
+"""The solver of :func:`integrate_motion` and so of :func:`compare_peak`. Its steps are taken in compiled code
+(only the right-hand side is Python): about a tenth of solve_ivp's time for the same tolerances
+(benchmarks/RESULTS_BATCH.md)."""
+
+LARGEST_STEPS = 1_000_000
+"""The most solver steps between two sample times before :func:`integrate_motion` gives up (it never runs on)."""
 
 LARGEST_SAMPLES = 200_001
 """The most sample times a comparison takes (memory stays bounded)."""
@@ -77,6 +89,11 @@ class PeakComparison:
         The solver's relative and absolute tolerances.
     coordinate : int or None
         The coordinate compared (``None``: the largest over all coordinates).
+    route : str
+        How the integration went, where it is not the whole span at once (said in :attr:`procedure`).
+    solver : str
+        ``"odeint"`` (:data:`MOTION_SOLVER`, :func:`compare_peak`) or ``"solve_ivp"`` (:data:`INTEGRATION_METHOD`,
+        :func:`compare_sampled_peak`).
     """
 
     closed_form_peak: float
@@ -90,6 +107,7 @@ class PeakComparison:
     atol: float
     coordinate: int | None = None
     route: str = ""
+    solver: str = "odeint"
 
     @property
     def agrees(self) -> bool:
@@ -99,13 +117,15 @@ class PeakComparison:
     @property
     def method(self) -> str:
         """The solver's name and method, without the settings that scale with the case."""
-        return f"method {INTEGRATION_METHOD}, rtol {self.rtol:g}"
+        if self.solver == "odeint":
+            return f"scipy.integrate.odeint (LSODA), rtol {self.rtol:g}"
+        return f"scipy.integrate.solve_ivp, method {INTEGRATION_METHOD}, rtol {self.rtol:g}"
 
     @property
     def procedure(self) -> str:
         """The numerical procedure and its settings, in one line a checker can repeat."""
         return (
-            f"scipy.integrate.solve_ivp, method {INTEGRATION_METHOD}, rtol {self.rtol:g}, atol {self.atol:.3g}, "
+            f"{self.method}, atol {self.atol:.3g}, "
             f"from the same initial state over $0 \\le t \\le {self.duration:g}$ s{self.route}; both routes sampled at "
             f"{self.samples} equally spaced times"
         )
@@ -154,7 +174,7 @@ def _functions(exprs: Sequence[sp.Expr], t: sp.Symbol, label: str):
 def _row_function(exprs: Sequence[sp.Expr], t: sp.Symbol):
     """All forcing rows as one compiled function of a scalar time, returning a float array.
 
-    One ``lambdify`` of the list rather than one per row: ``solve_ivp`` calls the right-hand
+    One ``lambdify`` of the list rather than one per row: the solver calls the right-hand
     side with a scalar time thousands of times, and per-row calls with ``broadcast_to`` took
     most of a 6-DOF check (benchmarks/RESULTS_MOUNTS.md). The rows are checked by
     :func:`_functions` first.
@@ -177,13 +197,13 @@ def _scalar_function(expr: sp.Expr, t: sp.Symbol):
 def integrate_motion(
     mass, damping, stiffness, forcing, t, x0, v0, times, *, breaks=(), rtol=1e-10, atol=None
 ):
-    """``x`` at *times* from integrating ``M x'' + C x' + K x = f(t)`` with ``solve_ivp``.
+    """``x`` at *times* from integrating ``M x'' + C x' + K x = f(t)`` with ``odeint`` (:data:`MOTION_SOLVER`).
 
     Parameters are numbers in SI (scalars or square matrices); *forcing* a sympy expression
     in *t* (or one per coordinate); *times* increasing from 0; *breaks* times where the
     forcing switches. Returns an array of shape ``(n, len(times))``.
     """
-    from scipy.integrate import solve_ivp
+    from scipy.integrate import odeint
 
     M = _matrix(mass, None, "mass")
     n = M.shape[0]
@@ -220,25 +240,33 @@ def integrate_motion(
 
         def rhs(tt, y):  # noqa: F811 (the general rhs above, for one coordinate)
             x, v = y[0], y[1]
-            return np.array([v, m1 * (float(f1(tt)) - c1 * v - k1 * x)])
+            return [v, m1 * (float(f1(tt)) - c1 * v - k1 * x)]
 
     edges = sorted({0.0, float(times[-1])} | {float(b) for b in breaks if 0 < float(b) < times[-1]})
     state = np.concatenate([x_start, v_start])
     out = np.empty((n, times.size))
     for left, right in zip(edges[:-1], edges[1:], strict=True):
-        inside = (times >= left) & ((times < right) | (right == edges[-1]))
-        sol = solve_ivp(
-            rhs, (left, right), state, method=INTEGRATION_METHOD, rtol=rtol, atol=atol, dense_output=True
-        )
-        if not sol.success:
+        inside = (times > left) & ((times < right) | (right == edges[-1]))
+        # the piece's own start and end with the sample times inside it: odeint reports at the times it is given
+        asked = np.concatenate([[left], times[inside], [] if right == edges[-1] else [right]])
+        asked = np.maximum.accumulate(asked)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # a failure is read from the solver's message below
+            y, info = odeint(
+                rhs, state, asked, tfirst=True, rtol=rtol, atol=atol, full_output=True, mxstep=LARGEST_STEPS
+            )
+        if info.get("message") != "Integration successful.":
             raise ModelError(
-                f"the numerical integration stopped: {sol.message}",
+                f"the numerical integration stopped: {info.get('message', 'no message')}",
                 where="independent check",
                 do="Shorten the duration or check the model for a motion that grows without bound",
             )
+        at = times == left
+        if at.any():
+            out[:, at] = state[:n, None]
         if inside.any():
-            out[:, inside] = sol.sol(times[inside])[:n]
-        state = sol.y[:, -1]
+            out[:, inside] = y[1 : 1 + int(inside.sum()), :n].T
+        state = y[-1]
     return out
 
 
@@ -455,4 +483,5 @@ def compare_sampled_peak(
         float(atol_used),
         None,
         ", one interval between samples at a time with the load straight between them, from rest",
+        "solve_ivp",
     )
