@@ -5,7 +5,7 @@ the command as a user runs it (a new process: imports, a kernel's start, the
 template, the files), timed from start to exit. The watch keeps one kernel; the
 inputs file is edited (the running speed, 1480 and 1200 rpm in turns) and the
 time is taken from the write to the line that says the sheet was rebuilt: the
-watch's own look at the file (every 0.2 s, then 0.1 s to see it settled), the
+watch's own look at the file (every POLL_S, then SETTLE_S to see it settled; watch.py), the
 template, the files and the diff. Cold builds and edits alternate, so both see
 the same load on the (shared) machine. Writes ``benchmarks/RESULTS_WATCH.md``.
 
@@ -30,6 +30,9 @@ from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
+sys.path.insert(0, str(ROOT))
+
+from calckit.workflow.watch import POLL_S, SETTLE_S  # noqa: E402  (this tree's, as the watch run below uses)
 EXAMPLE = ROOT / "examples" / "harrow_creek_p101.toml"
 TEMPLATE = "single_mass_harmonic"
 TARGET_S = 1.5
@@ -120,7 +123,7 @@ def main() -> None:
         f"`python benchmarks/bench_watch.py --rounds {args.rounds}`: the single-mass template with the P-101 example. "
         "Cold: `calckit build` as a new process, start to exit. Rebuild: from the write of the edited inputs file "
         "(the running speed, 1480 and 1200 rpm in turns) to the watch's line saying it rebuilt the sheet, with the "
-        "watch's look at the file (every 0.2 s, 0.1 s to see it settled) included; the build time the watch reports "
+        f"watch's look at the file (every {POLL_S:g} s, {SETTLE_S:g} s to see it settled) included; the build time the watch reports "
         "(inputs read, template run in the kept kernel, files moved in) beside it. Cold builds and edits alternate.",
         "",
         f"Machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}; load averages "

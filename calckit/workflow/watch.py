@@ -61,9 +61,9 @@ from calckit.workflow.templates import find_template, load_template
 __all__ = ["POLL_S", "FileState", "file_state", "WatchEvent", "watch_sheet", "moved_summary"]
 
 #: Seconds between two looks at the watched files.
-POLL_S = 0.2
+POLL_S = 0.1
 #: Seconds a changed file must keep its bytes before it is built (an editor may write it in pieces).
-SETTLE_S = 0.1
+SETTLE_S = 0.05
 
 
 @dataclass(frozen=True)
