@@ -142,6 +142,6 @@ class TestIndependentCheck:
         assert [b.derived_shown for b in blocks] == ["500 mm", "666.7 mm"]
         assert (
             "DISAGREE" in blocks[1].line
-            and "solve_ivp" in sheet.to_record().result("x_integrated").working["text"]
+            and "scipy.integrate.odeint" in sheet.to_record().result("x_integrated").working["text"]
         )
         assert math.isclose(sheet.results["x_wrong_integrated"].magnitude, 500, rel_tol=1e-6)
