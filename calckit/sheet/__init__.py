@@ -27,6 +27,10 @@ _NAMES = {
     "record_from_dict": "calckit.sheet.record_reading",
     "Sheet": "calckit.sheet.sheet",
     "in_kernel": "calckit.sheet.sheet",
+    "DISTRIBUTIONS": "calckit.sheet.tolerance_study",
+    "FEWEST_SAMPLES": "calckit.sheet.tolerance_study",
+    "MOST_SAMPLES": "calckit.sheet.tolerance_study",
+    "sample_request": "calckit.sheet.tolerance_study",
 }
 
 
