@@ -275,8 +275,8 @@ class TestBuiltRecord:
         with pytest.raises(BuildError) as info:
             check_sampling(FakeTemplate(), sheet.record(), self.FILE)
         assert str(info.value) == (
-            "templates/own.ipynb: the sheet's sampled study is 500 samples, uniform, seed 3, not the 20000 "
-            "samples, normal, seed 11, k 2.0 the inputs file's [sampling] table asks for. Set input_sampling = {} "
+            "templates/own.ipynb: the sheet's sampled study is 500 samples, uniform, seed 3, not the 20,000 "
+            "samples, normal (k = 2), seed 11 the inputs file's [sampling] table asks for. Set input_sampling = {} "
             "in the cell before the parameters cell and create the sheet with ck.Sheet(..., "
             "sampling=input_sampling); nothing was written (and leave sheet.sample_study to runs by hand)."
         )

@@ -62,7 +62,7 @@ from calckit.sheet.tolerance_study import Tolerances, sample_request
 from calckit.sheet.values import check_name, exact_text, figure_svg, shown_text, si_value, symbol_latex
 from calckit.sheet.working import rounding_policy
 
-__all__ = ["Sheet", "in_kernel"]
+__all__ = ["SAMPLING_KEYS", "Sheet", "in_kernel"]
 
 # ------------------------------------------------------------------ helpers
 
@@ -73,7 +73,8 @@ def _canonical(obj: Any) -> str:
     return json.dumps(obj, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
 
 
-_SAMPLING_KEYS = ("samples", "distribution", "seed", "k")
+#: The keys of ``Sheet(sampling=...)`` (and of an inputs file's ``[sampling]`` table); ``k`` may be left out.
+SAMPLING_KEYS: tuple[str, ...] = ("samples", "distribution", "seed", "k")
 
 
 def _sampling_request(sampling: Any) -> Any:
@@ -86,8 +87,8 @@ def _sampling_request(sampling: Any) -> Any:
             where=where,
             do=f"Give e.g. sampling={example}",
         )
-    unknown = [str(key) for key in sampling if key not in _SAMPLING_KEYS]
-    missing = [key for key in _SAMPLING_KEYS[:3] if key not in sampling]
+    unknown = [str(key) for key in sampling if key not in SAMPLING_KEYS]
+    missing = [key for key in SAMPLING_KEYS[:3] if key not in sampling]
     if unknown or missing:
         said = [f"unknown key {', '.join(map(repr, unknown))}"] if unknown else []
         said += [f"no {' or '.join(missing)}"] if missing else []

@@ -108,17 +108,14 @@ def check_sampling(template: Template, record: Mapping[str, Any], sampling: Mapp
             do=do,
         )
     if dict(shown) != asked:
+        from calckit.workflow.diff_text import samples_text  # pint: only when it is said
+
         raise BuildError(
-            f"the sheet's sampled study is {_study_text(shown)}, not the {_study_text(asked)} the inputs file's "
-            "[sampling] table asks for",
+            f"the sheet's sampled study is {samples_text(shown)}, not the {samples_text(asked)} the inputs "
+            "file's [sampling] table asks for",
             where=str(template.path),
             do=do + " (and leave sheet.sample_study to runs by hand)",
         )
-
-
-def _study_text(samples: Mapping[str, Any]) -> str:
-    k = f", k {samples.get('k')}" if samples.get("distribution") == "normal" else ""
-    return f"{samples.get('n')} samples, {samples.get('distribution')}, seed {samples.get('seed')}{k}"
 
 
 def read_built_record(path: Path) -> dict:

@@ -19,6 +19,7 @@ __all__ = [
     "number",
     "result_label",
     "sampled_text",
+    "samples_text",
     "shown_pair",
     "sheet_name",
     "text_or_absent",
@@ -44,13 +45,21 @@ def result_label(old: dict | None, new: dict | None, name: str) -> str:
 
 
 def sampled_text(record: dict) -> str:
-    """The sampled study a record shows, in words; ``"none"`` when it shows none.
+    """The sampled study a record shows, in words (:func:`samples_text`); ``"none"`` when it shows none.
 
     >>> sampled_text({"tolerances": {"samples": {"n": 100000, "distribution": "normal", "seed": 7, "k": 3.0}}})
     '100,000 samples, normal (k = 3), seed 7'
     """
-    samples = (record.get("tolerances") or {}).get("samples")
-    if not isinstance(samples, dict):
+    return samples_text((record.get("tolerances") or {}).get("samples"))
+
+
+def samples_text(samples: Any) -> str:
+    """A sampled study as a record holds it (``n``, ``distribution``, ``seed``, ``k``), in words; ``"none"``.
+
+    >>> samples_text({"n": 500, "distribution": "uniform", "seed": 3, "k": 3.0})
+    '500 samples, uniform, seed 3'
+    """
+    if not isinstance(samples, dict) or not samples:
         return "none"
     k, n = number(samples.get("k")), samples.get("n")
     k = f" (k = {k:g})" if samples.get("distribution") == "normal" and k is not None else ""

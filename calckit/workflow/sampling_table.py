@@ -31,11 +31,8 @@ from typing import Any
 
 from calckit.errors import InputsError
 
-__all__ = ["SAMPLING_KEYS", "read_sampling_table", "check_something_to_sample", "table_line"]
+__all__ = ["read_sampling_table", "check_something_to_sample", "table_line"]
 
-#: The keys of a ``[sampling]`` table; ``k`` may be left out.
-SAMPLING_KEYS: tuple[str, ...] = ("samples", "distribution", "seed", "k")
-_NEEDED = ("samples", "distribution", "seed")
 _EXAMPLE = '[sampling] with samples = 100000, distribution = "uniform", seed = 2026'
 
 
@@ -64,7 +61,7 @@ def read_sampling_table(
     ...
     calckit.errors.InputsError: p.toml, line 21, sampling.samples: 50 samples are fewer than the 100 a study draws at least. Write a whole number from 100 to 10,000,000, e.g. samples = 100000.
     """
-    from calckit.sheet import DISTRIBUTIONS, FEWEST_SAMPLES, MOST_SAMPLES, sample_request
+    from calckit.sheet import DISTRIBUTIONS, FEWEST_SAMPLES, MOST_SAMPLES, SAMPLING_KEYS, sample_request
 
     def place(key: str) -> str:
         return f"{path}, line {line_of(key) or '?'}, sampling.{key}"
@@ -79,7 +76,7 @@ def read_sampling_table(
                 where=place(key),
                 do=f"{hint}The table takes samples, distribution, seed and, for a normal distribution, k",
             )
-    missing = [key for key in _NEEDED if key not in table]
+    missing = [key for key in SAMPLING_KEYS[:3] if key not in table]  # k may be left out
     if missing:
         raise InputsError(
             f"the [sampling] table does not give {' or '.join(missing)}",
