@@ -19,7 +19,14 @@ import pytest
 
 #: test files whose tests (nearly all) start kernels, through module-scoped built sheets
 KERNEL_MODULES = frozenset(
-    {"test_workflow.py", "test_cli.py", "test_templates.py", "test_batch_isolation.py", "test_print_fit.py"}
+    {
+        "test_workflow.py",
+        "test_cli.py",
+        "test_templates.py",
+        "test_batch_isolation.py",
+        "test_print_fit.py",
+        "test_sampled_build.py",
+    }
 )
 
 

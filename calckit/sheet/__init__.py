@@ -25,8 +25,13 @@ _NAMES = {
     "apply_units": "calckit.sheet.output_units",
     "read_record": "calckit.sheet.record_reading",
     "record_from_dict": "calckit.sheet.record_reading",
+    "SAMPLING_KEYS": "calckit.sheet.sheet",
     "Sheet": "calckit.sheet.sheet",
     "in_kernel": "calckit.sheet.sheet",
+    "DISTRIBUTIONS": "calckit.sheet.tolerance_study",
+    "FEWEST_SAMPLES": "calckit.sheet.tolerance_study",
+    "MOST_SAMPLES": "calckit.sheet.tolerance_study",
+    "sample_request": "calckit.sheet.tolerance_study",
 }
 
 

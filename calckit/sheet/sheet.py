@@ -42,7 +42,7 @@ from calckit._version import __version__
 from calckit.core.checks import positive
 from calckit.core.files import free_name, write_file
 from calckit.core.units import fmt, quantity
-from calckit.errors import OverwriteError, SheetError
+from calckit.errors import InputsError, OverwriteError, SheetError
 from calckit.sheet.blocks import (
     DEFAULT_CAUTION,
     Check,
@@ -58,11 +58,11 @@ from calckit.sheet.output_units import OutputUnits, apply_units
 from calckit.sheet.record import SheetRecord, record_of
 from calckit.sheet.record_reading import existing_fingerprint
 from calckit.sheet.steps import Steps
-from calckit.sheet.tolerance_study import Tolerances
+from calckit.sheet.tolerance_study import Tolerances, sample_request
 from calckit.sheet.values import check_name, exact_text, figure_svg, shown_text, si_value, symbol_latex
 from calckit.sheet.working import rounding_policy
 
-__all__ = ["Sheet", "in_kernel"]
+__all__ = ["SAMPLING_KEYS", "Sheet", "in_kernel"]
 
 # ------------------------------------------------------------------ helpers
 
@@ -71,6 +71,38 @@ _REFUSE = "Pass overwrite=True to replace it, keep_both=True to write alongside 
 
 def _canonical(obj: Any) -> str:
     return json.dumps(obj, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+
+
+#: The keys of ``Sheet(sampling=...)`` (and of an inputs file's ``[sampling]`` table); ``k`` may be left out.
+SAMPLING_KEYS: tuple[str, ...] = ("samples", "distribution", "seed", "k")
+
+
+def _sampling_request(sampling: Any) -> Any:
+    """The :class:`~calckit.sheet.tolerance_study.SampleRequest` of ``Sheet(sampling=...)``, checked by its one rule."""
+    where = "Sheet(sampling=...)"
+    example = '{"samples": 100000, "distribution": "uniform", "seed": 2026}'
+    if not isinstance(sampling, Mapping):
+        raise SheetError(
+            f"the sampling asked for is a {type(sampling).__name__}, not a table of its keys",
+            where=where,
+            do=f"Give e.g. sampling={example}",
+        )
+    unknown = [str(key) for key in sampling if key not in SAMPLING_KEYS]
+    missing = [key for key in SAMPLING_KEYS[:3] if key not in sampling]
+    if unknown or missing:
+        said = [f"unknown key {', '.join(map(repr, unknown))}"] if unknown else []
+        said += [f"no {' or '.join(missing)}"] if missing else []
+        raise SheetError(
+            f"the sampling asked for has {'; '.join(said)}",
+            where=where,
+            do=f"Give samples, distribution, seed and, for a normal distribution, k: e.g. sampling={example}",
+        )
+    try:
+        return sample_request(
+            sampling["samples"], sampling["distribution"], sampling["seed"], sampling.get("k", 3.0)
+        )
+    except InputsError as exc:
+        raise InputsError(exc.what, where=where, do=exc.do) from None
 
 
 # ------------------------------------------------------------------ the sheet
@@ -102,6 +134,11 @@ class Sheet(Steps, CheckMethods, Tolerances):
         The band of an input by its name, as an inputs file writes it (``{"tolerance":
         "15 %"}`` or ``{"min": ..., "max": ...}``); :meth:`given` puts it on the input, and
         the sheet then evaluates its checks over the bands (:mod:`calckit.sheet.tolerance_study`).
+    sampling : mapping, optional
+        A sampled study over the bands, as an inputs file's ``[sampling]`` table writes it:
+        ``{"samples": 100000, "distribution": "uniform", "seed": 2026}`` (and ``"k"``, the
+        half-band in standard deviations of a normal distribution, 3 if left out); the same
+        request as :meth:`sample_study`, checked by the same rule. Empty or None: none.
     inputs_file : str, optional
         Where the template's inputs come from (the inputs file's name, or e.g.
         "the template's own values"): the source :meth:`given` records for an
@@ -130,6 +167,7 @@ class Sheet(Steps, CheckMethods, Tolerances):
         inputs_file: str = "",
         sig: int = 4,
         tolerances: Mapping[str, Mapping[str, Any]] | None = None,
+        sampling: Mapping[str, Any] | None = None,
     ):
         self.sources = dict(sources or {})
         self.tolerances = {str(name): dict(band) for name, band in (tolerances or {}).items()}
@@ -161,7 +199,8 @@ class Sheet(Steps, CheckMethods, Tolerances):
             str, Any
         ] = {}  # result name -> what its formula's symbols stand for (calckit.sheet.chain)
         self._carried: dict[int, tuple[str, Any]] = {}  # id of a value carried() returned -> (result, value)
-        self.sampling: Any = None  # a sampled study asked for (calckit.sheet.tolerance_study.SampleRequest)
+        # a sampled study asked for (calckit.sheet.tolerance_study.SampleRequest)
+        self.sampling: Any = _sampling_request(sampling) if sampling else None
         self.assume(rounding_policy(sig))
 
     # -------------------------------------------------------------- adding
@@ -375,7 +414,8 @@ class Sheet(Steps, CheckMethods, Tolerances):
         exact value, unit, description, source, and its tolerance band as written when it
         has one; not the name of the inputs file, which a rename changes and the content
         does not), every check's name, limit,
-        relation and basis, the assumptions, references, notes and the caution.
+        relation and basis, the assumptions, references, notes and the caution, and the
+        sampled study asked for (samples, distribution, seed, k) when there is one.
         Results are not covered: they follow from these. Two sheets with the same
         fingerprint came from the same inputs through the same calculation.
         """
@@ -398,6 +438,9 @@ class Sheet(Steps, CheckMethods, Tolerances):
             "text": [[b.kind, b.text] for b in self.of_type(TextBlock)],
             "caution": self.caution,
         }
+        if self.sampling is not None:  # a sheet sampled otherwise is another sheet; none asked: as before
+            s = self.sampling
+            payload["sampling"] = [s.n, s.distribution, s.seed, repr(float(s.k))]
         return hashlib.sha256(_canonical(payload).encode()).hexdigest()
 
     def record(self) -> dict:

@@ -40,6 +40,8 @@ from calckit.sheet.chain import Untraced, composed, input_symbol, si_float
 
 __all__ = [
     "DISTRIBUTIONS",
+    "FEWEST_SAMPLES",
+    "MOST_SAMPLES",
     "BandedCheck",
     "SampleRequest",
     "Sensitivity",
@@ -50,6 +52,10 @@ __all__ = [
 
 DISTRIBUTIONS = ("uniform", "normal")
 """The distributions a sampled study draws from: uniform over each band, or normal with the band as ``k`` sigma."""
+FEWEST_SAMPLES = 100
+"""The fewest samples a sampled study draws (:func:`sample_request`; an inputs file's ``[sampling]`` too)."""
+MOST_SAMPLES = 10_000_000
+"""The most samples a sampled study draws (every sample is held in memory at once)."""
 
 _CORNERS_AT_MOST = 12  # 4096 corners; above that the corners are not all visited and the sheet says so
 _GRID_POINTS = 21
@@ -180,8 +186,8 @@ def sample_request(n: Any, distribution: Any, seed: Any, k: Any) -> SampleReques
     Raises
     ------
     InputsError
-        An unknown distribution, a number of samples that is not a whole number from 100
-        to 10,000,000, a seed that is not a whole number, or ``k`` not above zero.
+        An unknown distribution, a number of samples that is not a whole number from
+        :data:`FEWEST_SAMPLES` to :data:`MOST_SAMPLES`, a seed that is not a whole number, or ``k`` not above zero.
     """
     where = "sample_study"
     if distribution not in DISTRIBUTIONS:
@@ -190,9 +196,9 @@ def sample_request(n: Any, distribution: Any, seed: Any, k: Any) -> SampleReques
             where=where,
             do=f'Give distribution="uniform" (over each band) or "normal" (the band as k sigma, k={k!r})',
         )
-    if isinstance(n, bool) or not isinstance(n, int) or not 100 <= n <= 10_000_000:
+    if isinstance(n, bool) or not isinstance(n, int) or not FEWEST_SAMPLES <= n <= MOST_SAMPLES:
         raise InputsError(
-            f"n={n!r} is not a number of samples from 100 to 10,000,000",
+            f"n={n!r} is not a number of samples from {FEWEST_SAMPLES:,} to {MOST_SAMPLES:,}",
             where=where,
             do="Give a whole number, e.g. n=100_000",
         )

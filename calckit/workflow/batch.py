@@ -212,6 +212,7 @@ def run_batch(
     base_wheres = {name: base.where(name) for name in tmpl.parameters} if base is not None else {}
     base_sources = dict(base.sources) if base is not None else {}
     units = base.units.payload() if base is not None and base.units.given else None
+    sampling = dict(base.sampling) if base is not None and base.sampling is not None else None
     if base is not None:  # unknown names only: a case may give what the base leaves out
         check_keys(base, tmpl.parameters, path=base.path, optional=tmpl.parameters)
         from calckit.workflow.tolerance_table import check_band_names  # pint: not at the CLI's start
@@ -252,6 +253,7 @@ def run_batch(
                 sources=sources,
                 units=units,
                 tolerances=bands,
+                sampling=sampling,
                 data=data_payload(values, tmpl.files, tmpl.path.parent, wheres, read_files),
                 pdf=pdf,
                 time_limit=time_limit,

@@ -54,7 +54,7 @@ from typing import TYPE_CHECKING, Any
 
 from calckit.core.files import write_text
 from calckit.errors import BuildError, CalcError, InputsError
-from calckit.workflow.built_record import check_sources, check_tolerances, read_built_record
+from calckit.workflow.built_record import check_sampling, check_sources, check_tolerances, read_built_record
 from calckit.workflow.held import (
     SHEET_SUFFIXES,
     check_not_template,
@@ -197,6 +197,7 @@ async def build_in_kernel(
     time_limit: float | None = CASE_TIME_LIMIT_S,
     units: Mapping[str, Any] | None = None,
     tolerances: Mapping[str, Mapping[str, str]] | None = None,
+    sampling: Mapping[str, Any] | None = None,
 ) -> BuildResult:
     """Build one sheet in *kernel* (warmed up), which is reset first; the steps of :func:`build_sheet`.
 
@@ -211,7 +212,8 @@ async def build_in_kernel(
     as ``input_sources``; the built sheet must show each of them. *units* (the inputs
     file's ``[units]`` table, as plain data) go to :func:`save_built_sheet`. *tolerances*
     (input name -> band as written) go to the template as ``input_tolerances``; the built
-    sheet must show each of them on its input.
+    sheet must show each of them on its input. *sampling* (the inputs file's ``[sampling]``
+    table as read) goes to it as ``input_sampling``; the built sheet must show that study.
     """
     import copy
 
@@ -225,7 +227,7 @@ async def build_in_kernel(
 
     notebook = copy.deepcopy(template.notebook)
     injected = nbformat.v4.new_code_cell(
-        inputs_cell_source(assignments, inputs_label, template.digest, sources, tolerances)
+        inputs_cell_source(assignments, inputs_label, template.digest, sources, tolerances, sampling)
     )
     injected.metadata["tags"] = [INPUTS_TAG]
     if "id" in injected and INPUTS_TAG not in {cell.get("id") for cell in notebook.cells}:
@@ -268,6 +270,8 @@ async def build_in_kernel(
             check_sources(template, record, sources, wheres)
         if tolerances:
             check_tolerances(template, record, tolerances, wheres)
+        if sampling:
+            check_sampling(template, record, sampling)
         fingerprint = record["fingerprint"]
         place_sheet(work, out, stem, fingerprint, held, overwrite=overwrite)
     finally:
@@ -353,10 +357,12 @@ def _timed_out(
 
 def _prepare_build(
     path: Path, inputs: str | os.PathLike, out: Path
-) -> tuple[
-    Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, str], dict | None, dict
-]:
-    """The parent's share of a build: read the template and the inputs, check them, look at the output folder."""
+) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, Any]]:
+    """The parent's share of a build: read the template and the inputs, check them, look at the output folder.
+
+    The last of what it gives is what the inputs file adds to its values, as
+    :func:`build_in_kernel`'s keywords: ``sources``, ``units``, ``tolerances``, ``sampling``.
+    """
     from calckit.workflow.inputs import check_keys, read_inputs
     from calckit.workflow.tolerance_table import check_band_names
 
@@ -366,18 +372,13 @@ def _prepare_build(
     check_band_names(file)
     wheres = {name: file.where(name) for name in tmpl.parameters}
     held = held_fingerprint(out, tmpl.name)
-    units = file.units.payload() if file.units.given else None
-    tolerances = {name: dict(band) for name, band in file.tolerances.items()}
-    return (
-        tmpl,
-        prepared_values(tmpl, file),
-        wheres,
-        file.path.name,
-        held,
-        dict(file.sources),
-        units,
-        tolerances,
-    )
+    given = {
+        "sources": dict(file.sources),
+        "units": file.units.payload() if file.units.given else None,
+        "tolerances": {name: dict(band) for name, band in file.tolerances.items()},
+        "sampling": dict(file.sampling) if file.sampling is not None else None,
+    }
+    return tmpl, prepared_values(tmpl, file), wheres, file.path.name, held, given
 
 
 async def _build_alone(
@@ -399,12 +400,11 @@ async def _build_alone(
         await asyncio.wait({prepare, warm}, return_when=asyncio.FIRST_EXCEPTION)
         if prepare.done() and prepare.exception() is not None:
             warm.cancel()  # bad inputs: no need to wait for the kernel
-        template, assignments, wheres, label, held, sources, units, tolerances = await prepare
+        template, assignments, wheres, label, held, given = await prepare
         await warm
         return await build_in_kernel(
             kernel, template, assignments, wheres, label, out, held,
-            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
-            time_limit=time_limit, units=units, tolerances=tolerances,
+            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, time_limit=time_limit, **given,
         )  # fmt: skip
     finally:
         if not warm.done():
@@ -429,13 +429,12 @@ async def _build_kept(
     time_limit: float | None,
 ) -> BuildResult:
     """:func:`_build_alone`'s build in this thread's kept kernel (reset before the sheet)."""
-    template, assignments, wheres, label, held, sources, units, tolerances = _prepare_build(path, inputs, out)
+    template, assignments, wheres, label, held, given = _prepare_build(path, inputs, out)
 
     async def job(kernel: Kernel) -> BuildResult:
         return await build_in_kernel(
             kernel, template, assignments, wheres, label, out, held,
-            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, sources=sources,
-            time_limit=time_limit, units=units, tolerances=tolerances,
+            pdf=pdf, overwrite=overwrite, timeout=timeout, started=started, time_limit=time_limit, **given,
         )  # fmt: skip
 
     return await run_in_kept_kernel(job)

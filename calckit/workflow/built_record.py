@@ -3,8 +3,9 @@
 :func:`read_built_record` reads the sheet's JSON record through the one definition of a
 record; :func:`check_sources` and :func:`check_tolerances` refuse a built sheet that does
 not show a source, or carry a band, that the inputs file gives (the template did not pass
-``input_sources`` or ``input_tolerances`` to its sheet). :mod:`calckit.workflow.build`
-runs them before anything is moved into the output folder.
+``input_sources`` or ``input_tolerances`` to its sheet), and :func:`check_sampling` one
+that does not show the sampled study its ``[sampling]`` table asks for (``input_sampling``).
+:mod:`calckit.workflow.build` runs them before anything is moved into the output folder.
 """
 
 from __future__ import annotations
@@ -18,7 +19,7 @@ from calckit.errors import BuildError, InputsError
 if TYPE_CHECKING:
     from calckit.workflow.templates import Template
 
-__all__ = ["read_built_record", "check_sources", "check_tolerances"]
+__all__ = ["read_built_record", "check_sources", "check_tolerances", "check_sampling"]
 
 
 def check_sources(
@@ -74,6 +75,47 @@ def check_tolerances(
                 do="Set input_tolerances = {} in the cell before the parameters cell and create the sheet "
                 "with ck.Sheet(..., tolerances=input_tolerances); nothing was written",
             )
+
+
+def check_sampling(template: Template, record: Mapping[str, Any], sampling: Mapping[str, Any]) -> None:
+    """Refuse a built sheet whose record does not show the sampled study *sampling* (an inputs file's ``[sampling]``).
+
+    The record's tolerance study names the samples it drew (``tolerances.samples``:
+    ``n``, ``distribution``, ``seed``, ``k``); they must be the ones asked for.
+
+    Raises
+    ------
+    BuildError
+        The sheet shows no sampled study (the template does not pass ``input_sampling``
+        to its sheet), or another one (the template asks for its own afterwards).
+    """
+    asked = {
+        "n": sampling["samples"],
+        "distribution": sampling["distribution"],
+        "seed": sampling["seed"],
+        "k": float(sampling.get("k", 3.0)),
+    }
+    shown = (record.get("tolerances") or {}).get("samples")
+    do = (
+        "Set input_sampling = {} in the cell before the parameters cell and create the sheet with "
+        "ck.Sheet(..., sampling=input_sampling); nothing was written"
+    )
+    if not shown:
+        raise BuildError(
+            "the sheet shows no sampled study, though the inputs file's [sampling] table asks for one: the "
+            "template does not pass input_sampling to its sheet",
+            where=str(template.path),
+            do=do,
+        )
+    if dict(shown) != asked:
+        from calckit.workflow.diff_text import samples_text  # pint: only when it is said
+
+        raise BuildError(
+            f"the sheet's sampled study is {samples_text(shown)}, not the {samples_text(asked)} the inputs "
+            "file's [sampling] table asks for",
+            where=str(template.path),
+            do=do + " (and leave sheet.sample_study to runs by hand)",
+        )
 
 
 def read_built_record(path: Path) -> dict:

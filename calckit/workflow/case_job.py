@@ -57,6 +57,8 @@ class CaseJob:
     tolerances : dict or None
         Input name -> its band (``{"tolerance": "15 %"}`` or ``{"min": ..., "max": ...}``),
         the base inputs file's, as plain data.
+    sampling : dict or None
+        The sampled study the base inputs file's ``[sampling]`` table asks for, as plain data.
     data : dict
         Parameter -> (path, bytes) of the data files the template's ``# file``
         parameters name, the path as the batch's machine has it. A worker that sees
@@ -79,6 +81,7 @@ class CaseJob:
     sources: Mapping[str, str] = field(default_factory=dict)
     units: Mapping[str, Any] | None = None
     tolerances: Mapping[str, Mapping[str, str]] | None = None
+    sampling: Mapping[str, Any] | None = None
     data: Mapping[str, tuple[str, bytes]] = field(default_factory=dict, repr=False)
     pdf: bool = False
     time_limit: float | None = None
@@ -178,6 +181,7 @@ def _build(job: CaseJob, scratch: Path, started: float) -> tuple[dict[str, bytes
     options = {"pdf": job.pdf, "overwrite": False, "timeout": job.timeout, "started": started}
     options.update(sources=dict(job.sources), time_limit=job.time_limit, units=job.units)
     options["tolerances"] = {n: dict(b) for n, b in (job.tolerances or {}).items()}
+    options["sampling"] = dict(job.sampling) if job.sampling else None
     once = loop_running()  # a kept kernel lives on this thread's own loop; here it cannot
     with FolderLock(out):
 

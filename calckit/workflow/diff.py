@@ -43,6 +43,7 @@ from calckit.workflow.diff_text import (
     limit_text,
     number,
     result_label,
+    sampled_text,
     sheet_name,
     shown_pair,
     text_or_absent,
@@ -482,6 +483,8 @@ def diff_records(old: dict, new: dict, *, old_name: str = "old", new_name: str =
             if was != now:
                 grouped.setdefault((key, was, now), []).append(name)
     details = [Change(f"{key} of {', '.join(names)}", was, now) for (key, was, now), names in grouped.items()]
+    if sampled_text(old) != sampled_text(new):  # the request moves the fingerprint: said, not left a riddle
+        details.append(Change("sampled study", sampled_text(old), sampled_text(new)))
     results_old, results_new = _by_name(old.get("results")), _by_name(new.get("results"))
     results = []
     for name in dict.fromkeys([*results_old, *results_new]):

@@ -14,7 +14,16 @@ from typing import Any
 
 from calckit.core.units import Q_, fmt, fmt_number
 
-__all__ = ["limit_text", "number", "result_label", "shown_pair", "sheet_name", "text_or_absent"]
+__all__ = [
+    "limit_text",
+    "number",
+    "result_label",
+    "sampled_text",
+    "samples_text",
+    "shown_pair",
+    "sheet_name",
+    "text_or_absent",
+]
 
 
 def sheet_name(record: dict) -> str:
@@ -33,6 +42,29 @@ def result_label(old: dict | None, new: dict | None, name: str) -> str:
     """A result under the sheet's own label: ``"Natural frequency (natural_frequency)"``, else its name."""
     label = (new or {}).get("label") or (old or {}).get("label")
     return f"{label} ({name})" if label and label != name else name
+
+
+def sampled_text(record: dict) -> str:
+    """The sampled study a record shows, in words (:func:`samples_text`); ``"none"`` when it shows none.
+
+    >>> sampled_text({"tolerances": {"samples": {"n": 100000, "distribution": "normal", "seed": 7, "k": 3.0}}})
+    '100,000 samples, normal (k = 3), seed 7'
+    """
+    return samples_text((record.get("tolerances") or {}).get("samples"))
+
+
+def samples_text(samples: Any) -> str:
+    """A sampled study as a record holds it (``n``, ``distribution``, ``seed``, ``k``), in words; ``"none"``.
+
+    >>> samples_text({"n": 500, "distribution": "uniform", "seed": 3, "k": 3.0})
+    '500 samples, uniform, seed 3'
+    """
+    if not isinstance(samples, dict) or not samples:
+        return "none"
+    k, n = number(samples.get("k")), samples.get("n")
+    k = f" (k = {k:g})" if samples.get("distribution") == "normal" and k is not None else ""
+    n = f"{n:,}" if isinstance(n, int) and not isinstance(n, bool) else str(n)
+    return f"{n} samples, {samples.get('distribution')}{k}, seed {samples.get('seed')}"
 
 
 def number(value: Any) -> float | None:

@@ -55,6 +55,17 @@ table by the input's name (:attr:`InputsFile.tolerances`,
 ``source``, ``tolerance``, ``min`` and ``max`` are the only keys such a table takes. An inline table names one input; a ``[table]``
 header groups inputs. The title-block fields take no source.
 
+With bands given, a ``[sampling]`` table asks for a sampled (Monte Carlo) study over them:
+the fraction of samples that pass each check (:attr:`InputsFile.sampling`,
+:mod:`calckit.workflow.sampling_table`)::
+
+    [sampling]
+    samples = 100000
+    distribution = "uniform"     # or "normal", with k = 3 (the half-band as k standard deviations)
+    seed = 2026
+
+``[sheet]``, ``[units]``, ``[tolerances]`` and ``[sampling]`` are the tables that hold no inputs.
+
 Input values are text, integers, finite floats, true/false, or arrays of those.
 Input names are Python names, unique across all groups. The title-block fields
 (:data:`TITLE_FIELDS`) are passed to the template under their own names
@@ -89,6 +100,7 @@ from calckit.workflow.parameters_cell import (  # re-exported: templates read th
     injected_source,
     parameters_from_source,
 )
+from calckit.workflow.sampling_table import check_something_to_sample, read_sampling_table, table_line
 from calckit.workflow.tolerance_table import split_band, table_bands
 from calckit.workflow.toml_text import load_toml
 from calckit.workflow.units_table import UnitsTable, read_units_table
@@ -159,6 +171,9 @@ class InputsFile:
     tolerances : Mapping[str, Mapping[str, str]]
         The band of each input written with one (``{"tolerance": "15 %"}`` or
         ``{"min": ..., "max": ...}``), by name.
+    sampling : Mapping[str, object] or None
+        The sampled study the ``[sampling]`` table asks for (``samples``, ``distribution``,
+        ``seed`` and, for a normal distribution, ``k``); None when the file has no such table.
     """
 
     path: Path
@@ -170,6 +185,7 @@ class InputsFile:
     units: UnitsTable = field(default_factory=UnitsTable)
     conventions: Mapping[str, str] = field(default_factory=dict)
     tolerances: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
+    sampling: Mapping[str, Any] | None = None
 
     def line_of(self, key: str) -> int | None:
         """Line number (from 1) where *key* is set, best effort; None if not found.
@@ -236,7 +252,9 @@ def read_inputs(path: str | Path) -> InputsFile:
         Python name, a key given twice across groups, a value of a kind that
         inputs cannot have, a float that is NaN or infinite; an input written
         as an inline table without ``value``, with a key other than ``value``
-        and ``source``, or with a source that is not non-empty text.
+        and ``source``, or with a source that is not non-empty text; a ``[sampling]``
+        table that is not a sampled study (:mod:`calckit.workflow.sampling_table`), or
+        one in a file where no input carries a band.
 
     Examples
     --------
@@ -274,6 +292,7 @@ def read_inputs(path: str | Path) -> InputsFile:
     sheet = TitleBlock()
     units = UnitsTable()
     bands: dict[str, Any] = {}
+    sampling: dict[str, Any] | None = None
     text_file = InputsFile(path, {}, text=text)
 
     def add(key: str, value: Any, group: str) -> None:
@@ -310,6 +329,11 @@ def read_inputs(path: str | Path) -> InputsFile:
             units = read_units_table(value, path, lambda inner: _find_line(text, "units", inner))
         elif key == "tolerances" and isinstance(value, dict) and _find_line(text, "", key) is None:
             bands = value  # read once every input is known
+        elif key == "sampling" and isinstance(value, dict) and _find_line(text, "", key) is None:
+            header = table_line(text, "sampling")
+            sampling = read_sampling_table(
+                value, path, lambda inner: _find_line(text, "sampling", inner), header
+            )
         elif isinstance(value, dict) and _find_line(text, "", key) is not None:
             add(key, value, "")  # key = { value = ..., source = ... }: one input, not a group
         elif isinstance(value, dict):
@@ -325,6 +349,9 @@ def read_inputs(path: str | Path) -> InputsFile:
             add(key, value, "")
     tolerances.update(
         table_bands(bands, values, tolerances, path, lambda k: _find_line(text, "tolerances", k))
+    )
+    check_something_to_sample(
+        sampling, tolerances, f"{path}, line {table_line(text, 'sampling') or '?'}, sampling"
     )
     for key in sheet.present():  # one value a field: which one would win is not for us to guess
         if key in values:
@@ -344,6 +371,7 @@ def read_inputs(path: str | Path) -> InputsFile:
         units,
         MappingProxyType(conventions),
         MappingProxyType(tolerances),
+        MappingProxyType(sampling) if sampling is not None else None,
     )
 
 

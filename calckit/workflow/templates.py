@@ -22,10 +22,11 @@ A template is a Jupyter notebook that builds one calculation sheet.
 2. **The sheet.** The rest of the notebook builds a :class:`calckit.Sheet`
    named ``sheet``, with ``template=template_text`` so that the sheet's
    fingerprint covers the template, with ``sources=input_sources``,
-   ``tolerances=input_tolerances`` and ``inputs_file=inputs_file``. A cell *before*
-   the parameters cell sets the defaults ``template_text = ""``, ``inputs_file =
-   "..."`` (used as the inputs' source), ``input_sources = {}`` and
-   ``input_tolerances = {}``, so that the template also runs by hand.
+   ``tolerances=input_tolerances``, ``sampling=input_sampling`` and
+   ``inputs_file=inputs_file``. A cell *before* the parameters cell sets the
+   defaults ``template_text = ""``, ``inputs_file = "..."`` (used as the inputs'
+   source), ``input_sources = {}``, ``input_tolerances = {}`` and
+   ``input_sampling = {}``, so that the template also runs by hand.
    The template imports only ``calckit`` (``import calckit as ck``) and general
    libraries. Inputs go on the sheet under their parameter names
    (``sheet.given("mass", mass, "m", "Moving mass", "mass")``), so that an error
@@ -44,10 +45,12 @@ A template is a Jupyter notebook that builds one calculation sheet.
    metadata Jupyter rewrites on save does not count) and, when the inputs file
    gives sources, ``input_sources`` (input name -> source, for those inputs
    only), and when it gives tolerance bands, ``input_tolerances`` (input name ->
-   the band as written). A source given for an input that the built sheet does not
-   show, or not shown as its source (a template that does not pass ``input_sources``
-   to its sheet), stops the build before anything is written: no source is dropped
-   without a word; nor is a band (``input_tolerances``). The notebook runs in
+   the band as written), and when it has a ``[sampling]`` table, ``input_sampling``
+   (the sampled study asked for, :mod:`calckit.workflow.sampling_table`). A source
+   given for an input that the built sheet does not show, or not shown as its source
+   (a template that does not pass ``input_sources`` to its sheet), stops the build
+   before anything is written: no source is dropped without a word; nor is a band
+   (``input_tolerances``), nor a sampled study (``input_sampling``). The notebook runs in
    a new ``python3`` kernel of the interpreter calckit runs in (see
    :mod:`calckit.workflow.kernels`), with a temporary folder as its working folder. The kernel is started
    first; the template and the inputs are read and checked while it starts and
@@ -302,13 +305,16 @@ def inputs_cell_source(
     digest: str,
     sources: Mapping[str, str] | None = None,
     tolerances: Mapping[str, Mapping[str, str]] | None = None,
+    sampling: Mapping[str, Any] | None = None,
 ) -> str:
     """The source of the cell the build puts after the parameters cell (tagged ``inputs-from-file``).
 
     It assigns every input (*assignments*, the value alone), ``inputs_file``
     (*inputs_label*), ``template_text`` (the template's *digest*) and, when
-    given, ``input_sources`` (input name -> source) and ``input_tolerances`` (input
-    name -> its band as written, ``{"tolerance": "15 %"}``).
+    given, ``input_sources`` (input name -> source), ``input_tolerances`` (input
+    name -> its band as written, ``{"tolerance": "15 %"}``) and ``input_sampling``
+    (the ``[sampling]`` table as read, ``{"samples": 100000, "distribution": "uniform",
+    "seed": 2026}``).
 
     Raises
     ------
@@ -341,7 +347,36 @@ def inputs_cell_source(
     if tolerances:  # left out when there are none: the template's default input_tolerances = {} holds
         bands = {str(n): {str(k): str(v) for k, v in band.items()} for n, band in tolerances.items()}
         text += "input_tolerances = {\n" + "".join(f"    {n!r}: {b!r},\n" for n, b in bands.items()) + "}\n"
+    if sampling:  # left out when none is asked for: the template's default input_sampling = {} holds
+        text += f"input_sampling = {_sampling_literal(sampling)}\n"
     return text
+
+
+def _sampling_literal(sampling: Mapping[str, Any]) -> str:
+    """``{'samples': 100000, 'distribution': 'uniform', 'seed': 2026}``: the request as a literal, keys in order.
+
+    Raises
+    ------
+    InputsError
+        A value that is not a whole number, a finite float or text (the reader gives no other).
+    """
+    import math
+
+    for key, value in sampling.items():
+        if (
+            not isinstance(key, str)
+            or isinstance(value, bool)
+            or not isinstance(value, int | float | str)
+            or (isinstance(value, float) and not math.isfinite(value))
+        ):
+            raise InputsError(
+                f"the sampling's {key!r} is {value!r}, not a number or text",
+                where="input sampling",
+                do="Give the [sampling] table as the inputs file reads it",
+            )
+    order = ("samples", "distribution", "seed", "k")
+    ordered = sorted(sampling.items(), key=lambda kv: order.index(kv[0]) if kv[0] in order else len(order))
+    return "{" + ", ".join(f"{k!r}: {v!r}" for k, v in ordered) + "}"
 
 
 _ANSI = re.compile(r"\x1b\[[0-9;]*[A-Za-z]")

@@ -219,6 +219,7 @@ class _Session:
                 pdf=self.options["pdf"], overwrite=overwrite, timeout=self.options["timeout"],
                 started=started, sources=dict(file.sources), time_limit=self.options["time_limit"], units=units,
                 tolerances={name: dict(band) for name, band in file.tolerances.items()},
+                sampling=dict(file.sampling) if file.sampling is not None else None,
             )  # fmt: skip
             self.written = _digests(self.out, template.name)
         return result
