@@ -27,6 +27,7 @@ result, a value the sheet cannot trace) says so in words and is not evaluated.
 
 from __future__ import annotations
 
+import functools
 import itertools
 import math
 from dataclasses import dataclass, field
@@ -344,10 +345,10 @@ def _over_bands(sheet: Any, check: Any, bands: tuple, memo: dict, samples: dict 
     fixed = {s: nominal_all[s] for s in free if s.name[4:] not in by_name}
     if any(v is None for v in fixed.values()):
         return refused(f"the inputs {', '.join(untraced_inputs)} of {check.value_from} have no number")
-    value_c, limit_c = value_c.xreplace(fixed), limit_c.xreplace(fixed)
+    frame = _Frame(symbols, fixed)  # the other inputs stay symbols, their values passed in numbers
     nominal = [by_name[n].si()[1] for n in names]
-    value_f = _compiled(symbols, value_c)
-    limit_f = _compiled(symbols, limit_c)
+    value_f = frame.one(value_c)
+    limit_f = frame.one(limit_c)
     at_nominal = float(value_f(*nominal))
     if not math.isclose(at_nominal, check.value, rel_tol=2e-2, abs_tol=1e-12 * max(1.0, abs(check.value))):
         return refused(
@@ -367,16 +368,16 @@ def _over_bands(sheet: Any, check: Any, bands: tuple, memo: dict, samples: dict 
         )  # fmt: skip
     lows = np.array([by_name[n].si()[0] for n in names])
     highs = np.array([by_name[n].si()[2] for n in names])
-    point, worst, inside, corners = _worst_point(symbols, margin, lows, highs)
+    point, worst, inside, corners = _worst_point(frame, margin, lows, highs)
     worst_value, worst_limit = float(value_f(*point)), float(limit_f(*point))
-    sensitivities = _sensitivities(names, symbols, value_c, value_f, nominal, lows, highs)
+    sensitivities = _sensitivities(names, frame, value_c, value_f, nominal, lows, highs)
     governing = tuple(
         (n, float(x) * _unit_factor(by_name[n].nominal, f"{by_name[n].nominal.units}"))
         for n, x in zip(names, point, strict=True)
     )
     fraction = None
     if samples is not None:
-        fraction = _pass_fraction(symbols, names, value_c, limit_c, check.relation, samples)
+        fraction = _pass_fraction(frame, names, value_c, limit_c, check.relation, samples)
     return BandedCheck(
         check.name, True, "", worst_value=worst_value, worst_limit=worst_limit, worst_margin=float(worst),
         worst_met=bool(holds(worst_value, worst_limit, check.relation)), governing=governing, inside=inside,
@@ -384,27 +385,82 @@ def _over_bands(sheet: Any, check: Any, bands: tuple, memo: dict, samples: dict 
     )  # fmt: skip
 
 
-def _compiled(symbols: list, expr: sp.Expr):
-    """*expr* compiled to numpy (``sympy.lambdify``), returning arrays of the shape of its arguments."""
-    compiled = sp.lambdify(symbols, expr, "numpy")
+@functools.lru_cache(maxsize=256)
+def _lambdified(args: tuple, exprs: tuple, many: bool):
+    """``sympy.lambdify`` of *exprs* in *args* to numpy: one function returning all of them (*many*) or the one.
 
-    def call(*args):
-        with np.errstate(all="ignore"):
-            out = compiled(*args)
-        return np.broadcast_to(np.asarray(out, dtype=float), np.broadcast(*args).shape if args else ())
+    Kept between a batch's cases (:data:`calckit.workflow.kernel_state.KEPT_CACHES`): it depends on the
+    expressions alone, and a case's numbers are arguments (:class:`_Frame`), so the cases of one template
+    share their compiled margins.
+    """
+    return sp.lambdify(list(args), list(exprs) if many else exprs[0], "numpy")
 
-    return call
+
+@functools.lru_cache(maxsize=256)
+def _derivatives(expr: sp.Expr, wrt: tuple) -> tuple:
+    """The symbolic derivatives of *expr* by each symbol of *wrt* (kept as :func:`_lambdified` is)."""
+    return tuple(sp.diff(expr, s) for s in wrt)
 
 
-def _worst_point(symbols: list, margin: sp.Expr, lows: np.ndarray, highs: np.ndarray):
+def _keepable(exprs: tuple) -> bool:
+    """Whether the expressions name no function of a case's own (``implemented_function``), which a kept
+    compiled function would carry into the next case."""
+    from sympy.core.function import AppliedUndef
+
+    return not any(sp.sympify(e).atoms(AppliedUndef) for e in exprs)
+
+
+class _Frame:
+    """The arguments of a check's compiled expressions: the inputs with a band, then the other inputs
+    the result depends on (sorted by name), whose nominal values in SI are passed with every call."""
+
+    def __init__(self, symbols: list, fixed: dict) -> None:
+        self.symbols = list(symbols)
+        extra = sorted(fixed, key=lambda s: s.name)
+        self.values = [fixed[s] for s in extra]
+        self.args = tuple(self.symbols + extra)
+
+    def _function(self, exprs: tuple, many: bool):
+        if _keepable(exprs):
+            return _lambdified(self.args, exprs, many)
+        return _lambdified.__wrapped__(self.args, exprs, many)
+
+    def derivatives(self, expr: sp.Expr) -> tuple:
+        """*expr*'s derivative by each input with a band."""
+        return _derivatives(expr, tuple(self.symbols)) if _keepable((expr,)) else _derivatives.__wrapped__(
+            expr, tuple(self.symbols)
+        )
+
+    def one(self, expr: sp.Expr):
+        """*expr* compiled, a function of the banded inputs returning arrays of the shape of its arguments."""
+        compiled, values = self._function((expr,), False), self.values
+
+        def call(*args):
+            with np.errstate(all="ignore"):
+                out = compiled(*args, *values)
+            return np.broadcast_to(np.asarray(out, dtype=float), np.broadcast(*args).shape if args else ())
+
+        return call
+
+    def many(self, exprs: list):
+        """All of *exprs* compiled in one function of the banded inputs (scalars in, a list out)."""
+        compiled, values = self._function(tuple(exprs), True), self.values
+
+        def call(*args):
+            with np.errstate(all="ignore"):
+                return compiled(*args, *values)
+
+        return call
+
+
+def _worst_point(frame: _Frame, margin: sp.Expr, lows: np.ndarray, highs: np.ndarray):
     """``(point, lowest margin, inside, corners visited)`` over the box ``lows``..``highs`` (SI)."""
     from scipy.optimize import minimize
 
-    n = len(symbols)
-    f = _compiled(symbols, margin)
-    grad_exprs = [sp.diff(margin, s) for s in symbols]
-    # the margin and its gradient in one compiled function: one lambdify, one call a step of the search
-    with_gradient = sp.lambdify(symbols, [margin, *grad_exprs], "numpy")
+    n = len(frame.symbols)
+    f = frame.one(margin)
+    # the margin and its gradient in one compiled function: one call a step of the search
+    with_gradient = frame.many([margin, *frame.derivatives(margin)])
     span = highs - lows
 
     def values(points: np.ndarray) -> np.ndarray:
@@ -427,8 +483,7 @@ def _worst_point(symbols: list, margin: sp.Expr, lows: np.ndarray, highs: np.nda
 
     def objective(u: np.ndarray):
         x = lows + u * span
-        with np.errstate(all="ignore"):
-            out = with_gradient(*x)
+        out = with_gradient(*x)
         value = float(out[0])
         gradient = np.array([float(g) for g in out[1:]], dtype=float) * span
         if not math.isfinite(value) or not np.all(np.isfinite(gradient)):
@@ -450,11 +505,9 @@ def _worst_point(symbols: list, margin: sp.Expr, lows: np.ndarray, highs: np.nda
     return best_x, best, inside, len(corner_points)
 
 
-def _sensitivities(names, symbols, value_c, value_f, nominal, lows, highs) -> tuple[Sensitivity, ...]:
+def _sensitivities(names, frame, value_c, value_f, nominal, lows, highs) -> tuple[Sensitivity, ...]:
     at_nominal = float(value_f(*nominal))
-    derivatives = sp.lambdify(symbols, [sp.diff(value_c, s) for s in symbols], "numpy")  # one compile for all
-    with np.errstate(all="ignore"):
-        slopes = [float(d) for d in derivatives(*nominal)]
+    slopes = [float(d) for d in frame.many(list(frame.derivatives(value_c)))(*nominal)]  # one compile for all
     rows = []
     for i, name in enumerate(names):
         slope = slopes[i]
@@ -467,10 +520,10 @@ def _sensitivities(names, symbols, value_c, value_f, nominal, lows, highs) -> tu
     return tuple(rows)
 
 
-def _pass_fraction(symbols, names, value_c, limit_c, relation, samples) -> float:
+def _pass_fraction(frame, names, value_c, limit_c, relation, samples) -> float:
     columns = [samples[n] for n in names]
-    v = _compiled(symbols, value_c)(*columns)
-    lim = _compiled(symbols, limit_c)(*columns)
+    v = frame.one(value_c)(*columns)
+    lim = frame.one(limit_c)(*columns)
     close = np.isclose(v, lim, rtol=1e-12, atol=0.0)
     if relation in ("<=", "<"):
         passed = v < lim

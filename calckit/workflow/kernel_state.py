@@ -42,11 +42,16 @@ __all__ = ["kernel_warm_up", "kernel_reset"]
 _BASELINE: dict[str, Any] = {}
 
 #: calckit's caches that the reset keeps: each holds what depends on its arguments only (unit
-#: names), never a case's data, and costs time to fill (the exact unit registry is a second pint
-#: registry, about 0.4 s to build). A case that defines units is caught by the reset's check of the
-#: registries, and its kernel replaced. Every other cache of calckit is emptied before each case.
+#: names; a tolerance study's symbolic expressions, in which a case's numbers are arguments, not
+#: constants), never a case's data, and costs time to fill (the exact unit registry is a second pint
+#: registry, about 0.4 s to build; a check's margin, its derivatives and their compiled functions
+#: about 0.05 s a case). A case that defines units is caught by the reset's check of the
+#: registries, and its kernel replaced; an expression naming a function of a case's own is not kept
+#: (:func:`calckit.sheet.tolerance_study._keepable`). Every other cache of calckit is emptied before each case.
 KEPT_CACHES = frozenset(
     {
+        "calckit.sheet.tolerance_study._lambdified",
+        "calckit.sheet.tolerance_study._derivatives",
         "calckit.core.units._exact_registry",
         "calckit.core.units._pi_fraction",
         "calckit.core.units._exact_factor",
