@@ -129,7 +129,7 @@ def pytest_collection_finish(session: pytest.Session) -> None:
     def needs(item) -> bool:
         names = set(getattr(item, "fixturenames", ()))
         return "shared_demo" in names or (
-            "built" in names and Path(str(item.path)).name == "test_templates.py"
+            "built" in names and Path(str(item.path)).name in ("test_templates.py", "test_sampled_build.py")
         )
 
     if any(needs(item) for item in session.items):

@@ -1,7 +1,7 @@
 """A sampled study asked for by an inputs file, built: ``examples/harrow_creek_p101_sampled.toml``.
 
-One build (``calckit.workflow.build.build_sheet``, one kernel) of the worn-impeller P-101
-example (Harrow Creek works, invented), whose ``[sampling]`` table asks for 100,000
+The run's one demo build (``conftest.shared_demo``: ``calckit demo`` builds it as
+``p101-sampled``) of the worn-impeller P-101 example (Harrow Creek works, invented), whose ``[sampling]`` table asks for 100,000
 samples, uniform over the bands, seed 2026. The sheet's fraction of samples meeting the
 amplitude check is held against an outside reference: the same samples drawn with numpy's
 ``default_rng`` from the stated seed (each banded input uniform over its band,
@@ -22,7 +22,6 @@ import numpy as np
 import pint
 import pytest
 
-from calckit.workflow.build import build_sheet
 from calckit.workflow.templates import load_template
 
 EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "harrow_creek_p101_sampled.toml"
@@ -31,8 +30,19 @@ UREG = pint.UnitRegistry()
 
 
 @pytest.fixture(scope="module")
-def built(tmp_path_factory):
-    return build_sheet(TEMPLATE, EXAMPLE, tmp_path_factory.mktemp("sampled") / "p101-sampled")
+def built(tmp_path_factory, worker_id):
+    """The demo's build of the example: its record (as data), notebook and page."""
+    import json
+    from types import SimpleNamespace
+
+    from tests.conftest import run_shared_demo
+
+    where, _run = run_shared_demo(tmp_path_factory, worker_id)
+    folder = where / "demo" / "p101-sampled"
+    record = json.loads((folder / f"{TEMPLATE}.json").read_text(encoding="utf-8"))
+    return SimpleNamespace(
+        record=record, notebook=folder / f"{TEMPLATE}.ipynb", html=folder / f"{TEMPLATE}.html"
+    )
 
 
 def si(text: str, unit: str) -> float:
