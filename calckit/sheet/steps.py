@@ -246,8 +246,8 @@ class Steps:
         # the basis names the method; its settings (atol scales with the response) are on the
         # independent check's own step, so a moved input does not read as a changed basis
         basis = (
-            "two routes to one equation: the derived x(t) against "
-            f"{comparison.method}; the settings are on the independent check's step"
+            "two routes to one equation: the derived x(t) against SciPy's "
+            f"{comparison.method.removeprefix('scipy.integrate.')}; the settings are on the independent check's step"
         )
         return self.check(
             f"independent check: {title or name}",
