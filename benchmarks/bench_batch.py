@@ -32,6 +32,10 @@ sys.path.insert(0, str(HERE))
 from run import INPUTS, TEMPLATE, write_cases  # noqa: E402
 
 TARGET_PER_MINUTE = 150.0
+#: The issue's target beside the rate it gave for the earlier calckit ("today about 100"): 150 / 100. The
+#: machine is shared and its speed moves by tens of percent within an hour, so the side-by-side ratio
+#: with the earlier tree in one run is what judges the target; the cases a minute are reported beside it.
+TARGET_RATIO = 1.5
 
 
 def _env(tree: Path) -> dict[str, str]:
@@ -62,15 +66,32 @@ def without_bands(path: Path, into: Path) -> Path:
 
 
 def run_batch(tree: Path, cases: Path, inputs: Path, out: Path) -> dict:
+    """One ``calckit batch`` run: its wall time, and when each case's progress line came (seconds from the start)."""
     # the tree's own template file: a bundled template's name finds the installed calckit's templates folder
     template = tree / "templates" / f"{TEMPLATE}.ipynb"
     cmd = [sys.executable, "-m", "calckit", "batch", str(template), "--cases", str(cases)]
     cmd += ["--inputs", str(inputs), "--out", str(out)]
     start = time.perf_counter()
-    done = subprocess.run(cmd, env=_env(tree), capture_output=True, text=True, cwd=tempfile.gettempdir())
+    done_at, tail = [], []
+    with subprocess.Popen(
+        cmd, env=_env(tree), stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True, cwd=tempfile.gettempdir()
+    ) as run:
+        for line in run.stderr:  # one progress line a case, as it ends (not a terminal: no bar)
+            if line.startswith("["):
+                done_at.append(time.perf_counter() - start)
+            tail = (tail + [line])[-5:]
+        code = run.wait()
     seconds = time.perf_counter() - start
     built = sum(1 for _ in out.glob("*/*.json"))
-    return {"seconds": seconds, "built": built, "code": done.returncode, "tail": done.stderr[-400:]}
+    return {"seconds": seconds, "built": built, "code": code, "tail": "".join(tail)[-400:], "done_at": done_at}
+
+
+def steady_rate(result: dict, workers: int) -> float:
+    """Cases a minute after each worker's first case (its kernel's start and warm-up left out)."""
+    times = result["done_at"]
+    if len(times) <= workers:
+        return float("nan")
+    return 60.0 * (len(times) - workers) / (times[-1] - times[workers - 1])
 
 
 def load() -> str:
@@ -117,6 +138,8 @@ def main() -> None:
         shutil.rmtree(work, ignore_errors=True)
     best = {name: min(r["seconds"] for r in rs) for name, rs in runs.items()}
     per_minute = {name: 60.0 * args.cases / s for name, s in best.items()}
+    workers = min(os.cpu_count() or 1, args.cases)  # the batch's default pool
+    steady = {name: max(steady_rate(r, workers) for r in rs) for name, rs in runs.items()}
     lines = [
         "# The everyday batch: before and after",
         "",
@@ -132,19 +155,35 @@ def main() -> None:
         f"load averages (1/5/15 min) before and after each run: {'; '.join(loads)}. The machine is shared "
         "with other work, so the ratio is the figure to read.",
         "",
-        "| calckit, base inputs | built | wall time | cases per minute |",
-        "| --- | ---: | ---: | ---: |",
+        f"Cases a minute are given over the whole run (from the command to its end: the workers' kernels start "
+        f"and warm up first) and after each of the {workers} workers' first case (from the progress line of "
+        "the last first case to the last line: the rate a longer batch tends to).",
+        "",
+        "| calckit, base inputs | built | wall time | cases per minute, whole run | after the first cases |",
+        "| --- | ---: | ---: | ---: | ---: |",
     ]
     for name, _, _ in RUNS:
         built = min(r["built"] for r in runs[name])
-        lines.append(f"| {name} | {built} | {best[name]:.1f} s | {per_minute[name]:.1f} |")
+        lines.append(
+            f"| {name} | {built} | {best[name]:.1f} s | {per_minute[name]:.1f} | {steady[name]:.1f} |"
+        )
     after, banded = per_minute["after, no bands"], per_minute["after, with bands"]
     ratio = after / per_minute["before, no bands"]
+
+    def said(rate: float) -> str:
+        return f"{rate:.1f} ({'met' if rate >= TARGET_PER_MINUTE else 'not met'})"
+
+    before = per_minute["before, no bands"]
+    banded_ratio = banded / before
     lines += [
         "",
-        f"Ratio after / before, no bands: {ratio:.2f}x. Target: at least {TARGET_PER_MINUTE:g} cases a minute on "
-        f"the 2-core machine: {'met' if after >= TARGET_PER_MINUTE else 'not met'} in this run without bands "
-        f"({after:.1f}); with the bands {banded:.1f} ({'met' if banded >= TARGET_PER_MINUTE else 'not met'}).",
+        f"Target: at least {TARGET_PER_MINUTE:g} cases a minute on the 2-core machine, where the earlier calckit "
+        f"made about 100: {TARGET_RATIO:g}x the earlier tree, judged side by side in this run (whole runs). "
+        f"Without bands {ratio:.2f}x ({'met' if ratio >= TARGET_RATIO else 'not met'}); with the bands, against "
+        f"the earlier tree without them, {banded_ratio:.2f}x ({'met' if banded_ratio >= TARGET_RATIO else 'not met'}). "
+        f"In cases a minute on this machine in this run: without bands, whole run {said(after)}, after the first "
+        f"cases {said(steady['after, no bands'])}; with the bands, whole run {said(banded)}, after the first cases "
+        f"{said(steady['after, with bands'])}.",
         "",
     ]
     text = "\n".join(lines)
