@@ -116,16 +116,16 @@ class PeakComparison:
 
     @property
     def method(self) -> str:
-        """The solver's name and method, without the settings that scale with the case."""
+        """The solver (a ``scipy.integrate`` function) and its method, without the settings that scale with a case."""
         if self.solver == "odeint":
-            return f"scipy.integrate.odeint (LSODA), rtol {self.rtol:g}"
-        return f"scipy.integrate.solve_ivp, method {INTEGRATION_METHOD}, rtol {self.rtol:g}"
+            return f"odeint (LSODA), rtol {self.rtol:g}"
+        return f"solve_ivp, method {INTEGRATION_METHOD}, rtol {self.rtol:g}"
 
     @property
     def procedure(self) -> str:
         """The numerical procedure and its settings, in one line a checker can repeat."""
         return (
-            f"{self.method}, atol {self.atol:.3g}, "
+            f"scipy.integrate.{self.method}, atol {self.atol:.3g}, "
             f"from the same initial state over $0 \\le t \\le {self.duration:g}$ s{self.route}; both routes sampled at "
             f"{self.samples} equally spaced times"
         )
@@ -249,7 +249,6 @@ def integrate_motion(
         inside = (times > left) & ((times < right) | (right == edges[-1]))
         # the piece's own start and end with the sample times inside it: odeint reports at the times it is given
         asked = np.concatenate([[left], times[inside], [] if right == edges[-1] else [right]])
-        asked = np.maximum.accumulate(asked)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # a failure is read from the solver's message below
             y, info = odeint(

@@ -247,7 +247,7 @@ class Steps:
         # independent check's own step, so a moved input does not read as a changed basis
         basis = (
             "two routes to one equation: the derived x(t) against SciPy's "
-            f"{comparison.method.removeprefix('scipy.integrate.')}; the settings are on the independent check's step"
+            f"{comparison.method}; the settings are on the independent check's step"
         )
         return self.check(
             f"independent check: {title or name}",

@@ -345,7 +345,7 @@ def _over_bands(sheet: Any, check: Any, bands: tuple, memo: dict, samples: dict 
     fixed = {s: nominal_all[s] for s in free if s.name[4:] not in by_name}
     if any(v is None for v in fixed.values()):
         return refused(f"the inputs {', '.join(untraced_inputs)} of {check.value_from} have no number")
-    frame = _Frame(symbols, fixed)  # the other inputs stay symbols, their values passed in numbers
+    frame = _Frame(symbols, fixed, _keepable((value_c, limit_c)))  # the other inputs: symbols, numbers passed in
     nominal = [by_name[n].si()[1] for n in names]
     value_f = frame.one(value_c)
     limit_f = frame.one(limit_c)
@@ -412,24 +412,26 @@ def _keepable(exprs: tuple) -> bool:
 
 class _Frame:
     """The arguments of a check's compiled expressions: the inputs with a band, then the other inputs
-    the result depends on (sorted by name), whose nominal values in SI are passed with every call."""
+    the result depends on (sorted by name), whose nominal values in SI are passed with every call.
 
-    def __init__(self, symbols: list, fixed: dict) -> None:
+    *keep*: whether what is made from the check's expressions may be kept between cases
+    (:func:`_keepable` of its value and limit; their margin and derivatives name no other function).
+    """
+
+    def __init__(self, symbols: list, fixed: dict, keep: bool = True) -> None:
         self.symbols = list(symbols)
         extra = sorted(fixed, key=lambda s: s.name)
         self.values = [fixed[s] for s in extra]
         self.args = tuple(self.symbols + extra)
+        self.compile = _lambdified if keep else _lambdified.__wrapped__
+        self.differentiate = _derivatives if keep else _derivatives.__wrapped__
 
     def _function(self, exprs: tuple, many: bool):
-        if _keepable(exprs):
-            return _lambdified(self.args, exprs, many)
-        return _lambdified.__wrapped__(self.args, exprs, many)
+        return self.compile(self.args, exprs, many)
 
     def derivatives(self, expr: sp.Expr) -> tuple:
         """*expr*'s derivative by each input with a band."""
-        return _derivatives(expr, tuple(self.symbols)) if _keepable((expr,)) else _derivatives.__wrapped__(
-            expr, tuple(self.symbols)
-        )
+        return self.differentiate(expr, tuple(self.symbols))
 
     def one(self, expr: sp.Expr):
         """*expr* compiled, a function of the banded inputs returning arrays of the shape of its arguments."""

@@ -355,29 +355,39 @@ def _timed_out(
     return BuildError(what, where=str(template.path), do=do + "; nothing was written")
 
 
-def _prepare_build(
-    path: Path, inputs: str | os.PathLike, out: Path
-) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, Any]]:
-    """The parent's share of a build: read the template and the inputs, check them, look at the output folder.
+def checked_inputs(tmpl: Template, inputs: str | os.PathLike) -> tuple[Any, dict[str, str], dict[str, Any]]:
+    """The inputs file read and checked against *tmpl*: ``(file, wheres, given)``.
 
-    The last of what it gives is what the inputs file adds to its values, as
-    :func:`build_in_kernel`'s keywords: ``sources``, ``units``, ``tolerances``, ``sampling``.
+    *wheres* says where each parameter is written; *given* is what the file adds to its
+    values, as :func:`build_in_kernel`'s keywords: ``sources``, ``units``, ``tolerances``,
+    ``sampling``. A build and the watch read their inputs through it.
     """
     from calckit.workflow.inputs import check_keys, read_inputs
     from calckit.workflow.tolerance_table import check_band_names
 
-    tmpl = load_template(path)
     file = read_inputs(inputs)
     check_keys(file, tmpl.parameters, path=file.path, optional=tmpl.optional_inputs)
     check_band_names(file)
     wheres = {name: file.where(name) for name in tmpl.parameters}
-    held = held_fingerprint(out, tmpl.name)
     given = {
         "sources": dict(file.sources),
         "units": file.units.payload() if file.units.given else None,
         "tolerances": {name: dict(band) for name, band in file.tolerances.items()},
         "sampling": dict(file.sampling) if file.sampling is not None else None,
     }
+    return file, wheres, given
+
+
+def _prepare_build(
+    path: Path, inputs: str | os.PathLike, out: Path
+) -> tuple[Template, dict[str, Any], dict[str, str], str, tuple[bool, str | None], dict[str, Any]]:
+    """The parent's share of a build: read the template and the inputs, check them, look at the output folder.
+
+    The last of what it gives is :func:`checked_inputs`'s *given*.
+    """
+    tmpl = load_template(path)
+    file, wheres, given = checked_inputs(tmpl, inputs)
+    held = held_fingerprint(out, tmpl.name)
     return tmpl, prepared_values(tmpl, file), wheres, file.path.name, held, given
 
 

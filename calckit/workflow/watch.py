@@ -51,6 +51,7 @@ from calckit.workflow.build import (
     BuildResult,
     build_in_kernel,
     check_time_limit,
+    checked_inputs,
     prepared_values,
 )
 from calckit.workflow.held import SHEET_SUFFIXES, check_not_template, check_out_folder, held_fingerprint
@@ -182,18 +183,11 @@ class _Session:
             return await self._build()
 
     async def _build(self) -> BuildResult:
-        from calckit.workflow.inputs import check_keys, read_inputs
-        from calckit.workflow.tolerance_table import check_band_names
-
         started = time.monotonic()
         template = self.template()
-        file = read_inputs(self.inputs)
-        check_keys(file, template.parameters, path=file.path, optional=template.optional_inputs)
-        check_band_names(file)
-        wheres = {name: file.where(name) for name in template.parameters}
+        file, wheres, given = checked_inputs(template, self.inputs)
         values = prepared_values(template, file)
         self.data_files = [Path(values[name]) for name in sorted(template.files & set(values))]
-        units = file.units.payload() if file.units.given else None
         kernel = await self.kernel_ready()
         with FolderLock(self.out):
             held = held_fingerprint(self.out, template.name)
@@ -217,9 +211,7 @@ class _Session:
             result = await build_in_kernel(
                 kernel, template, values, wheres, file.path.name, self.out, held,
                 pdf=self.options["pdf"], overwrite=overwrite, timeout=self.options["timeout"],
-                started=started, sources=dict(file.sources), time_limit=self.options["time_limit"], units=units,
-                tolerances={name: dict(band) for name, band in file.tolerances.items()},
-                sampling=dict(file.sampling) if file.sampling is not None else None,
+                started=started, time_limit=self.options["time_limit"], **given,
             )  # fmt: skip
             self.written = _digests(self.out, template.name)
         return result
